@@ -1,0 +1,217 @@
+"""One check: a request and a formulary in, a `CheckResult` out.
+
+This is the engine's single-case entry point, shared by `osmodose check`, the
+app, verification and the course planner.  It builds a batch of one, runs the
+same column code an audit runs, and turns row 0 into the result model.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from osmodose import __version__
+from osmodose.engine import Cases, Figures, compute
+from osmodose.errors import InputError
+from osmodose.formulary.model import Agent, Formulary
+from osmodose.inputs import CheckRequest
+from osmodose.presentations import fit_presentations
+from osmodose.ranges import PLAUSIBLE
+from osmodose.results import (
+    CheckResult,
+    DoseFigures,
+    Finding,
+    FormularyRef,
+    PatientFigures,
+)
+from osmodose.rules import SEVERITY_NAMES, evaluate
+from osmodose.units import Q_
+
+MANNITOL_NOTE = (
+    "No sodium projection for mannitol: it carries no sodium and stays extracellular "
+    "(early it lowers measured sodium by drawing water from cells, later raises it through "
+    "osmotic diuresis); the osmolar load and the osmolality checks carry its safety."
+)
+PROJECTION_NOTE = (
+    "The projection ignores ongoing losses (urine, osmotic diuresis): real rises can exceed it; "
+    "re-measure sodium every 2-6 h during active therapy."
+)
+HIGH_RISK_NOTE = "High risk of osmotic demyelination ({reason}): the usual limit is 8 mmol/L in 24 h."
+NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
+FILTER_NOTE = "Mannitol 20-25 % crystallises when cold: give it through an in-line filter."
+
+
+def _nan(value: float | None) -> float:
+    return math.nan if value is None else float(value)
+
+
+def _opt(value: float) -> float | None:
+    return None if math.isnan(value) else float(value)
+
+
+def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool) -> Cases:
+    """A batch of one from a request."""
+    p, labs, dose = request.patient, request.labs, request.dose
+
+    def col(value: float | None, unit: str) -> object:
+        return Q_(np.array([_nan(value)]), unit)
+
+    return Cases(
+        weight=col(p.weight_kg, "kg"),
+        age=col(p.age_years, "year"),
+        male=np.array([p.sex == "male"]),
+        height=col(p.height_cm, "cm"),
+        sodium=col(labs.sodium_mmol_l, "mmol/L"),
+        potassium=col(labs.potassium_mmol_l, "mmol/L"),
+        glucose=col(labs.glucose_mmol_l, "mmol/L"),
+        urea=col(labs.urea_mmol_l, "mmol/L"),
+        ethanol=col(labs.ethanol_mmol_l, "mmol/L"),
+        osmolality=col(labs.osmolality_mosm_kg, "mOsm/kg"),
+        agent_index=np.array([agent_index]),
+        dose_unit=np.array([dose.unit if dose else ""]),
+        dose_amount=np.array([dose.amount if dose else math.nan]),
+        dose_per_kg=np.array([bool(dose and dose.per_kg)]),
+        duration_min=np.array([_nan(dose.duration_min if dose else None)]),
+        use_watson=np.array([use_watson]),
+    )
+
+
+def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
+    """Compute every figure and finding for one request; InputError if a dose cannot be had."""
+    agent: Agent | None = None
+    agent_index = -1
+    if request.dose is not None:
+        agent = formulary.agent(request.dose.agent_id)
+        agent_index = formulary.agents.index(agent)
+        _check_dose_fits_agent(request, agent)
+    method = request.tbw_method or formulary.settings.tbw_method
+    if method == "watson" and request.patient.height_cm is None:
+        raise InputError("height", None, "is required for the Watson formula", "a height in cm, or tbw-method fraction")
+    cases = cases_from_request(request, agent_index, method == "watson")
+    figures = compute(cases, formulary.agents, formulary.settings)
+    if agent is not None and request.dose is not None:
+        _check_volume(request, agent, figures)
+    line = np.array([request.line or ""])
+    outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, line)
+    findings = [
+        Finding(
+            code=o.code,
+            severity=SEVERITY_NAMES[int(o.severity[0])],  # type: ignore[arg-type]
+            message=o.message(0),
+            value=_opt(float(o.value[0])),
+            limit=_opt(float(o.limit[0])),
+            unit=o.unit,
+        )
+        for o in outcomes
+        if o.severity[0] > 0
+    ]
+    findings.sort(key=lambda item: item.severity != "refuse")
+    status = "refuse" if any(x.severity == "refuse" for x in findings) else ("warn" if findings else "ok")
+    return CheckResult(
+        status=status,  # type: ignore[arg-type]
+        findings=findings,
+        notes=_notes(request, agent, figures),
+        formulary=FormularyRef(
+            name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
+        ),
+        patient=PatientFigures(
+            weight_kg=request.patient.weight_kg,
+            age_years=request.patient.age_years,
+            sex=request.patient.sex,
+            height_cm=request.patient.height_cm,
+            total_body_water_l=float(figures.tbw_l[0]),
+            tbw_method="watson" if method == "watson" else "fraction",
+        ),
+        labs=request.labs.model_dump(),
+        line=request.line,
+        calculated_osmolality_mosm_kg=_opt(figures.calculated_osmolality[0]),
+        effective_osmolality_mosm_kg=_opt(figures.effective_osmolality[0]),
+        osmolar_gap_mosm_kg=_opt(figures.osmolar_gap[0]),
+        dose=_dose_figures(request, agent, figures),
+        sodium_change_per_litre_mmol_l=_opt(figures.sodium_change_per_litre[0]),
+        projected_sodium_mmol_l=_opt(figures.projected_sodium[0]),
+        projected_sodium_rise_mmol_l=_opt(figures.projected_rise[0]),
+        program_version=__version__,
+    )
+
+
+def _check_dose_fits_agent(request: CheckRequest, agent: Agent) -> None:
+    dose = request.dose
+    assert dose is not None
+    field = "target-rise" if dose.mode == "target-rise" else "dose"
+    if dose.unit == "mmol/L" and not agent.projects_sodium:
+        raise InputError(
+            field, dose.text, f"cannot be used with {agent.id}: osmodose projects no sodium for it", "dose or volume"
+        )
+    if dose.unit == "mmol" and agent.sodium_mmol_l <= 0:
+        raise InputError(field, dose.text, f"is in mmol of sodium, but {agent.id} has no sodium", "g, mL or mOsm")
+    if dose.unit == "g" and agent.solute_g_per_l is None:
+        raise InputError(field, dose.text, f"is in grams, but {agent.id} is a mixed fluid", "mL, mmol or mOsm")
+
+
+def _check_volume(request: CheckRequest, agent: Agent, figures: Figures) -> None:
+    dose = request.dose
+    assert dose is not None
+    volume = float(figures.volume_ml[0])
+    if dose.mode == "target-rise" and math.isnan(volume):
+        cations = agent.cations_mmol_l
+        raise InputError(
+            "target-rise",
+            dose.text,
+            f"cannot be reached with {agent.id}: its sodium + potassium is {cations:g} mmol/L "
+            f"against serum {request.labs.sodium_mmol_l:g} mmol/L",
+            "a change toward the infusate's sodium, smaller than the difference",
+        )
+    bounds = PLAUSIBLE["volume"]
+    if dose.mode != "volume" and not (bounds.low <= volume <= bounds.high):
+        raise InputError(
+            dose.mode,
+            dose.text,
+            f"comes to {volume:.0f} mL of {agent.id}, outside the plausible range",
+            bounds.describe(),
+        )
+
+
+def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures) -> DoseFigures | None:
+    if agent is None or request.dose is None:
+        return None
+    volume = float(figures.volume_ml[0])
+    return DoseFigures(
+        agent=agent.id,
+        agent_label=agent.label,
+        requested=f"{request.dose.mode} {request.dose.text}",
+        volume_ml=volume,
+        solute_g=_opt(figures.solute_g[0]),
+        sodium_mmol=float(figures.sodium_mmol[0]),
+        osmoles_mosm=float(figures.osmoles_mosm[0]),
+        volume_ml_per_kg=float(figures.volume_ml_per_kg[0]),
+        solute_g_per_kg=_opt(figures.solute_g_per_kg[0]),
+        sodium_mmol_per_kg=float(figures.sodium_mmol_per_kg[0]),
+        rate_ml_h=_opt(figures.rate_ml_h[0]),
+        duration_min=request.dose.duration_min,
+        presentations=fit_presentations(volume, agent.presentations_ml),
+    )
+
+
+def _notes(request: CheckRequest, agent: Agent | None, figures: Figures) -> list[str]:
+    notes = []
+    labs = request.labs
+    if labs.glucose_mmol_l is None or labs.urea_mmol_l is None:
+        notes.append(NO_GLUCOSE_UREA_NOTE)
+    if agent is not None:
+        if agent.projects_sodium:
+            notes.append(PROJECTION_NOTE)
+        else:
+            notes.append(MANNITOL_NOTE)
+        if agent.solute == "mannitol":
+            notes.append(FILTER_NOTE)
+        reasons = []
+        if labs.sodium_mmol_l <= 105:
+            reasons.append("sodium 105 mmol/L or below")
+        if labs.potassium_mmol_l is not None and labs.potassium_mmol_l < 3.5:
+            reasons.append("hypokalaemia")
+        rise = figures.projected_rise[0]
+        if reasons and not math.isnan(rise) and rise > 0:
+            notes.append(HIGH_RISK_NOTE.format(reason=", ".join(reasons)))
+    return notes

@@ -1,0 +1,1 @@
+"""The scriptable command line: thin parsers over the core."""

@@ -1,0 +1,21 @@
+"""The --formulary option: the unit's file, or the bundled demo when not given."""
+
+from __future__ import annotations
+
+import argparse
+
+from osmodose.formulary import Formulary, demo_formulary_path, load_formulary
+
+
+def add_formulary_option(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument(
+        "--formulary",
+        metavar="FILE",
+        default=None,
+        help="the unit's formulary TOML file (default: the bundled demo formulary)",
+    )
+
+
+def formulary_from_args(args: argparse.Namespace) -> Formulary:
+    """Load the chosen formulary; a bad file raises FormularyError, never falls back."""
+    return load_formulary(args.formulary or demo_formulary_path())

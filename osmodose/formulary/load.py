@@ -1,0 +1,287 @@
+"""Read a formulary file, validate it whole, and resolve it for the engine.
+
+Every problem in a file is collected in one pass (`read_formulary` returns
+them all) so the validator can list them together; `load_formulary` raises
+them as one `FormularyProblems` whose message names the first.  Each problem
+carries the file, the key path and the line.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from pydantic import ValidationError
+
+from osmodose.chemistry import SOLUTES
+from osmodose.errors import FormularyError, FormularyProblems, InputError
+from osmodose.formulary.file_model import AgentEntry, FormularyFile
+from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS
+from osmodose.formulary.locate import key_lines, line_of
+from osmodose.formulary.model import Agent, DoseLimit, Formulary, Limits
+from osmodose.units import is_per_mass, parse_quantity, ureg
+
+#: An explicit sodium or osmolarity may differ from the one derived from the
+#: concentration by this fraction (label rounding) before the file is rejected.
+COMPOSITION_TOLERANCE = 0.02
+
+_TOML_POSITION = re.compile(r"\(at line (\d+), column \d+\)")
+_DOSE_KINDS = {"[mass]": "g/kg", "[length] ** 3": "mL/kg", "[substance]": "mmol/kg", "[osmotic_amount]": "mOsm/kg"}
+_DOSE_UNITS = {"g/kg": "g/kg", "mL/kg": "mL/kg", "mmol/kg": "mmol/kg", "mOsm/kg": "mOsm/kg"}
+
+
+@dataclass
+class ReadResult:
+    """What reading a file gave: the formulary when it is usable, and every problem."""
+
+    path: Path
+    formulary: Formulary | None
+    problems: list[FormularyError] = field(default_factory=list)
+    data: dict[str, Any] | None = None
+    text: str | None = None
+
+
+class _Collector:
+    """Collects problems with their lines while one file is resolved."""
+
+    def __init__(self, path: Path, text: str) -> None:
+        self.path = path
+        self.lines = key_lines(text)
+        self.problems: list[FormularyError] = []
+
+    def add(self, key_path: str, problem: str) -> None:
+        self.problems.append(FormularyError(self.path, problem, key_path, line_of(self.lines, key_path)))
+
+    def quantity(self, key_path: str, raw: str, default_unit: str, accepted: tuple[str, ...], **kw: Any) -> Any:
+        try:
+            return parse_quantity(key_path, raw, default_unit, accepted, **kw)
+        except InputError as error:
+            detail = f"{raw!r} {error.problem}"
+            if error.accepted:
+                detail += f" (accepted: {error.accepted})"
+            self.add(key_path, detail)
+            return None
+
+
+def read_formulary(path: Path | str) -> ReadResult:
+    """Read, validate and resolve `path`; never raises for a bad file."""
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as error:
+        reason = error.strerror or type(error).__name__
+        return ReadResult(path, None, [FormularyError(path, f"cannot be read: {reason}")])
+    digest = hashlib.sha256(raw).hexdigest()
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        return ReadResult(path, None, [FormularyError(path, "is not UTF-8 text")])
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        message = str(error)
+        match = _TOML_POSITION.search(message)
+        line = int(match.group(1)) if match else None
+        problem = "is not valid TOML: " + _TOML_POSITION.sub("", message).strip()
+        return ReadResult(path, None, [FormularyError(path, problem, None, line)], text=text)
+    collector = _Collector(path, text)
+    try:
+        model = FormularyFile.model_validate(data)
+    except ValidationError as error:
+        for item in error.errors():
+            collector.add(_key_path(item["loc"]), _describe(item))
+        return ReadResult(path, None, collector.problems, data, text)
+    formulary = _resolve(model, digest, path, collector)
+    if collector.problems:
+        return ReadResult(path, None, collector.problems, data, text)
+    return ReadResult(path, formulary, [], data, text)
+
+
+def load_formulary(path: Path | str) -> Formulary:
+    """The resolved formulary at `path`, or `FormularyProblems` naming every problem."""
+    result = read_formulary(path)
+    if result.formulary is None:
+        raise FormularyProblems(result.problems)
+    return result.formulary
+
+
+def _key_path(loc: tuple[int | str, ...]) -> str:
+    parts: list[str] = []
+    for item in loc:
+        if isinstance(item, int):
+            parts[-1] = f"{parts[-1]}[{item + 1}]" if parts else f"[{item + 1}]"
+        else:
+            parts.append(str(item))
+    return ".".join(parts)
+
+
+def _describe(item: Any) -> str:
+    kind = item["type"]
+    if kind == "missing":
+        return "is required but missing"
+    if kind == "extra_forbidden":
+        return "is not a known key"
+    if kind == "literal_error":
+        return f"{item['input']!r} is not one of {item['ctx']['expected']}"
+    return f"{item['msg'].rstrip('.')} (got {item['input']!r})"
+
+
+def _resolve(model: FormularyFile, digest: str, path: Path, out: _Collector) -> Formulary:
+    limits = _resolve_limits(model, out)
+    agents: list[Agent] = []
+    seen: dict[str, int] = {}
+    for index, entry in enumerate(model.agents, start=1):
+        where = f"agents[{index}]"
+        if entry.id in seen:
+            out.add(f"{where}.id", f"{entry.id!r} is already the id of agents[{seen[entry.id]}]")
+        seen.setdefault(entry.id, index)
+        agent = _resolve_agent(entry, where, out)
+        if agent is not None:
+            agents.append(agent)
+    return Formulary(
+        name=model.formulary.name,
+        version=model.formulary.version,
+        sha256=digest,
+        path=str(path),
+        settings=model.settings,
+        limits=limits,
+        agents=tuple(agents),
+    )
+
+
+def _resolve_limits(model: FormularyFile, out: _Collector) -> Limits:
+    values: dict[str, float | None] = {}
+    from_file: set[str] = set()
+    written = model.limits.model_dump()
+    for name, spec in LIMIT_SPECS.items():
+        raw = written[name]
+        if raw is None:
+            values[name] = spec.default
+            continue
+        quantity = out.quantity(f"limits.{name}", raw, spec.unit, spec.accepted)
+        if quantity is None:
+            values[name] = spec.default
+            continue
+        value = float(quantity.to(spec.unit).magnitude)
+        if value < 0:
+            out.add(f"limits.{name}", f"{raw!r} is negative (accepted: a value of 0 or more)")
+        values[name] = value
+        from_file.add(name)
+    for warn, refuse in ORDERED_PAIRS:
+        low, high = values[warn], values[refuse]
+        if low is not None and high is not None and low > high:
+            out.add(f"limits.{warn}", f"{low:g} {LIMIT_SPECS[warn].unit} is above {refuse} ({high:g})")
+    return Limits(values=values, from_file=frozenset(from_file))
+
+
+def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | None:
+    solute = SOLUTES[entry.solute]
+    before = len(out.problems)
+    grams: float | None = None
+    derived_na = derived_osm = None
+    if solute.molar_mass_g_per_mol is None:
+        if entry.concentration is not None:
+            out.add(
+                f"{where}.concentration",
+                "a mixed fluid has no single concentration: give sodium, potassium and osmolarity",
+            )
+        for key in ("sodium", "osmolarity"):
+            if getattr(entry, key) is None:
+                out.add(f"{where}.{key}", "is required for a mixed fluid")
+    elif entry.concentration is None:
+        out.add(f"{where}.concentration", "is required but missing")
+    else:
+        conc = out.quantity(f"{where}.concentration", entry.concentration, "g/L", ("g/L", "mmol/L"), percent_is_wv=True)
+        if conc is not None:
+            if conc.check("[mass]/[volume]"):
+                grams = float(conc.m_as("g/L"))
+            else:
+                grams = float(conc.m_as("mmol/L")) * solute.molar_mass_g_per_mol / 1000.0
+            if grams <= 0:
+                out.add(f"{where}.concentration", f"{entry.concentration!r} is not above zero")
+            moles = grams / solute.molar_mass_g_per_mol * 1000.0  # mmol/L
+            derived_na = moles * solute.sodium_per_mole
+            derived_osm = moles * solute.osmoles_per_mole
+    sodium = _explicit(entry.sodium, f"{where}.sodium", "mmol/L", ("mmol/L",), derived_na, out)
+    potassium = _explicit(entry.potassium, f"{where}.potassium", "mmol/L", ("mmol/L",), None, out)
+    osmolarity = _explicit(entry.osmolarity, f"{where}.osmolarity", "mOsm/L", ("mOsm/L",), derived_osm, out)
+    presentations: list[float] = []
+    for number, raw in enumerate(entry.presentations, start=1):
+        size = out.quantity(f"{where}.presentations[{number}]", raw, "mL", ("mL",))
+        if size is not None:
+            if size.m_as("mL") <= 0:
+                out.add(f"{where}.presentations[{number}]", f"{raw!r} is not above zero")
+            presentations.append(float(size.m_as("mL")))
+    dose_warn = _dose_limit(entry.dose_warn, f"{where}.dose_warn", out)
+    dose_refuse = _dose_limit(entry.dose_refuse, f"{where}.dose_refuse", out)
+    if dose_warn and dose_refuse:
+        if dose_warn.kind != dose_refuse.kind:
+            out.add(f"{where}.dose_refuse", f"is in {dose_refuse.kind} but dose_warn is in {dose_warn.kind}")
+        elif dose_warn.value > dose_refuse.value:
+            out.add(f"{where}.dose_warn", f"{dose_warn.text!r} is above dose_refuse ({dose_refuse.text!r})")
+    max_rate = None
+    if entry.max_rate is not None:
+        rate = out.quantity(f"{where}.max_rate", entry.max_rate, "mL/h", ("mL/h",))
+        max_rate = None if rate is None else float(rate.m_as("mL/h"))
+    if len(out.problems) > before:
+        return None
+    return Agent(
+        id=entry.id,
+        label=entry.label,
+        solute=entry.solute,
+        route=entry.route,
+        concentration_text=entry.concentration,
+        solute_g_per_l=grams,
+        sodium_mmol_l=sodium if sodium is not None else 0.0,
+        potassium_mmol_l=potassium if potassium is not None else 0.0,
+        osmolarity_mosm_l=osmolarity if osmolarity is not None else 0.0,
+        presentations_ml=tuple(presentations),
+        dose_warn=dose_warn,
+        dose_refuse=dose_refuse,
+        max_rate_ml_h=max_rate,
+    )
+
+
+def _explicit(
+    raw: str | None, key: str, unit: str, accepted: tuple[str, ...], derived: float | None, out: _Collector
+) -> float | None:
+    """An explicit composition value, cross-checked against the derived one."""
+    if raw is None:
+        return derived
+    quantity = out.quantity(key, raw, unit, accepted)
+    if quantity is None:
+        return derived
+    value = float(quantity.m_as(unit))
+    if value < 0:
+        out.add(key, f"{raw!r} is negative")
+    if derived is not None:
+        differs = abs(value - derived) > COMPOSITION_TOLERANCE * derived if derived > 0 else value > 0
+        if differs:
+            out.add(
+                key,
+                f"{raw!r} disagrees with the concentration, which gives {derived:.0f} {unit} "
+                f"(more than {COMPOSITION_TOLERANCE:.0%} apart)",
+            )
+    return value
+
+
+def _dose_limit(raw: str | None, key: str, out: _Collector) -> DoseLimit | None:
+    if raw is None:
+        return None
+    quantity = out.quantity(key, raw, "g/kg", ("g/kg", "mL/kg", "mmol/kg", "mOsm/kg"))
+    if quantity is None:
+        return None
+    if not is_per_mass(quantity):
+        out.add(key, f"{raw!r} is not a dose per kg (accepted: g/kg, mL/kg, mmol/kg or mOsm/kg)")
+        return None
+    absolute = (quantity * ureg.kilogram).to_reduced_units()
+    kind = _DOSE_KINDS.get(str(absolute.dimensionality))
+    if kind is None:
+        out.add(key, f"{raw!r} is in the wrong unit (accepted: g/kg, mL/kg, mmol/kg or mOsm/kg)")
+        return None
+    value = float(quantity.m_as(_DOSE_UNITS[kind]))
+    return DoseLimit(value=value, kind=kind, text=raw)

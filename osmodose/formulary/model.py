@@ -1,0 +1,105 @@
+"""The formulary after loading: every string turned into a canonical number.
+
+Canonical units: concentrations mmol/L, g/L and mOsm/L; volumes mL; rates
+mL/h.  A resolved formulary is what the engine and the rules read; the file
+model (`file_model`) is what the unit writes.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import BaseModel, ConfigDict
+
+from osmodose.chemistry import SOLUTES, SoluteName
+from osmodose.errors import InputError
+from osmodose.formulary.file_model import SettingsTable
+from osmodose.formulary.limits import LIMIT_SPECS
+
+_FROZEN = ConfigDict(frozen=True)
+
+DoseKind = Literal["g/kg", "mL/kg", "mmol/kg", "mOsm/kg"]
+
+
+class DoseLimit(BaseModel):
+    """A per-kg dose limit: its value, what it measures and how the file wrote it."""
+
+    model_config = _FROZEN
+
+    value: float
+    kind: DoseKind
+    text: str
+
+
+class Agent(BaseModel):
+    """One stock solution with its derived composition."""
+
+    model_config = _FROZEN
+
+    id: str
+    label: str
+    solute: SoluteName
+    route: Literal["central", "peripheral"]
+    concentration_text: str | None
+    solute_g_per_l: float | None
+    sodium_mmol_l: float
+    potassium_mmol_l: float
+    osmolarity_mosm_l: float
+    presentations_ml: tuple[float, ...] = ()
+    dose_warn: DoseLimit | None = None
+    dose_refuse: DoseLimit | None = None
+    max_rate_ml_h: float | None = None
+
+    @property
+    def cations_mmol_l(self) -> float:
+        """Na + K of the infusate, the numerator of the Adrogue-Madias formula."""
+        return self.sodium_mmol_l + self.potassium_mmol_l
+
+    @property
+    def projects_sodium(self) -> bool:
+        """Whether the sodium projection applies (not for mannitol)."""
+        return SOLUTES[self.solute].projects_sodium
+
+
+class Limits(BaseModel):
+    """Limits in force: canonical values and which came from the file."""
+
+    model_config = _FROZEN
+
+    values: dict[str, float | None]
+    from_file: frozenset[str] = frozenset()
+
+    def get(self, name: str) -> float | None:
+        return self.values[name]
+
+    def source(self, name: str) -> str:
+        """Where the value in force comes from, for reports and `formulary show`."""
+        if name in self.from_file:
+            return "formulary file"
+        return "default: " + LIMIT_SPECS[name].source
+
+    @classmethod
+    def defaults(cls) -> Limits:
+        return cls(values={name: spec.default for name, spec in LIMIT_SPECS.items()})
+
+
+class Formulary(BaseModel):
+    """A loaded, validated formulary; `sha256` is of the file's bytes."""
+
+    model_config = _FROZEN
+
+    name: str
+    version: str
+    sha256: str
+    path: str
+    settings: SettingsTable
+    limits: Limits
+    agents: tuple[Agent, ...]
+
+    def agent(self, agent_id: str, field: str = "agent") -> Agent:
+        """The agent with this id, or an InputError listing the known ids."""
+        for agent in self.agents:
+            if agent.id == agent_id:
+                return agent
+        known = ", ".join(a.id for a in self.agents)
+        raise InputError(field, agent_id, "is not an agent of this formulary", f"one of: {known}")

@@ -1,0 +1,229 @@
+"""Safety rules: each turns figures and limits into a warn/refuse column.
+
+Rules run on whole columns (a check is a batch of one), so an audit row and a
+single check get the same findings.  Severity codes: 0 none, 1 warn, 2 refuse;
+a figure that could not be computed (NaN) never raises a finding, because the
+absence of a figure is shown as such, not as a pass or a fail.  Messages are
+built here only, from the rule's template.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from osmodose.engine import Cases, Figures
+from osmodose.formulary.model import Agent, Limits
+
+NONE, WARN, REFUSE = 0, 1, 2
+SEVERITY_NAMES = {WARN: "warn", REFUSE: "refuse"}
+
+
+@dataclass(frozen=True)
+class RuleOutcome:
+    """One rule over all cases: severity, the value judged and the limit crossed."""
+
+    code: str
+    severity: np.ndarray
+    value: np.ndarray
+    limit: np.ndarray
+    unit: str
+    describe: Callable[[float, float, str], str]
+
+    def message(self, row: int) -> str:
+        sev = SEVERITY_NAMES[int(self.severity[row])]
+        return self.describe(float(self.value[row]), float(self.limit[row]), sev)
+
+
+def _num(value: float | None) -> float:
+    return np.nan if value is None else float(value)
+
+
+def _threshold(value: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
+    """2 above refuse, 1 above warn, else 0; NaN values and limits give 0."""
+    with np.errstate(invalid="ignore"):
+        refused = np.nan_to_num(value > refuse, nan=False)
+        warned = np.nan_to_num(value > warn, nan=False)
+    return np.where(refused, REFUSE, np.where(warned, WARN, NONE)).astype(np.int8)
+
+
+def _limit_of(severity: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
+    return np.where(severity == REFUSE, refuse, warn).astype(float)
+
+
+def _above(what: str, unit: str) -> Callable[[float, float, str], str]:
+    def describe(value: float, limit: float, severity: str) -> str:
+        return f"{what} {value:.1f} {unit} is above the {severity} limit of {limit:g} {unit}"
+
+    return describe
+
+
+def _threshold_rule(
+    code: str,
+    what: str,
+    unit: str,
+    value: np.ndarray,
+    warn: np.ndarray | float,
+    refuse: np.ndarray | float,
+    applies: np.ndarray,
+) -> RuleOutcome:
+    severity = np.where(applies, _threshold(value, warn, refuse), NONE).astype(np.int8)
+    return RuleOutcome(code, severity, value, _limit_of(severity, warn, refuse), unit, _above(what, unit))
+
+
+def _agent_column(agents: Sequence[Agent], index: np.ndarray, pick: Callable[[Agent], float | None]) -> np.ndarray:
+    table = np.asarray([_num(pick(a)) for a in agents] + [np.nan], dtype=float)
+    return table[np.where(index >= 0, index, len(agents))]
+
+
+_DOSE_FIGURE = {
+    "g/kg": ("solute_g_per_kg", "dose"),
+    "mL/kg": ("volume_ml_per_kg", "volume"),
+    "mmol/kg": ("sodium_mmol_per_kg", "sodium dose"),
+    "mOsm/kg": ("osmoles_mosm_per_kg", "osmolar dose"),
+}
+
+
+def evaluate(
+    cases: Cases, figures: Figures, agents: Sequence[Agent], limits: Limits, line: np.ndarray
+) -> list[RuleOutcome]:
+    """Every rule over every case; `line` holds "", "central" or "peripheral" per case."""
+    index = cases.agent_index
+    has_agent = index >= 0
+    sodium = cases.sodium.m_as("mmol/L")
+    rise = figures.projected_rise
+    # Fluids that lower sodium (5 % glucose in hypernatraemia) are what a high
+    # sodium calls for: the ceilings judge orders that raise sodium or osmolality.
+    not_lowering = ~np.nan_to_num(rise < 0, nan=False)
+    measured = cases.osmolality.m_as("mOsm/kg")
+    osmolality = np.where(np.isnan(measured), figures.calculated_osmolality, measured)
+    is_mannitol = np.asarray([a.solute == "mannitol" for a in agents] + [False])[
+        np.where(has_agent, index, len(agents))
+    ]
+    outcomes = [
+        _threshold_rule(
+            "sodium-high",
+            "serum sodium",
+            "mmol/L",
+            sodium,
+            _num(limits.get("sodium_warn")),
+            _num(limits.get("sodium_refuse")),
+            not_lowering,
+        ),
+        _threshold_rule(
+            "projected-sodium-high",
+            "projected sodium",
+            "mmol/L",
+            figures.projected_sodium,
+            _num(limits.get("sodium_warn")),
+            _num(limits.get("sodium_refuse")),
+            has_agent,
+        ),
+        _threshold_rule(
+            "osmolality-high",
+            "serum osmolality",
+            "mOsm/kg",
+            osmolality,
+            _num(limits.get("osmolality_warn")),
+            _num(limits.get("osmolality_refuse")),
+            not_lowering,
+        ),
+        _threshold_rule(
+            "osmolar-gap-high",
+            "osmolar gap",
+            "mOsm/kg",
+            figures.osmolar_gap,
+            _num(limits.get("osmolar_gap_warn")),
+            np.inf,
+            is_mannitol,
+        ),
+        _threshold_rule(
+            "sodium-rise-24h",
+            "projected sodium rise",
+            "mmol/L",
+            rise,
+            _num(limits.get("sodium_rise_24h_warn")),
+            _num(limits.get("sodium_rise_24h_refuse")),
+            has_agent,
+        ),
+        _threshold_rule(
+            "sodium-fall-24h",
+            "projected sodium fall",
+            "mmol/L",
+            -rise,
+            _num(limits.get("sodium_fall_24h_warn")),
+            np.inf,
+            has_agent,
+        ),
+    ]
+    outcomes.extend(_dose_rules(figures, agents, index))
+    outcomes.append(_max_rate_rule(figures, agents, index))
+    outcomes.extend(_line_rules(agents, index, line, limits))
+    return outcomes
+
+
+def _dose_rules(figures: Figures, agents: Sequence[Agent], index: np.ndarray) -> list[RuleOutcome]:
+    """Per-kg dose against the agent's own limits, in whichever unit the limit is written."""
+    outcomes = []
+    for kind, (attribute, what) in _DOSE_FIGURE.items():
+        warn = _agent_column(
+            agents, index, lambda a, k=kind: a.dose_warn.value if a.dose_warn and a.dose_warn.kind == k else None
+        )
+        refuse = _agent_column(
+            agents, index, lambda a, k=kind: a.dose_refuse.value if a.dose_refuse and a.dose_refuse.kind == k else None
+        )
+        if np.all(np.isnan(warn)) and np.all(np.isnan(refuse)):
+            continue
+        value = getattr(figures, attribute)
+        warn = np.where(np.isnan(warn), np.inf, warn)
+        refuse = np.where(np.isnan(refuse), np.inf, refuse)
+        severity = _threshold(value, warn, refuse)
+        outcomes.append(
+            RuleOutcome(
+                "dose-per-kg", severity, value, _limit_of(severity, warn, refuse), kind, _dose_describe(what, kind)
+            )
+        )
+    return outcomes
+
+
+def _dose_describe(what: str, unit: str) -> Callable[[float, float, str], str]:
+    def describe(value: float, limit: float, severity: str) -> str:
+        return f"{what} {value:.2f} {unit} is above the agent's {severity} limit of {limit:g} {unit}"
+
+    return describe
+
+
+def _max_rate_rule(figures: Figures, agents: Sequence[Agent], index: np.ndarray) -> RuleOutcome:
+    limit = _agent_column(agents, index, lambda a: a.max_rate_ml_h)
+    severity = _threshold(figures.rate_ml_h, np.inf, limit)
+
+    def describe(value: float, maximum: float, _severity: str) -> str:
+        return f"rate {value:.0f} mL/h is faster than the agent's maximum of {maximum:g} mL/h"
+
+    return RuleOutcome("rate-too-fast", severity, figures.rate_ml_h, limit, "mL/h", describe)
+
+
+def _line_rules(agents: Sequence[Agent], index: np.ndarray, line: np.ndarray, limits: Limits) -> list[RuleOutcome]:
+    peripheral = line == "peripheral"
+    central_only = _agent_column(agents, index, lambda a: 1.0 if a.route == "central" else 0.0) == 1.0
+    refused = np.where(peripheral & central_only, REFUSE, NONE).astype(np.int8)
+    osmolarity = _agent_column(agents, index, lambda a: a.osmolarity_mosm_l)
+    warn = _num(limits.get("peripheral_osmolarity_warn"))
+    warned = np.where(peripheral & ~central_only, _threshold(osmolarity, warn, np.inf), NONE).astype(np.int8)
+
+    def central(value: float, _limit: float, _severity: str) -> str:
+        return f"this agent ({value:.0f} mOsm/L) is for a central line only and is ordered peripheral"
+
+    return [
+        RuleOutcome("central-line-only", refused, osmolarity, np.full(np.shape(osmolarity), np.nan), "mOsm/L", central),
+        RuleOutcome(
+            "peripheral-osmolarity",
+            warned,
+            osmolarity,
+            np.full(np.shape(osmolarity), warn),
+            "mOsm/L",
+            _above("infusate osmolarity on a peripheral line", "mOsm/L"),
+        ),
+    ]

@@ -1,0 +1,36 @@
+"""Shared fixtures: the demo formulary, and running the command line as a user does."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from osmodose.formulary import Formulary, demo_formulary_path, load_formulary
+
+REPO_ROOT = Path(__file__).resolve().parent.parent
+
+
+@pytest.fixture(scope="session")
+def demo() -> Formulary:
+    """The bundled demo formulary (an invented unit)."""
+    return load_formulary(demo_formulary_path())
+
+
+def run_cli(*args: str, input_text: str | None = None, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
+    """Run `python -m osmodose ARGS` in a subprocess, as a user would, from this source tree."""
+    env = dict(os.environ)
+    env["PYTHONPATH"] = str(REPO_ROOT) + os.pathsep + env.get("PYTHONPATH", "")
+    return subprocess.run(
+        [sys.executable, "-m", "osmodose", *args],
+        capture_output=True,
+        text=True,
+        input=input_text,
+        cwd=cwd or REPO_ROOT,
+        env=env,
+        timeout=120,
+        check=False,
+    )
