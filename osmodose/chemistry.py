@@ -1,7 +1,7 @@
 """Molar masses and the solutes osmodose knows, in one table each.
 
 Molar masses are computed from IUPAC/CIAAW conventional atomic weights and
-rounded to two decimals, as printed in the domain reference.  A solute's
+rounded to two decimals.  A solute's
 `osmoles_per_mole` assumes full dissociation (the theoretical osmolarity
 printed on product labels); measured osmolality is lower (NaCl osmotic
 coefficient about 0.93), which osmodose does not model.

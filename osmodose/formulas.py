@@ -4,8 +4,7 @@ Each function takes pint quantities whose magnitudes may be floats or numpy
 arrays (one audit column per argument) and returns a quantity of the same
 shape.  Inputs are converted to the unit the published formula is written in
 with `m_as`, so a value in the wrong dimension fails loudly instead of
-producing a number.  Sources are in the domain reference; section numbers are
-given beside each function.
+producing a number.  Each function names its published source.
 """
 
 from __future__ import annotations
@@ -66,7 +65,7 @@ def tbw_fraction(
 
 
 def tbw_from_fraction(weight: Quantity, fraction: ArrayLike) -> Quantity:
-    """Total body water in litres from weight and a water fraction (section 1)."""
+    """Total body water in litres from weight and a water fraction (Adrogue HJ, Madias NE. N Engl J Med 2000)."""
     return _out(_arr(weight.m_as("kg")) * _arr(fraction) / KG_PER_LITRE, "L")
 
 
@@ -91,7 +90,7 @@ def calculated_osmolality(
     ethanol: Quantity | None = None,
     ethanol_factor: float = ETHANOL_FACTOR_MOLAR,
 ) -> Quantity:
-    """2 Na + glucose + urea (+ factor x ethanol), all in mmol/L (section 2).
+    """2 Na + glucose + urea (+ factor x ethanol), all in mmol/L (McMaster Textbook of Internal Medicine).
 
     Conventional-unit labs (glucose/18, BUN/2.8, ethanol/4.6, all mg/dL) give
     the same figure once converted with the molar masses: the divisors are
@@ -106,18 +105,18 @@ def calculated_osmolality(
 
 
 def effective_osmolality(sodium: Quantity, glucose: Quantity) -> Quantity:
-    """Tonicity, 2 Na + glucose: urea and ethanol cross cell membranes (section 2)."""
+    """Tonicity, 2 Na + glucose: urea and ethanol cross cell membranes (standard physiology)."""
     total = SODIUM_OSMOLES_PER_MOLE * _arr(sodium.m_as("mmol/L")) + _arr(glucose.m_as("mmol/L"))
     return _out(total * KG_PER_LITRE, "mOsm/kg")
 
 
 def osmolar_gap(measured: Quantity, calculated: Quantity) -> Quantity:
-    """Measured minus calculated osmolality (section 2)."""
+    """Measured minus calculated osmolality."""
     return _out(_arr(measured.m_as("mOsm/kg")) - _arr(calculated.m_as("mOsm/kg")), "mOsm/kg")
 
 
 def projected_sodium(serum_sodium: Quantity, infusate_cations: Quantity, tbw: Quantity, volume: Quantity) -> Quantity:
-    """Serum sodium after infusing `volume`, by mass balance (section 3).
+    """Serum sodium after infusing `volume`, by mass balance.
 
     Na_new = Na + V (Na_inf + K_inf - Na) / (TBW + V): Chen S et al. Kidney360
     2021; at V = 1 L this is the Adrogue-Madias change per litre.  Ongoing
@@ -131,7 +130,7 @@ def projected_sodium(serum_sodium: Quantity, infusate_cations: Quantity, tbw: Qu
 
 
 def sodium_change_per_litre(serum_sodium: Quantity, infusate_cations: Quantity, tbw: Quantity) -> Quantity:
-    """Adrogue-Madias: (Na_inf + K_inf - Na) / (TBW + 1) for one litre (section 3)."""
+    """Adrogue-Madias: (Na_inf + K_inf - Na) / (TBW + 1) for one litre (N Engl J Med 2000;342:1581-9)."""
     one_litre = Q_(1.0, "L")
     new = projected_sodium(serum_sodium, infusate_cations, tbw, one_litre)
     return new - serum_sodium.to("mmol/L")

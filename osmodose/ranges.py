@@ -1,8 +1,7 @@
 """Plausibility ranges: a value outside is a typing error and is rejected.
 
 Chosen to catch a slipped decimal point or a value in the wrong field, not to
-judge the patient (domain reference section 7, common practice, no single
-source).  Clinical limits live in the formulary, not here.
+judge the patient (common practice, no single source).  Clinical limits live in the formulary, not here.
 """
 
 from __future__ import annotations

@@ -9,9 +9,23 @@ from tests.conftest import run_cli
 
 def test_check_json_for_one_litre_of_three_percent_saline() -> None:
     # 70 kg man, TBW 0.6 x 70 = 42 L, Na 110, 1 L of 3 % saline (513 mmol/L):
-    # (513 - 110) / (42 + 1) = +9.37 mmol/L (Adrogue-Madias, N Engl J Med 2000; domain reference 3).
-    done = run_cli("check", "--weight", "70", "--age", "40", "--sex", "male", "--sodium", "110",
-                   "--agent", "nacl-3", "--volume", "1 L", "--json")
+    # (513 - 110) / (42 + 1) = +9.37 mmol/L (Adrogue HJ, Madias NE. N Engl J Med 2000;342:1581-9).
+    done = run_cli(
+        "check",
+        "--weight",
+        "70",
+        "--age",
+        "40",
+        "--sex",
+        "male",
+        "--sodium",
+        "110",
+        "--agent",
+        "nacl-3",
+        "--volume",
+        "1 L",
+        "--json",
+    )
     assert done.returncode in (0, 3, 4), done.stderr
     result = json.loads(done.stdout)
     assert round(result["projected_sodium_rise_mmol_l"], 2) == 9.37
