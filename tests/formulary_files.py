@@ -32,6 +32,9 @@ BASE_LINES = (
     'max_rate = "500 mL/h"',  # 20
 )
 
+#: Replacements that leave out the agent's label sodium and osmolarity (lines 16 and 17).
+NO_COMPOSITION_LINES = {16: "", 17: ""}
+
 #: A second agent to append (starts on line 22 when appended after a blank line).
 SECOND_AGENT = """
 [[agents]]

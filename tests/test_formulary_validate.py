@@ -413,3 +413,20 @@ def test_formulary_without_an_action_is_a_usage_error(capsys: pytest.CaptureFixt
     assert capsys.readouterr().err == (
         "osmodose formulary: the following arguments are required: ACTION (see osmodose formulary --help)\n"
     )
+
+
+@pytest.mark.parametrize(
+    "label",
+    [
+        "Sodium chloride 3 % 250 mL",
+        "Sodium chloride 3,0 % 250 mL",  # decimal comma
+        "Glucose 5 % and sodium chloride 3 %",  # one of several percentages matches
+        "Hypertonic saline 250 mL",  # no percentage: nothing to compare
+    ],
+)
+def test_a_label_that_agrees_with_the_concentration_gives_no_warning(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], label: str
+) -> None:
+    path = write(tmp_path, edited({11: f'label = "{label}"'}))
+    code, lines, _ = validate(capsys, str(path))
+    assert (code, len(lines)) == (0, 1)

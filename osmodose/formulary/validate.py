@@ -18,8 +18,8 @@ from osmodose.formulary.load import COMPOSITION_TOLERANCE, ReadResult, read_form
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, Limits
 
-#: A percentage written in a label: "Sodium chloride 23.4 % 30 mL".
-_LABEL_PERCENT = re.compile(r"(\d+(?:\.\d+)?)\s*%")
+#: A percentage written in a label: "Sodium chloride 23.4 % 30 mL" (or "0,9 %" with a decimal comma).
+_LABEL_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*%")
 
 
 @dataclass(frozen=True)
@@ -121,7 +121,7 @@ def label_problem(agent: Agent) -> str | None:
     """
     if agent.solute_g_per_l is None:
         return None
-    written = [float(number) for number in _LABEL_PERCENT.findall(agent.label)]
+    written = [float(number.replace(",", ".")) for number in _LABEL_PERCENT.findall(agent.label)]
     percent = agent.solute_g_per_l / 10.0
     if not written or any(abs(value - percent) <= COMPOSITION_TOLERANCE * percent for value in written):
         return None
