@@ -46,3 +46,10 @@ def test_a_sodium_chloride_strength_loads_exactly_when_it_is_in_the_range(percen
     with tempfile.TemporaryDirectory() as folder:
         verdict = validate_formulary(_file(Path(folder), "c.toml", f"{percent!r}% w/v"))
     assert verdict.valid == NACL.contains(percent)
+
+
+def test_every_solute_with_a_molar_mass_has_a_plausible_strength() -> None:
+    from osmodose.chemistry import SOLUTES
+
+    with_mass = {name for name, solute in SOLUTES.items() if solute.molar_mass_g_per_mol is not None}
+    assert set(SOLUTE_STRENGTH) == with_mass
