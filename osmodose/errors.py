@@ -40,6 +40,16 @@ class InputError(OsmodoseError):
         super().__init__(text)
 
 
+def formulary_location(path: Path, key_path: str | None, line: int | None) -> str:
+    """`FILE:LINE: key.path`, leaving out what is not known."""
+    where = str(path)
+    if line is not None:
+        where += f":{line}"
+    if key_path:
+        where += f": {key_path}"
+    return where
+
+
 class FormularyError(OsmodoseError):
     """The unit's formulary file cannot be used.
 
@@ -58,12 +68,12 @@ class FormularyError(OsmodoseError):
         self.problem = problem
         self.key_path = key_path
         self.line = line
-        where = str(self.path)
-        if line is not None:
-            where += f":{line}"
-        if key_path:
-            where += f": {key_path}"
-        super().__init__(f"formulary {where}: {problem}")
+        self.where = formulary_location(self.path, key_path, line)
+        super().__init__(f"formulary {self.where}: {problem}")
+
+    def located(self) -> str:
+        """`FILE:LINE: key.path: problem`, the compiler-style line `formulary validate` prints."""
+        return f"{self.where}: {self.problem}"
 
 
 class FormularyProblems(FormularyError):
@@ -81,3 +91,28 @@ class FormularyProblems(FormularyError):
         extra = len(problems) - 1
         problem = first.problem + (f" (and {extra} more problem{'s' if extra > 1 else ''})" if extra else "")
         super().__init__(first.path, problem, first.key_path, first.line)
+
+
+class FormularyWarning:
+    """Something in a formulary file worth a second look that does not stop it being used.
+
+    Never raised: `formulary validate` lists warnings after the errors and
+    still exits 0 when there are only warnings.  Same fields as FormularyError
+    so both print the same way.
+    """
+
+    def __init__(self, path: Path | str, problem: str, key_path: str | None = None, line: int | None = None) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        self.key_path = key_path
+        self.line = line
+        self.where = formulary_location(self.path, key_path, line)
+
+    def located(self) -> str:
+        return f"{self.where}: warning: {self.problem}"
+
+    def __str__(self) -> str:
+        return f"formulary {self.located()}"
+
+    def __repr__(self) -> str:
+        return f"FormularyWarning({self.located()!r})"

@@ -51,3 +51,54 @@ def check_plausible(field: str, value: float, shown: object, range_key: str | No
     if not (limits.low <= value <= limits.high):
         raise InputError(field, shown, "is outside the plausible range", limits.describe())
     return value
+
+
+@dataclass(frozen=True)
+class StrengthRange:
+    """The stock strengths of one solute that can be real, in % w/v (g per 100 mL).
+
+    Outside it a formulary concentration is a typing error (a slipped decimal
+    point, g/L typed as %), not a product.  Each range is wider than the stock
+    on sale and stops short of what cannot be made; `source` says why.
+    Values are compared at 0.01 % w/v, the precision labels print, so "1000
+    mmol/L" of sodium bicarbonate (8.401 %) is the 8.4 % label.
+    """
+
+    low: float
+    high: float
+    source: str
+
+    def contains(self, percent_wv: float) -> bool:
+        return self.low <= round(percent_wv, 2) <= self.high
+
+    def describe(self) -> str:
+        return f"{self.low:g} to {self.high:g} % w/v"
+
+
+#: Keyed by the solute names of `chemistry.SoluteName` ("mixed" has no single strength).
+SOLUTE_STRENGTH: dict[str, StrengthRange] = {
+    "sodium chloride": StrengthRange(
+        0.1,
+        30.0,
+        "weakest stock 0.18 % (in glucose 4 %), strongest common vial 23.4 % (product labels, from memory); "
+        "saturated sodium chloride is about 31.7 % w/v (36 g per 100 g water at 25 C, CRC Handbook, from memory)",
+    ),
+    "sodium bicarbonate": StrengthRange(
+        1.0,
+        8.4,
+        "stocks run from 1.26 % (isotonic, 150 mmol/L) to 8.4 % (1 mmol/mL) (product labels, from memory); "
+        "8.4 % is close to saturation (about 9.6 g per 100 mL water at 20 C, from memory)",
+    ),
+    "mannitol": StrengthRange(
+        5.0,
+        25.0,
+        "stocks are 5, 10, 15, 20 and 25 % (product labels, from memory); 25 % is already supersaturated "
+        "at room temperature and crystallises, so nothing stronger is made",
+    ),
+    "glucose": StrengthRange(
+        2.5,
+        70.0,
+        "stocks run from 2.5 % (with saline) to 70 % (for parenteral nutrition compounding) "
+        "(product labels, from memory)",
+    ),
+}

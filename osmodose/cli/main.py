@@ -11,15 +11,16 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 from collections.abc import Sequence
 from typing import NoReturn
 
 from osmodose import __version__
-from osmodose.cli.exit_codes import BAD_INPUT
+from osmodose.cli.exit_codes import BAD_INPUT, BROKEN_PIPE
 from osmodose.errors import OsmodoseError
 
-SUBCOMMANDS: tuple[str, ...] = ("osmodose.cli.check_cmd",)
+SUBCOMMANDS: tuple[str, ...] = ("osmodose.cli.check_cmd", "osmodose.cli.formulary_cmd")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -64,6 +65,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         sys.stderr.write("osmodose: interrupted\n")
         return 130
+    except BrokenPipeError:
+        # The reader stopped early (`osmodose formulary show | head`): not an error to
+        # report, and Python must not complain again when it flushes stdout at exit.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return BROKEN_PIPE
 
 
 def _run_app(args: argparse.Namespace) -> int:

@@ -139,3 +139,8 @@ ORDERED_PAIRS: tuple[tuple[str, str], ...] = (
     ("osmolality_warn", "osmolality_refuse"),
     ("sodium_rise_24h_warn", "sodium_rise_24h_refuse"),
 )
+
+
+def display_unit(unit: str) -> str:
+    """A canonical unit as people write it ("percent" is "%")."""
+    return "%" if unit == "percent" else unit

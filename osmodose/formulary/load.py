@@ -19,10 +19,12 @@ from pydantic import ValidationError
 
 from osmodose.chemistry import SOLUTES
 from osmodose.errors import FormularyError, FormularyProblems, InputError
-from osmodose.formulary.file_model import AgentEntry, FormularyFile
+from osmodose.formulary.file_errors import describe, key_path, salvage
+from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseLimit, Formulary, Limits
+from osmodose.ranges import SOLUTE_STRENGTH
 from osmodose.units import is_per_mass, parse_quantity, ureg
 
 #: An explicit sodium or osmolarity may differ from the one derived from the
@@ -36,13 +38,22 @@ _DOSE_UNITS = {"g/kg": "g/kg", "mL/kg": "mL/kg", "mmol/kg": "mmol/kg", "mOsm/kg"
 
 @dataclass
 class ReadResult:
-    """What reading a file gave: the formulary when it is usable, and every problem."""
+    """What reading a file gave: the formulary when it is usable, and every problem.
+
+    `limits` and `agents` hold what could be resolved even when the file as a
+    whole cannot be used (each agent with its 1-based place in the file), so
+    the validator can still judge those parts; `readable` is False only when
+    the file could not be opened at all.
+    """
 
     path: Path
     formulary: Formulary | None
     problems: list[FormularyError] = field(default_factory=list)
     data: dict[str, Any] | None = None
     text: str | None = None
+    limits: Limits | None = None
+    agents: tuple[tuple[int, Agent], ...] = ()
+    readable: bool = True
 
 
 class _Collector:
@@ -74,7 +85,7 @@ def read_formulary(path: Path | str) -> ReadResult:
         raw = path.read_bytes()
     except OSError as error:
         reason = error.strerror or type(error).__name__
-        return ReadResult(path, None, [FormularyError(path, f"cannot be read: {reason}")])
+        return ReadResult(path, None, [FormularyError(path, f"cannot be read: {reason}")], readable=False)
     digest = hashlib.sha256(raw).hexdigest()
     try:
         text = raw.decode("utf-8")
@@ -89,16 +100,34 @@ def read_formulary(path: Path | str) -> ReadResult:
         problem = "is not valid TOML: " + _TOML_POSITION.sub("", message).strip()
         return ReadResult(path, None, [FormularyError(path, problem, None, line)], text=text)
     collector = _Collector(path, text)
+    model: FormularyFile | None = None
     try:
         model = FormularyFile.model_validate(data)
     except ValidationError as error:
-        for item in error.errors():
-            collector.add(_key_path(item["loc"]), _describe(item))
-        return ReadResult(path, None, collector.problems, data, text)
-    formulary = _resolve(model, digest, path, collector)
-    if collector.problems:
-        return ReadResult(path, None, collector.problems, data, text)
-    return ReadResult(path, formulary, [], data, text)
+        items = error.errors()
+        for item in items:
+            collector.add(key_path(item["loc"]), describe(item))
+        limits_table, entries = salvage(data, [item["loc"] for item in items])
+    else:
+        limits_table, entries = model.limits, list(enumerate(model.agents, start=1))
+    first = len(collector.problems)
+    reported = {problem.key_path for problem in collector.problems}
+    limits = _resolve_limits(limits_table, collector)
+    agents = _resolve_agents(entries, collector)
+    # A key that salvage left out is not reported a second time (as missing).
+    collector.problems[first:] = [p for p in collector.problems[first:] if p.key_path not in reported]
+    if model is None or collector.problems:
+        return ReadResult(path, None, collector.problems, data, text, limits, agents)
+    formulary = Formulary(
+        name=model.formulary.name,
+        version=model.formulary.version,
+        sha256=digest,
+        path=str(path),
+        settings=model.settings,
+        limits=limits,
+        agents=tuple(agent for _, agent in agents),
+    )
+    return ReadResult(path, formulary, [], data, text, limits, agents)
 
 
 def load_formulary(path: Path | str) -> Formulary:
@@ -109,54 +138,24 @@ def load_formulary(path: Path | str) -> Formulary:
     return result.formulary
 
 
-def _key_path(loc: tuple[int | str, ...]) -> str:
-    parts: list[str] = []
-    for item in loc:
-        if isinstance(item, int):
-            parts[-1] = f"{parts[-1]}[{item + 1}]" if parts else f"[{item + 1}]"
-        else:
-            parts.append(str(item))
-    return ".".join(parts)
-
-
-def _describe(item: Any) -> str:
-    kind = item["type"]
-    if kind == "missing":
-        return "is required but missing"
-    if kind == "extra_forbidden":
-        return "is not a known key"
-    if kind == "literal_error":
-        return f"{item['input']!r} is not one of {item['ctx']['expected']}"
-    return f"{item['msg'].rstrip('.')} (got {item['input']!r})"
-
-
-def _resolve(model: FormularyFile, digest: str, path: Path, out: _Collector) -> Formulary:
-    limits = _resolve_limits(model, out)
-    agents: list[Agent] = []
+def _resolve_agents(entries: list[tuple[int, AgentEntry]], out: _Collector) -> tuple[tuple[int, Agent], ...]:
+    agents: list[tuple[int, Agent]] = []
     seen: dict[str, int] = {}
-    for index, entry in enumerate(model.agents, start=1):
+    for index, entry in entries:
         where = f"agents[{index}]"
         if entry.id in seen:
             out.add(f"{where}.id", f"{entry.id!r} is already the id of agents[{seen[entry.id]}]")
         seen.setdefault(entry.id, index)
         agent = _resolve_agent(entry, where, out)
         if agent is not None:
-            agents.append(agent)
-    return Formulary(
-        name=model.formulary.name,
-        version=model.formulary.version,
-        sha256=digest,
-        path=str(path),
-        settings=model.settings,
-        limits=limits,
-        agents=tuple(agents),
-    )
+            agents.append((index, agent))
+    return tuple(agents)
 
 
-def _resolve_limits(model: FormularyFile, out: _Collector) -> Limits:
+def _resolve_limits(table: LimitsTable, out: _Collector) -> Limits:
     values: dict[str, float | None] = {}
     from_file: set[str] = set()
-    written = model.limits.model_dump()
+    written = table.model_dump()
     for name, spec in LIMIT_SPECS.items():
         raw = written[name]
         if raw is None:
@@ -201,8 +200,15 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
                 grams = float(conc.m_as("g/L"))
             else:
                 grams = float(conc.m_as("mmol/L")) * solute.molar_mass_g_per_mol / 1000.0
+            strength = SOLUTE_STRENGTH.get(entry.solute)
             if grams <= 0:
                 out.add(f"{where}.concentration", f"{entry.concentration!r} is not above zero")
+            elif strength is not None and not strength.contains(grams / 10.0):
+                out.add(
+                    f"{where}.concentration",
+                    f"{entry.concentration!r} is {grams / 10.0:.4g} % w/v, outside the plausible range "
+                    f"for {entry.solute} (accepted: {strength.describe()})",
+                )
             moles = grams / solute.molar_mass_g_per_mol * 1000.0  # mmol/L
             derived_na = moles * solute.sodium_per_mole
             derived_osm = moles * solute.osmoles_per_mole

@@ -43,6 +43,8 @@ def line_of(lines: dict[str, int], key_path: str) -> int | None:
     while path:
         if path in lines:
             return lines[path]
+        if f"{path}[1]" in lines:  # the key of an array of tables: its first table
+            return lines[f"{path}[1]"]
         cut = max(path.rfind("."), path.rfind("["))
         path = path[:cut] if cut > 0 else ""
     return None

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from osmodose.formulary.limits import LIMIT_SPECS
+from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 from osmodose.formulary.model import Formulary
 
 
@@ -41,6 +41,7 @@ class LimitRow:
 
 
 def agent_rows(formulary: Formulary) -> list[AgentRow]:
+    """One row per agent, in file order, with the composition derived from the concentration."""
     rows = []
     for a in formulary.agents:
         limits = [
@@ -67,9 +68,50 @@ def agent_rows(formulary: Formulary) -> list[AgentRow]:
 
 
 def limit_rows(formulary: Formulary) -> list[LimitRow]:
+    """Every limit in force, in the order of the limits table, with where its value comes from."""
     rows = []
     for name, spec in LIMIT_SPECS.items():
         value = formulary.limits.get(name)
-        shown = "not set" if value is None else f"{value:g} {spec.unit}"
+        shown = "not set" if value is None else f"{value:g} {display_unit(spec.unit)}"
         rows.append(LimitRow(name=name, value=shown, meaning=spec.meaning, source=formulary.limits.source(name)))
     return rows
+
+
+#: Column headings of the agents table, in the order of `agent_cells`.
+AGENT_COLUMNS: tuple[str, ...] = (
+    "id",
+    "label",
+    "concentration",
+    "Na mmol/L",
+    "Na mmol/mL",
+    "mOsm/L",
+    "g/mL",
+    "route",
+    "presentations",
+    "dose limits",
+    "max rate",
+)
+
+#: Column headings of the limits table, in the order of `limit_cells`.
+LIMIT_COLUMNS: tuple[str, ...] = ("limit", "value", "source")
+
+
+def agent_cells(row: AgentRow) -> tuple[str, ...]:
+    """The row as text, rounded as a checker reads labels: whole mmol/L and mOsm/L, mmol/mL to 3 places."""
+    return (
+        row.id,
+        row.label,
+        row.concentration,
+        f"{row.sodium_mmol_l:.0f}",
+        f"{row.sodium_mmol_per_ml:.3f}",
+        f"{row.osmolarity_mosm_l:.0f}",
+        "n/a" if row.solute_g_per_ml is None else f"{row.solute_g_per_ml:.4g}",
+        row.route,
+        row.presentations,
+        row.dose_limits,
+        row.max_rate,
+    )
+
+
+def limit_cells(row: LimitRow) -> tuple[str, ...]:
+    return (row.name, row.value, row.source)
