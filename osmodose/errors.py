@@ -81,3 +81,16 @@ class FormularyProblems(FormularyError):
         extra = len(problems) - 1
         problem = first.problem + (f" (and {extra} more problem{'s' if extra > 1 else ''})" if extra else "")
         super().__init__(first.path, problem, first.key_path, first.line)
+
+
+class EpisodeFileError(OsmodoseError):
+    """An episode file (a patient's course of therapy) cannot be read or written.
+
+    Always names the file, so a user with several episodes open knows which one
+    is damaged; a file that failed to load is never written over.
+    """
+
+    def __init__(self, path: Path | str, problem: str) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        super().__init__(f"episode {self.path}: {problem}")
