@@ -19,7 +19,10 @@ from osmodose import __version__
 from osmodose.cli.exit_codes import BAD_INPUT
 from osmodose.errors import OsmodoseError
 
-SUBCOMMANDS: tuple[str, ...] = ("osmodose.cli.check_cmd",)
+SUBCOMMANDS: tuple[str, ...] = (
+    "osmodose.cli.check_cmd",
+    "osmodose.cli.course_cmd",
+)
 
 
 class _Parser(argparse.ArgumentParser):
