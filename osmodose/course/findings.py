@@ -51,7 +51,7 @@ def _count(values: np.ndarray, limit: float | None, above: bool = True) -> int:
 
 
 def _of(n: int, total: int, what: str) -> str:
-    return f" ({n} of {total} {what})" if total > 1 else ""
+    return f" ({n} of {total} {what} crossing a limit)" if total > 1 else ""
 
 
 def course_findings(timeline: Timeline, limits: Limits, projection: Projection | None = None) -> list[CourseFinding]:
@@ -292,10 +292,11 @@ def _stale_labs(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
         return []
     j = int(stale[np.argmax(age[stale])])
     value = float(age[j])
-    basis = "no labs before it" if np.isinf(value) else f"labs {value:.1f} h old"
-    message = (
-        f"the dose of {doses.agent_ids[j]} at {when(doses.times[j])} was given on {basis}, "
-        f"older than the {limit:g} h limit" + _of(len(stale), len(doses.t), "doses")
+    basis = (
+        "with no labs before it" if np.isinf(value) else f"on labs {value:.1f} h old, older than the {limit:g} h limit"
+    )
+    message = f"the dose of {doses.agent_ids[j]} at {when(doses.times[j])} was given {basis}" + _of(
+        len(stale), len(doses.t), "doses"
     )
     return [
         CourseFinding(

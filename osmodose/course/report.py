@@ -23,6 +23,13 @@ from osmodose.formulary.model import Formulary
 from osmodose.report import STATUS_MARK, STATUS_WORDS, render_text
 from osmodose.results import CAUTION, FormularyRef
 
+#: A review looks back over doses already given, so its words differ from a check's.
+COURSE_STATUS_WORDS = {
+    "ok": "OK: no limit crossed",
+    "warn": "WARN: a soft limit is crossed; review",
+    "refuse": "REFUSE: a hard limit is crossed; no further dose without review",
+}
+
 
 @dataclass(frozen=True)
 class Review:
@@ -142,7 +149,7 @@ def render_review_text(result: Review, path: Path | str) -> str:
     rows = timeline_rows(result)
     width = max([len(r[0]) for r in rows] + [4])
     lines = [
-        f"osmodose course  {STATUS_MARK[result.status]} {STATUS_WORDS[result.status]}",
+        f"osmodose course  {STATUS_MARK[result.status]} {COURSE_STATUS_WORDS[result.status]}",
         f"episode: {path}",
         _formulary_line(result.formulary),
         _patient_line(result),
