@@ -150,3 +150,9 @@ def test_registering_course_imports_neither_the_course_modules_nor_matplotlib() 
         [sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO_ROOT, check=True, timeout=60
     )
     assert done.stdout.strip() == "False"
+
+
+def test_plot_into_a_missing_folder_is_one_line_not_a_traceback(worked: Path, tmp_path: Path, capsys) -> None:
+    out = tmp_path / "no-such-folder" / "x.png"
+    assert course("plot", worked, "--out", out) == 2
+    assert capsys.readouterr().err == f"osmodose: out: {out} cannot be written: No such file or directory\n"

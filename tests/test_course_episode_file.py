@@ -175,3 +175,20 @@ def test_a_write_keeps_the_files_permissions(tmp_path: Path) -> None:
     save_episode(episode(labs=[lab(0, 130)]), path)
     assert oct(path.stat().st_mode & 0o777) == "0o640"
     assert isinstance(load_episode(path), Episode)
+
+
+def test_an_entry_added_meanwhile_by_another_command_is_never_lost(tmp_path: Path) -> None:
+    from osmodose.course.store import read_episode, update_episode
+
+    path = tmp_path / "ep.json"
+    save_episode(episode(labs=[lab(0, 130)]), path, create=True)
+    opened, digest = read_episode(path)  # a screen holds the episode open...
+    update_episode(path, lambda ep: ep.with_entry(lab(1, 131)))  # ...while a command adds a lab
+    with pytest.raises(EpisodeFileError) as caught:
+        save_episode(opened.with_entry(lab(2, 132)), path, expect_sha256=digest)
+    assert str(caught.value) == (
+        f"episode {path}: changed on disk since it was read (another command or window?); "
+        "nothing was written: reload it"
+    )
+    assert [x.sodium_mmol_l for x in load_episode(path).labs] == [130, 131]
+    assert os.listdir(tmp_path) == ["ep.json"]

@@ -88,7 +88,19 @@ def test_osmolality_ceiling_uses_the_calculated_value_when_none_was_measured(dem
     found = findings_of(episode(labs=[lab(0, 155, glucose_mmol_l=6, urea_mmol_l=5)]), demo)["osmolality-high"]
     assert found.severity == "refuse"
     assert found.message == (
-        "calculated osmolality 321.0 mOsm/kg at 2026-12-01T08:00+00:00 is above the refuse limit of 320 mOsm/kg"
+        "calculated osmolality 321.0 mOsm/kg at 2026-12-01T08:00+00:00 (the latest) is above the refuse limit "
+        "of 320 mOsm/kg"
+    )
+
+
+def test_an_earlier_peak_above_a_ceiling_only_warns_once_sodium_is_back_under_it(demo: Formulary) -> None:
+    # 161 > 160 refuse at 0 h, 152 at 12 h: the next dose starts from 152, the peak stays on record as a warning.
+    found = findings_of(episode(labs=[lab(0, 161), lab(12, 152)]), demo)
+    assert "sodium-high" not in found
+    assert found["sodium-was-high"].severity == "warn"
+    assert found["sodium-was-high"].message == (
+        "measured sodium 161.0 mmol/L at 2026-12-01T08:00+00:00 was above the refuse limit of 160 mmol/L; "
+        "the latest is 152.0 at 2026-12-01T20:00+00:00"
     )
 
 

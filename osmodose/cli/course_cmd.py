@@ -9,9 +9,13 @@ from __future__ import annotations
 
 import argparse
 import json
+from typing import TYPE_CHECKING
 
 from osmodose.cli.exit_codes import BY_STATUS, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+
+if TYPE_CHECKING:
+    from osmodose.course.episode import Episode
 
 HELP = "a course of therapy: serial labs, doses and pressures in an episode file"
 TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now"
@@ -121,37 +125,36 @@ def _added(args: argparse.Namespace, what: str, time: object, count: int, kind: 
 
 
 def run_add_lab(args: argparse.Namespace) -> int:
-    from osmodose.course.entries import parse_lab
-    from osmodose.course.store import load_episode, save_episode
+    from osmodose.course.entries import LAB_FIELDS, parse_lab
+    from osmodose.course.store import update_episode
 
-    episode = load_episode(args.file)
-    fields = {name: getattr(args, name) for name in ("time", "sodium", "potassium", "glucose", "urea", "bun")}
-    entry = parse_lab(episode, {**fields, "osmolality": args.osmolality})
-    changed = episode.with_entry(entry)
-    save_episode(changed, args.file)
-    return _added(args, "lab", entry.time, len(changed.labs), "lab")
+    fields = {name: getattr(args, name) for name in ("time", *LAB_FIELDS)}
+    added = []
+
+    def change(episode: Episode) -> Episode:
+        added.append(parse_lab(episode, fields))
+        return episode.with_entry(added[0])
+
+    changed = update_episode(args.file, change)
+    return _added(args, "lab", added[0].time, len(changed.labs), "lab")
 
 
 def run_add_dose(args: argparse.Namespace) -> int:
     from osmodose.course.entries import parse_dose
-    from osmodose.course.store import load_episode, save_episode
+    from osmodose.course.store import update_episode
 
-    episode = load_episode(args.file)
     fields = {"time": args.time, "agent": args.agent, "volume": args.volume, "duration": args.duration}
     entry = parse_dose(formulary_from_args(args), fields)
-    changed = episode.with_entry(entry)
-    save_episode(changed, args.file)
+    changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
     return _added(args, f"dose of {entry.agent_id}", entry.time, len(changed.doses), "dose")
 
 
 def run_add_reading(args: argparse.Namespace) -> int:
     from osmodose.course.entries import parse_reading
-    from osmodose.course.store import load_episode, save_episode
+    from osmodose.course.store import update_episode
 
-    episode = load_episode(args.file)
     entry = parse_reading({"time": args.time, "map": args.map, "icp": args.icp})
-    changed = episode.with_entry(entry)
-    save_episode(changed, args.file)
+    changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
     return _added(args, f"reading (CPP {entry.cpp_mmhg:g} mmHg)", entry.time, len(changed.readings), "reading")
 
 

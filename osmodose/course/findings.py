@@ -115,31 +115,53 @@ def _sodium_window(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
 
 
 def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
+    """The latest value against the ceilings (what the next dose starts from); an earlier peak only warns."""
     labs = timeline.labs
     out: list[CourseFinding] = []
-    for code, what, unit, values, warn, refuse in (
+    for code, what, unit, values, warn_key, refuse_key in (
         ("sodium-high", "measured sodium", "mmol/L", labs.sodium, "sodium_warn", "sodium_refuse"),
-        ("osmolality-high", "serum osmolality", "mOsm/kg", labs.osmolality, "osmolality_warn", "osmolality_refuse"),
+        ("osmolality-high", "osmolality", "mOsm/kg", labs.osmolality, "osmolality_warn", "osmolality_refuse"),
     ):
-        if not np.any(np.isfinite(values)):
+        known = np.flatnonzero(np.isfinite(values))
+        if not len(known):
             continue
-        j = int(np.nanargmax(values))
-        value = float(values[j])
-        severity = _severity(value, limits.get(warn), limits.get(refuse))
-        if severity is None:
-            continue
-        limit = limits.get(refuse if severity == "refuse" else warn)
-        label = what
-        if code == "osmolality-high":
-            label = ("measured" if np.isfinite(labs.measured_osmolality[j]) else "calculated") + " osmolality"
-        crossed = _count(values, limits.get(warn) if limits.get(warn) is not None else limits.get(refuse))
-        message = (
-            f"{label} {value:.1f} {unit} at {when(labs.times[j])} is above the {severity} limit of {limit:g} {unit}"
-            + _of(crossed, len(labs.t), "labs")
-        )
+        warn, refuse = limits.get(warn_key), limits.get(refuse_key)
+
+        def label(j: int, what: str = what, code: str = code) -> str:
+            if code != "osmolality-high":
+                return what
+            return ("measured " if np.isfinite(labs.measured_osmolality[j]) else "calculated ") + what
+
+        latest = int(known[-1])
+        peak = int(known[np.argmax(values[known])])
+        crossed = _of(_count(values, warn if warn is not None else refuse), len(labs.t), "labs")
+        severity = _severity(float(values[latest]), warn, refuse)
+        if severity is not None:
+            limit = refuse if severity == "refuse" else warn
+            message = (
+                f"{label(latest)} {values[latest]:.1f} {unit} at {when(labs.times[latest])} (the latest) "
+                f"is above the {severity} limit of {limit:g} {unit}" + crossed
+            )
+            name, found_at, value = code, latest, float(values[latest])
+        else:
+            severity = _severity(float(values[peak]), warn, refuse)
+            if severity is None:
+                continue
+            limit = refuse if severity == "refuse" else warn
+            message = (
+                f"{label(peak)} {values[peak]:.1f} {unit} at {when(labs.times[peak])} was above the {severity} "
+                f"limit of {limit:g} {unit}; the latest is {values[latest]:.1f} at {when(labs.times[latest])}"
+            )
+            name, severity, found_at, value = code.replace("-high", "-was-high"), "warn", peak, float(values[peak])
         out.append(
             CourseFinding(
-                code=code, severity=severity, message=message, value=value, limit=limit, unit=unit, time=labs.times[j]
+                code=name,
+                severity=severity,
+                message=message,
+                value=value,
+                limit=limit,
+                unit=unit,
+                time=labs.times[found_at],
             )
         )
     return out

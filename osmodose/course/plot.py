@@ -77,6 +77,9 @@ def write_plot(series: CourseSeries, path: Path | str, title: str = "") -> None:
             figure.autofmt_xdate()
             figure.text(0.01, 0.005, CAUTION, fontsize=6, color="grey")
             metadata = {"Date": None} if fmt == "svg" else {"Software": None}
-            figure.savefig(path, format=fmt, metadata=metadata)
+            try:
+                figure.savefig(path, format=fmt, metadata=metadata)
+            except OSError as error:
+                raise InputError("out", str(path), f"cannot be written: {error.strerror or error}") from None
         finally:
             plt.close(figure)

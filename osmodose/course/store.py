@@ -12,6 +12,7 @@ one, never half of each.
 from __future__ import annotations
 
 import contextlib
+import hashlib
 import json
 import os
 import stat
@@ -31,11 +32,28 @@ UNCHANGED = "the file was not changed"
 
 def load_episode(path: Path | str) -> Episode:
     """The episode in `path`, migrated to the current format; EpisodeFileError if it cannot be used."""
+    return read_episode(path)[0]
+
+
+def _digest(path: Path) -> str | None:
+    try:
+        return hashlib.sha256(path.read_bytes()).hexdigest()
+    except FileNotFoundError:
+        return None
+
+
+def read_episode(path: Path | str) -> tuple[Episode, str]:
+    """The episode and the SHA-256 of the bytes it came from, to pass to `save_episode(expect_sha256=...)`.
+
+    A screen that keeps an episode open hands the digest back when it saves,
+    so an entry added meanwhile by another command is never silently lost.
+    """
     path = Path(path)
     try:
         raw = path.read_bytes()
     except OSError as error:
         raise EpisodeFileError(path, f"cannot be read: {error.strerror or type(error).__name__}") from None
+    digest = hashlib.sha256(raw).hexdigest()
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
@@ -50,7 +68,7 @@ def load_episode(path: Path | str) -> Episode:
             f"is not valid JSON at line {error.lineno}, column {error.colno} ({error.msg}): "
             f"half-written or corrupt; {UNCHANGED}",
         ) from None
-    return episode_from_data(data, path)
+    return episode_from_data(data, path), digest
 
 
 def episode_from_data(data: Any, path: Path | str) -> Episode:
@@ -96,8 +114,15 @@ def _describe(error: ValidationError) -> str:
     return f"{where}: {message}{more}"
 
 
-def save_episode(episode: Episode, path: Path | str, create: bool = False) -> None:
-    """Write `episode` to `path` atomically; with `create`, never replace an existing file."""
+CHANGED_MEANWHILE = "changed on disk since it was read (another command or window?); nothing was written: reload it"
+
+
+def save_episode(episode: Episode, path: Path | str, create: bool = False, expect_sha256: str | None = None) -> None:
+    """Write `episode` to `path` atomically.
+
+    With `create`, never replace an existing file; with `expect_sha256`, write
+    only if the file still holds the bytes it was read from.
+    """
     path = Path(path)
     if create and (path.exists() or path.is_symlink()):
         raise EpisodeFileError(path, "already exists; it was not overwritten")
@@ -115,6 +140,8 @@ def save_episode(episode: Episode, path: Path | str, create: bool = False) -> No
             os.fsync(handle.fileno())
         if mode is not None:
             os.chmod(tmp_name, mode)
+        if expect_sha256 is not None and _digest(path) != expect_sha256:
+            raise EpisodeFileError(path, CHANGED_MEANWHILE)
         os.replace(tmp_name, path)
         tmp_name = None
         _fsync_folder(folder)
@@ -141,8 +168,11 @@ def _fsync_folder(folder: Path) -> None:
 
 
 def update_episode(path: Path | str, change: Callable[[Episode], Episode]) -> Episode:
-    """Load, change, save: the only way a command alters a file, so a bad file is never written over."""
-    episode = load_episode(path)
+    """Load, change, save: the way a command alters a file, so a bad file is never written over.
+
+    The save goes ahead only if the file still holds what was loaded.
+    """
+    episode, digest = read_episode(path)
     changed = change(episode)
-    save_episode(changed, path)
+    save_episode(changed, path, expect_sha256=digest)
     return changed
