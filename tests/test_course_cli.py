@@ -156,3 +156,25 @@ def test_plot_into_a_missing_folder_is_one_line_not_a_traceback(worked: Path, tm
     out = tmp_path / "no-such-folder" / "x.png"
     assert course("plot", worked, "--out", out) == 2
     assert capsys.readouterr().err == f"osmodose: out: {out} cannot be written: No such file or directory\n"
+
+
+def test_the_plot_series_are_plain_floats_for_a_terminal_widget(demo) -> None:
+    from osmodose.course.series import course_series
+    from tests.course_build import dose, episode, lab, reading
+
+    ep = episode(labs=[lab(0, 118), lab(4, 121)], doses=[dose(1, "nacl-3", 150, 30)], readings=[reading(2, 80, 25)])
+    series = course_series(ep, demo)
+    assert series.lab_hours == (0.0, 4.0)
+    assert series.sodium == (118.0, 121.0)
+    # From 118 through the dose ending at 1.5 h: 118 + 0.15 x (513 - 118) / 42.15 = 119.4057.
+    (hours, sodium), (hours2, sodium2) = series.projected
+    assert hours == (0.0, 1.5) and sodium[1] == pytest.approx(119.4057, abs=1e-4)
+    assert (hours2, sodium2) == ((4.0,), (121.0,))
+    assert (series.reading_hours, series.icp, series.cpp) == ((2.0,), (25.0,), (55.0,))
+    assert (series.sodium_warn, series.sodium_refuse, series.icp_treat_above, series.cpp_target_min) == (
+        155.0,
+        160.0,
+        22.0,
+        60.0,
+    )
+    assert all(type(x) is float for x in (*series.lab_hours, *series.sodium, *hours, *sodium, *series.cpp))
