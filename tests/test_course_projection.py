@@ -138,3 +138,42 @@ def test_plan_without_a_lab_is_an_input_error(demo: Formulary) -> None:
     assert str(caught.value) == (
         "plan: needs a lab drawn at or before 2026-12-01T08:00+00:00 (accepted: osmodose course add-lab FILE ...)"
     )
+
+
+def test_a_watson_default_without_a_height_uses_the_fractions_and_says_so(tmp_path) -> None:
+    from osmodose.course.report import review
+    from osmodose.formulary import demo_formulary_path, load_formulary
+
+    source = (
+        demo_formulary_path()
+        .read_text(encoding="utf-8")
+        .replace('ethanol_factor = "molar"', 'ethanol_factor = "molar"\ntbw_method = "watson"')
+    )
+    path = tmp_path / "watson.toml"
+    path.write_text(source, encoding="utf-8")
+    watson = load_formulary(path)
+    result = review(episode(labs=[lab(0, 130)]), watson)
+    assert (result.tbw_method, result.tbw_l) == ("fraction", 42.0)  # 0.6 x 70, not a Watson figure
+    assert result.notes == [
+        "No height in the episode: total body water by the Adrogue-Madias fractions, "
+        "not by the formulary's default Watson formula."
+    ]
+
+
+def test_an_episode_with_a_height_follows_a_watson_default(tmp_path) -> None:
+    from osmodose.course.episode import EpisodePatient
+    from osmodose.course.report import review
+    from osmodose.formulary import demo_formulary_path, load_formulary
+
+    source = (
+        demo_formulary_path()
+        .read_text(encoding="utf-8")
+        .replace('ethanol_factor = "molar"', 'ethanol_factor = "molar"\ntbw_method = "watson"')
+    )
+    path = tmp_path / "watson.toml"
+    path.write_text(source, encoding="utf-8")
+    man = EpisodePatient(weight_kg=80, age_years=35, sex="male", height_cm=180)
+    # Watson PE et al. Am J Clin Nutr 1980: 2.447 - 0.09516 x 35 + 0.1074 x 180 + 0.3362 x 80 = 45.34 L.
+    result = review(episode(labs=[lab(0, 130)], patient=man), load_formulary(path))
+    assert result.tbw_method == "watson"
+    assert result.tbw_l == pytest.approx(45.34, abs=0.01)

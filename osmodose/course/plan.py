@@ -20,7 +20,7 @@ from osmodose.check import run_check
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
-from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method
+from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
 from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, build_timeline, latest_lab_at
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
@@ -91,7 +91,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     findings += _stale(timeline, formulary, at)
     findings += _mannitol(timeline, formulary, check, at, p.weight_kg)
     findings.sort(key=lambda item: item.severity != "refuse")
-    notes = list(projection.notes)
+    notes = tbw_notes(episode, formulary) + projection.notes
     if len(projection.dose_rows):
         notes.append(STALE_OSMOLALITY_NOTE)
     return Plan(at=at, tbw_l=tbw_l, lab=lab, projection=projection, check=check, findings=findings, notes=notes)

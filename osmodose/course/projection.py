@@ -52,13 +52,31 @@ def labs_of(lab: LabEntry, sodium: float | None = None) -> Labs:
     )
 
 
+NO_HEIGHT_NOTE = (
+    "No height in the episode: total body water by the Adrogue-Madias fractions, "
+    "not by the formulary's default Watson formula."
+)
+
+
 def tbw_method(episode: Episode, formulary: Formulary) -> str:
-    return episode.patient.tbw_method or formulary.settings.tbw_method
+    """The method actually used: the episode's, else the formulary's; Watson needs a height.
+
+    An episode that chose Watson always has a height (checked when it was
+    made); a formulary defaulting to Watson falls back to the fractions for a
+    patient without one, and says so (`NO_HEIGHT_NOTE`) rather than fail.
+    """
+    method = episode.patient.tbw_method or formulary.settings.tbw_method
+    return "watson" if method == "watson" and episode.patient.height_cm is not None else "fraction"
+
+
+def tbw_notes(episode: Episode, formulary: Formulary) -> list[str]:
+    wanted = episode.patient.tbw_method or formulary.settings.tbw_method
+    return [NO_HEIGHT_NOTE] if wanted == "watson" and episode.patient.height_cm is None else []
 
 
 def episode_tbw_l(episode: Episode, formulary: Formulary) -> float:
-    """The patient's total body water, by the engine (the formulary's method unless the episode sets one)."""
-    use_watson = tbw_method(episode, formulary) == "watson" and episode.patient.height_cm is not None
+    """The patient's total body water, by the engine, with the method `tbw_method` names."""
+    use_watson = tbw_method(episode, formulary) == "watson"
     request = CheckRequest(patient=patient_of(episode), labs=Labs(sodium_mmol_l=math.nan))
     cases = cases_from_request(request, -1, use_watson)
     return float(total_body_water(cases, formulary.settings)[0])

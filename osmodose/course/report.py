@@ -16,7 +16,7 @@ import numpy as np
 from osmodose.course.episode import Episode
 from osmodose.course.findings import CourseFinding, course_findings, when
 from osmodose.course.plan import Plan
-from osmodose.course.projection import ProjectedPath, Projection, episode_tbw_l, project_now, projected_path
+from osmodose.course.projection import ProjectedPath, Projection, episode_tbw_l, project_now, projected_path, tbw_notes
 from osmodose.course.projection import tbw_method as method_of
 from osmodose.course.timeline import Timeline, build_timeline
 from osmodose.formulary.model import Formulary
@@ -43,6 +43,7 @@ class Review:
     path: ProjectedPath | None
     projection: Projection | None
     findings: list[CourseFinding]
+    notes: list[str]
 
     @property
     def status(self) -> str:
@@ -65,6 +66,7 @@ def review(episode: Episode, formulary: Formulary) -> Review:
         path=projected_path(timeline, tbw_l) if episode.labs else None,
         projection=projection,
         findings=course_findings(timeline, formulary.limits, projection),
+        notes=tbw_notes(episode, formulary) + (projection.notes if projection else []),
     )
 
 
@@ -160,9 +162,8 @@ def render_review_text(result: Review, path: Path | str) -> str:
     if not rows:
         lines.append("(no entries yet)")
     lines += ["", _projection_line(result.projection, result.timeline), "", *_findings_lines(result.findings)]
-    notes = result.projection.notes if result.projection else []
-    if notes:
-        lines += ["notes:", *[f"  - {note}" for note in notes]]
+    if result.notes:
+        lines += ["notes:", *[f"  - {note}" for note in result.notes]]
     lines += ["", CAUTION]
     return "\n".join(lines) + "\n"
 
@@ -223,6 +224,7 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
         "readings": readings,
         "projection": _projection_json(result.projection, tl),
         "findings": [x.model_dump(mode="json") for x in result.findings],
+        "notes": result.notes,
         "caution": CAUTION,
     }
 

@@ -117,10 +117,9 @@ def lab_columns(episode: Episode) -> LabColumns:
     glucose = _column([lab.glucose_mmol_l for lab in labs])
     urea = _column([lab.urea_mmol_l for lab in labs])
     measured = _column([lab.osmolality_mosm_kg for lab in labs])
-    calculated = f.calculated_osmolality(Q_(sodium, "mmol/L"), Q_(glucose, "mmol/L"), Q_(urea, "mmol/L")).m_as(
-        "mOsm/kg"
+    calculated = np.atleast_1d(
+        f.calculated_osmolality(Q_(sodium, "mmol/L"), Q_(glucose, "mmol/L"), Q_(urea, "mmol/L")).m_as("mOsm/kg")
     )
-    calculated = np.atleast_1d(np.asarray(calculated, dtype=float)) if len(labs) else np.zeros(0)
     gap = np.atleast_1d(f.osmolar_gap(Q_(measured, "mOsm/kg"), Q_(calculated, "mOsm/kg")).m_as("mOsm/kg"))
     return LabColumns(
         times=times,
@@ -132,7 +131,7 @@ def lab_columns(episode: Episode) -> LabColumns:
         measured_osmolality=measured,
         calculated_osmolality=calculated,
         osmolality=np.where(np.isnan(measured), calculated, measured),
-        gap=gap if len(labs) else np.zeros(0),
+        gap=gap,
         sodium_window=window_change(t, sodium),
     )
 
