@@ -65,11 +65,13 @@ def write_plot(series: CourseSeries, path: Path | str, title: str = "") -> None:
                 bottom.plot(at(series.reading_hours), series.icp, "o-", color="tab:purple", label="ICP")
                 bottom.plot(at(series.reading_hours), series.cpp, "s-", color="tab:green", label="CPP")
             if series.icp_treat_above is not None:
-                bottom.axhline(series.icp_treat_above, color="tab:purple", linestyle=":", linewidth=1,
-                               label=f"ICP threshold {series.icp_treat_above:g}")  # fmt: skip
+                threshold = series.icp_treat_above
+                bottom.axhline(
+                    threshold, color="tab:purple", linestyle=":", linewidth=1, label=f"ICP threshold {threshold:g}"
+                )
             if series.cpp_target_min is not None:
-                bottom.axhline(series.cpp_target_min, color="tab:green", linestyle=":", linewidth=1,
-                               label=f"CPP target {series.cpp_target_min:g}")  # fmt: skip
+                target = series.cpp_target_min
+                bottom.axhline(target, color="tab:green", linestyle=":", linewidth=1, label=f"CPP target {target:g}")
             bottom.set_ylabel("pressure (mmHg)")
             bottom.legend(loc="best", fontsize="small")
             bottom.xaxis.set_major_formatter(mdates.DateFormatter("%d %b %H:%M", tz=tz))
