@@ -116,3 +116,16 @@ class FormularyWarning:
 
     def __repr__(self) -> str:
         return f"FormularyWarning({self.located()!r})"
+
+
+class EpisodeFileError(OsmodoseError):
+    """An episode file (a patient's course of therapy) cannot be read or written.
+
+    Always names the file, so a user with several episodes open knows which one
+    is damaged; a file that failed to load is never written over.
+    """
+
+    def __init__(self, path: Path | str, problem: str) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        super().__init__(f"episode {self.path}: {problem}")

@@ -39,6 +39,11 @@ PLAUSIBLE: dict[str, Range] = {
     "volume": Range(0.1, 5000.0, "mL"),
     "duration": Range(1.0, 7 * 24 * 60.0, "min"),
     "target-rise": Range(-30.0, 30.0, "mmol/L"),
+    # Bedside pressures for a course of therapy: chosen to catch a slipped digit
+    # or a value in the wrong box, not to judge (common practice).  ICP may be a
+    # little below zero with the head up or the drain open.
+    "map": Range(10.0, 250.0, "mmHg"),
+    "icp": Range(-10.0, 150.0, "mmHg"),
 }
 
 

@@ -20,7 +20,11 @@ from osmodose import __version__
 from osmodose.cli.exit_codes import BAD_INPUT, BROKEN_PIPE
 from osmodose.errors import OsmodoseError
 
-SUBCOMMANDS: tuple[str, ...] = ("osmodose.cli.check_cmd", "osmodose.cli.formulary_cmd")
+SUBCOMMANDS: tuple[str, ...] = (
+    "osmodose.cli.check_cmd",
+    "osmodose.cli.formulary_cmd",
+    "osmodose.cli.course_cmd",
+)
 
 
 class _Parser(argparse.ArgumentParser):

@@ -1,0 +1,200 @@
+"""An episode as columns: one numpy array per quantity, one row per entry.
+
+Findings, the projection, the table and the plot all read these columns, so
+the figure shown beside a lab is the one the findings judged.  Times are POSIX
+seconds (UTC), so entries written with different offsets compare correctly.
+
+"Within 24 h" is inclusive: two labs exactly 24 h apart are in one window
+(the safer reading for an overcorrection limit).  A dose that starts at the
+same minute as a lab is taken as given after the sample was drawn.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime
+
+import numpy as np
+
+from osmodose import formulas as f
+from osmodose.course.episode import Episode
+from osmodose.engine import AgentColumns
+from osmodose.formulary.model import Formulary
+from osmodose.units import Q_
+
+WINDOW_H = 24.0
+SECONDS_PER_HOUR = 3600.0
+
+
+def _seconds(times: tuple[datetime, ...] | list[datetime]) -> np.ndarray:
+    return np.asarray([t.timestamp() for t in times], dtype=float)
+
+
+def _column(values: list[float | None]) -> np.ndarray:
+    return np.asarray([np.nan if v is None else v for v in values], dtype=float)
+
+
+@dataclass(frozen=True)
+class WindowChange:
+    """For each sample: its change against the lowest and highest sample of the preceding window.
+
+    `rise[j]` = x[j] - min(x[i] : t[j] - window <= t[i] <= t[j]); `low_index[j]` is that i.
+    `fall[j]` = max(...) - x[j]; `high_index[j]` its i.  Both are 0 for a lone sample.
+    """
+
+    rise: np.ndarray
+    low_index: np.ndarray
+    fall: np.ndarray
+    high_index: np.ndarray
+
+
+def window_change(t: np.ndarray, x: np.ndarray, hours: float = WINDOW_H) -> WindowChange:
+    """Rise and fall into each sample over any window of `hours` ending at it (pairwise, vectorised)."""
+    dt = t[:, None] - t[None, :]  # row j (later), column i (earlier)
+    inside = (dt >= 0) & (dt <= hours * SECONDS_PER_HOUR)
+    low = np.where(inside, x[None, :], np.inf)
+    high = np.where(inside, x[None, :], -np.inf)
+    low_index = np.argmin(low, axis=1) if len(x) else np.zeros(0, dtype=int)
+    high_index = np.argmax(high, axis=1) if len(x) else np.zeros(0, dtype=int)
+    return WindowChange(
+        rise=x - x[low_index] if len(x) else x,
+        low_index=low_index,
+        fall=x[high_index] - x if len(x) else x,
+        high_index=high_index,
+    )
+
+
+@dataclass(frozen=True)
+class LabColumns:
+    times: tuple[datetime, ...]
+    t: np.ndarray
+    sodium: np.ndarray
+    potassium: np.ndarray
+    glucose: np.ndarray
+    urea: np.ndarray
+    measured_osmolality: np.ndarray
+    calculated_osmolality: np.ndarray
+    osmolality: np.ndarray  # measured, else calculated: what the ceilings judge (as in a check)
+    gap: np.ndarray
+    sodium_window: WindowChange
+
+
+@dataclass(frozen=True)
+class DoseColumns:
+    times: tuple[datetime, ...]
+    agent_ids: tuple[str, ...]
+    t: np.ndarray
+    t_end: np.ndarray
+    volume_ml: np.ndarray
+    duration_min: np.ndarray
+    agent: AgentColumns
+    mannitol_g: np.ndarray  # 0 for other agents
+    mannitol_24h_g_per_kg: np.ndarray  # mannitol started within the 24 h ending at each dose's start
+
+
+@dataclass(frozen=True)
+class ReadingColumns:
+    times: tuple[datetime, ...]
+    t: np.ndarray
+    map: np.ndarray
+    icp: np.ndarray
+    cpp: np.ndarray
+
+
+@dataclass(frozen=True)
+class Timeline:
+    weight_kg: float
+    labs: LabColumns
+    doses: DoseColumns
+    readings: ReadingColumns
+
+
+def lab_columns(episode: Episode) -> LabColumns:
+    labs = episode.labs
+    times = tuple(lab.time for lab in labs)
+    t = _seconds(times)
+    sodium = _column([lab.sodium_mmol_l for lab in labs])
+    glucose = _column([lab.glucose_mmol_l for lab in labs])
+    urea = _column([lab.urea_mmol_l for lab in labs])
+    measured = _column([lab.osmolality_mosm_kg for lab in labs])
+    calculated = np.atleast_1d(
+        f.calculated_osmolality(Q_(sodium, "mmol/L"), Q_(glucose, "mmol/L"), Q_(urea, "mmol/L")).m_as("mOsm/kg")
+    )
+    gap = np.atleast_1d(f.osmolar_gap(Q_(measured, "mOsm/kg"), Q_(calculated, "mOsm/kg")).m_as("mOsm/kg"))
+    return LabColumns(
+        times=times,
+        t=t,
+        sodium=sodium,
+        potassium=_column([lab.potassium_mmol_l for lab in labs]),
+        glucose=glucose,
+        urea=urea,
+        measured_osmolality=measured,
+        calculated_osmolality=calculated,
+        osmolality=np.where(np.isnan(measured), calculated, measured),
+        gap=gap,
+        sodium_window=window_change(t, sodium),
+    )
+
+
+def dose_columns(episode: Episode, formulary: Formulary, weight_kg: float) -> DoseColumns:
+    """Dose columns with each agent's composition; an agent missing from the formulary is an InputError."""
+    doses = episode.doses
+    index = np.asarray(
+        [formulary.agents.index(formulary.agent(d.agent_id, f"doses[{i + 1}].agent_id")) for i, d in enumerate(doses)],
+        dtype=int,
+    )
+    agent = AgentColumns.gather(formulary.agents, index)
+    t = _seconds([d.time for d in doses])
+    duration = _column([d.duration_min for d in doses])
+    volume = _column([d.volume_ml for d in doses])
+    grams = f.amount_in_volume(Q_(volume, "mL"), Q_(agent.solute_g_per_l, "g/L"), "g").m_as("g")
+    mannitol_g = np.where(agent.is_mannitol, np.nan_to_num(grams, nan=0.0), 0.0)
+    dt = t[:, None] - t[None, :]
+    inside = (dt >= 0) & (dt <= WINDOW_H * SECONDS_PER_HOUR)
+    cumulative = (inside * mannitol_g[None, :]).sum(axis=1) / weight_kg if len(doses) else np.zeros(0)
+    return DoseColumns(
+        times=tuple(d.time for d in doses),
+        agent_ids=tuple(d.agent_id for d in doses),
+        t=t,
+        t_end=t + np.nan_to_num(duration, nan=0.0) * 60.0,
+        volume_ml=volume,
+        duration_min=duration,
+        agent=agent,
+        mannitol_g=mannitol_g,
+        mannitol_24h_g_per_kg=cumulative,
+    )
+
+
+def reading_columns(episode: Episode) -> ReadingColumns:
+    readings = episode.readings
+    map_ = _column([r.map_mmhg for r in readings])
+    icp = _column([r.icp_mmhg for r in readings])
+    return ReadingColumns(
+        times=tuple(r.time for r in readings),
+        t=_seconds([r.time for r in readings]),
+        map=map_,
+        icp=icp,
+        cpp=map_ - icp,  # CPP = MAP - ICP (Carney N et al. Neurosurgery 2017;80:6-15)
+    )
+
+
+def build_timeline(episode: Episode, formulary: Formulary) -> Timeline:
+    weight = episode.patient.weight_kg
+    return Timeline(
+        weight_kg=weight,
+        labs=lab_columns(episode),
+        doses=dose_columns(episode, formulary, weight),
+        readings=reading_columns(episode),
+    )
+
+
+def latest_lab_at(labs: LabColumns, t: float) -> int:
+    """Index of the latest lab drawn at or before `t`, or -1."""
+    return int(np.searchsorted(labs.t, t, side="right")) - 1
+
+
+def mannitol_between(doses: DoseColumns, t_from: np.ndarray, t_to: np.ndarray) -> np.ndarray:
+    """Whether a mannitol dose started in [t_from, t_to) (a dose at a lab's minute follows that lab)."""
+    starts = np.sort(doses.t[doses.agent.is_mannitol])
+    before = np.searchsorted(starts, t_to, side="left") - np.searchsorted(starts, t_from, side="left")
+    return before > 0
