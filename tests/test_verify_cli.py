@@ -23,15 +23,26 @@ def verify_args(log: Path, *order: str) -> list[str]:
     ("order", "code", "outcome"),
     [
         # 250 mL mannitol 20 % = 50 g = 0.71 g/kg, one 250 mL bag: nothing crossed.
-        (["--agent", "mannitol-20", "--volume", "250", "--duration", "20"], 0, "released"),
+        (["--agent", "mannitol-20", "--volume", "250", "--duration", "20", "--line", "central"], 0, "released"),
         # 350 mL = 1 g/kg as stated, but not a whole bag: a warn, accepted with a reason.
         (
-            ["--agent", "mannitol-20", "--volume", "350", "--stated-dose", "1g/kg", "--accept", ACCEPT_BAG],
+            [
+                "--agent",
+                "mannitol-20",
+                "--volume",
+                "350",
+                "--line",
+                "central",
+                "--stated-dose",
+                "1g/kg",
+                "--accept",
+                ACCEPT_BAG,
+            ],
             0,
             "released-with-accepted-warnings",
         ),
         # The same warn not accepted: held.
-        (["--agent", "mannitol-20", "--volume", "350", "--stated-dose", "1g/kg"], 3, "held"),
+        (["--agent", "mannitol-20", "--volume", "350", "--line", "central", "--stated-dose", "1g/kg"], 3, "held"),
         # 3500 mL for "1 g/kg" in 70 kg (350 mL): a 10-fold error, refused.
         (["--agent", "mannitol-20", "--volume", "3500", "--stated-dose", "1g/kg"], 4, "refused"),
     ],
@@ -58,7 +69,7 @@ def test_refuse_cannot_be_accepted_from_the_command_line(tmp_path, capsys) -> No
 
 def test_text_output_names_the_saved_record(tmp_path, capsys) -> None:
     log = tmp_path / "log.jsonl"
-    assert main(verify_args(log, "--agent", "mannitol-20", "--volume", "250")) == 0
+    assert main(verify_args(log, "--agent", "mannitol-20", "--volume", "250", "--line", "central")) == 0
     lines = capsys.readouterr().out.splitlines()
     assert lines[0] == "osmodose verification  [RELEASED] no limit crossed and nothing contradicts the order"
     assert lines[-2] == f"saved as record 1 in {log}"
@@ -88,7 +99,7 @@ def test_initials_are_required(tmp_path, capsys) -> None:
 def test_log_path_from_the_environment(tmp_path, capsys, monkeypatch) -> None:
     log = tmp_path / "from-env.jsonl"
     monkeypatch.setenv("OSMODOSE_LOG", str(log))
-    assert main(["verify", *PATIENT, "--agent", "mannitol-20", "--volume", "250", "--initials", "AB"]) == 0
+    assert main(["verify", *PATIENT, "--agent", "nacl-0.9", "--volume", "500", "--initials", "AB"]) == 0
     assert log.is_file()
     capsys.readouterr()
     assert main(["log", "list"]) == 0

@@ -36,7 +36,7 @@ def test_tenfold_mannitol_volume_is_refused(demo) -> None:
 def test_mannitol_one_gram_per_kg_as_written_has_no_dose_discrepancy(demo) -> None:
     # 350 mL x 200 g/L = 70 g = 1.0 g/kg for 70 kg: as stated.  350 mL is not a whole
     # number of the demo's 250 or 500 mL bags, which is a warning only.
-    record = verify(demo, agent="mannitol-20", volume="350", duration="20", stated_dose="1g/kg")
+    record = verify(demo, agent="mannitol-20", volume="350", duration="20", line="central", stated_dose="1g/kg")
     assert codes(record) == {"volume-not-a-presentation": "warn"}
     assert discrepancy(record, "volume-not-a-presentation").message == (
         "350 mL is not a whole number of the unit's mannitol-20 stock (250 mL, 500 mL)"
@@ -134,6 +134,18 @@ def test_central_only_agent_with_no_line_named_is_warned(demo) -> None:
     assert discrepancy(record, "line-not-stated").message == (
         "nacl-23.4 is for a central line only and the order names no line"
     )
+
+
+def test_agent_above_the_peripheral_limit_with_no_line_named_is_warned(demo) -> None:
+    # Mannitol 20 %: 200 g/L / 182.17 g/mol = 1098 mOsm/L, above the demo's peripheral limit of 900.
+    record = verify(demo, agent="mannitol-20", volume="250", duration="20")
+    assert codes(record) == {"line-not-stated": "warn"}
+    assert discrepancy(record, "line-not-stated").message == (
+        "mannitol-20 (1098 mOsm/L) is above the peripheral-line limit of 900 mOsm/L and the order names no line"
+    )
+    # 0.9 % saline (308 mOsm/L) needs no line named.
+    saline = verify(demo, agent="nacl-0.9", volume="1000", duration="60")
+    assert codes(saline) == {}
 
 
 def test_rate_too_fast_from_the_duration_is_refused(demo) -> None:

@@ -141,6 +141,7 @@ def test_record_text_names_who_when_what_and_the_decision(demo) -> None:
         agent="mannitol-20",
         volume="350",
         duration="20",
+        line="central",
         stated_dose="1g/kg",
         accept={"volume-not-a-presentation": "drawn from a 500 mL bag"},
     )
@@ -149,8 +150,8 @@ def test_record_text_names_who_when_what_and_the_decision(demo) -> None:
     assert lines[0] == ("osmodose verification  [RELEASED WITH ACCEPTED WARNINGS] every warning accepted with a reason")
     assert lines[1] == "verified by AB at 2026-12-02T08:30:00+01:00 with osmodose 0.1.0"
     assert lines[2].startswith("formulary: Larkspur Point 7N neuro ICU (fictional demo unit) v2026-12-demo sha256 ")
-    assert "order as written: agent mannitol-20, volume 350, duration 20, stated-dose 1g/kg" in lines
-    assert "  read as: mannitol-20 350 mL over 20 min, no line named; stated dose 1 g/kg" in lines
+    assert "order as written: agent mannitol-20, volume 350, duration 20, line central, stated-dose 1g/kg" in lines
+    assert "  read as: mannitol-20 350 mL over 20 min, central line; stated dose 1 g/kg" in lines
     assert "  accepted by AB: volume-not-a-presentation: drawn from a 500 mL bag" in lines
     # The recomputation is the check report's own wording.
     assert "    solute 70.00 g (1.00 g/kg)   sodium 0.0 mmol (0.00 mmol/kg)   osmoles 384 mOsm" in lines

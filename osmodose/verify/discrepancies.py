@@ -14,9 +14,10 @@ volume (`run_check`) is the truth the order will deliver.  Severities:
   chosen so that every 10-fold error is refused).
 * A volume that is no whole number of the unit's bags or vials is a **warn**:
   a part bag is often meant (350 mL drawn from 500 mL), but it is worth a look.
-* A central-only agent whose order names no line, or an agent with a
-  maximum rate whose order gives neither duration nor rate, is a **warn**:
-  the check cannot judge what the order does not say.
+* An order naming no line for a central-only agent or for one above the
+  peripheral osmolarity limit, or giving neither duration nor rate for an
+  agent with a maximum rate, is a **warn**: the check cannot judge what the
+  order does not say.
 
 A rate above the agent's maximum and a central-only agent ordered peripheral
 are the check's own refusals (`rate-too-fast`, `central-line-only`) and are
@@ -97,7 +98,7 @@ def find_discrepancies(order: Order, result: CheckResult, agent: Agent, limits: 
         _stated_rate(order, tolerance),
         _stated_sodium(order, result, agent, limits),
         _presentation(order, agent),
-        _line(order, agent),
+        _line(order, agent, limits),
         _duration(order, agent),
     ]
     items = [d for d in found if d is not None]
@@ -237,10 +238,20 @@ def _presentation(order: Order, agent: Agent) -> Discrepancy | None:
     )
 
 
-def _line(order: Order, agent: Agent) -> Discrepancy | None:
-    if order.line is not None or agent.route != "central":
+def _line(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
+    """The line decides two of the check's rules; an order that names none cannot be judged on them."""
+    if order.line is not None:
         return None
-    message = f"{agent.id} is for a central line only and the order names no line"
+    if agent.route == "central":
+        message = f"{agent.id} is for a central line only and the order names no line"
+    else:
+        peripheral_limit = limits.get("peripheral_osmolarity_warn")
+        if peripheral_limit is None or agent.osmolarity_mosm_l <= peripheral_limit:
+            return None
+        message = (
+            f"{agent.id} ({agent.osmolarity_mosm_l:.0f} mOsm/L) is above the peripheral-line limit of "
+            f"{peripheral_limit:g} mOsm/L and the order names no line"
+        )
     return Discrepancy(code=LINE_NOT_STATED, severity="warn", message=message, stated=None, recomputed=None, unit="")
 
 

@@ -40,6 +40,8 @@ except ImportError:  # pragma: no cover - Windows
 GENESIS_SHA256 = "0" * 64
 _LINE = re.compile(rb'^\{"sha256":"([0-9a-f]{64})","entry":(\{.*\})\}$')
 _CHUNK = 1 << 16
+#: Windows translates newlines in files opened without O_BINARY; the hashes are of exact bytes.
+_BINARY = getattr(os, "O_BINARY", 0)
 
 
 class LogEntry(BaseModel):
@@ -270,7 +272,7 @@ def _set_aside(path: Path, fd: int, start: int) -> None:
     size = os.fstat(fd).st_size
     os.lseek(fd, start, os.SEEK_SET)
     fragment = _read_exactly(fd, size - start)
-    side = os.open(f"{path}.incomplete", os.O_WRONLY | os.O_CREAT | os.O_APPEND, 0o600)
+    side = os.open(f"{path}.incomplete", os.O_WRONLY | os.O_CREAT | os.O_APPEND | _BINARY, 0o600)
     try:
         _write_all(side, fragment + b"\n")
         os.fsync(side)
@@ -286,7 +288,7 @@ def append_record(path: Path | str, record: VerificationRecord) -> tuple[LogEntr
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         created = not path.exists()
-        fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_APPEND, 0o600)
+        fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_APPEND | _BINARY, 0o600)
     except OSError as error:
         raise LogError(path, f"cannot be opened: {error.strerror or type(error).__name__}") from None
     try:
