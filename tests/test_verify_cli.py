@@ -193,3 +193,16 @@ def test_verify_through_a_real_subprocess(tmp_path) -> None:
     assert done.returncode == 4, done.stderr
     assert "[REFUSE] rate-too-fast: rate 360 mL/h is faster than the agent's maximum of 180 mL/h" in done.stdout
     assert run_cli("log", "verify", "--log", str(log)).returncode == 0
+
+
+def test_log_verify_notes_fragments_set_aside(tmp_path, capsys) -> None:
+    log = tmp_path / "log.jsonl"
+    main(verify_args(log, "--agent", "nacl-0.9", "--volume", "500"))
+    with log.open("ab") as handle:
+        handle.write(b'{"sha256":"12')
+    main(verify_args(log, "--agent", "nacl-0.9", "--volume", "500"))
+    capsys.readouterr()
+    assert main(["log", "verify", "--log", str(log)]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0] == f"note: fragments of interrupted writes were set aside in {log}.incomplete"
+    assert lines[1].startswith(f"log {log}: 2 records, chain intact")

@@ -219,3 +219,38 @@ def test_reader_never_crashes_on_any_bytes(tmp_path_factory, records, data: byte
     # Every line ends with its newline, so bytes after it cannot touch the records before.
     assert report.records >= keep
     assert [e.entry.sequence for e in readout.entries][:keep] == list(range(1, keep + 1))
+
+
+def test_a_file_that_is_no_log_is_not_cut(tmp_path, records) -> None:
+    path = tmp_path / "notes.txt"
+    path.write_bytes(b"shift notes, no newline at the end")
+    with pytest.raises(LogError) as caught:
+        append_record(path, records[0])
+    assert str(caught.value) == (
+        f"log {path}: does not end with a complete record and its last line is no record: "
+        "is it a verification log? (this verification was not saved)"
+    )
+    assert path.read_bytes() == b"shift notes, no newline at the end"
+
+
+def test_a_file_whose_last_line_is_no_record_is_not_appended_to(tmp_path, records) -> None:
+    path = tmp_path / "notes.txt"
+    path.write_bytes(b"line one\nline two\n")
+    with pytest.raises(LogError):
+        append_record(path, records[0])
+    assert path.read_bytes() == b"line one\nline two\n"
+
+
+def test_tail_is_found_across_read_chunks(tmp_path, records, monkeypatch) -> None:
+    # With 64-byte chunks each record (several kB) spans many reads backwards.
+    import osmodose.verify.log as log_module
+
+    monkeypatch.setattr(log_module, "_CHUNK", 64)
+    path = tmp_path / "log.jsonl"
+    write_log(path, records)
+    with path.open("ab") as handle:
+        handle.write(b'{"sha256":"9')
+    append_record(path, records[0])
+    readout = read_log(path)
+    assert [e.entry.sequence for e in readout.entries] == [1, 2, 3, 4, 5, 6]
+    assert verify_chain(readout).intact

@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from pathlib import Path
 
 from osmodose.cli.exit_codes import INVALID, OK
 
@@ -59,6 +60,9 @@ def run_verify(args: argparse.Namespace) -> int:
 
     readout = _readout(args)
     report = verify_chain(readout, args.expect)
+    aside = Path(f"{report.path}.incomplete")
+    if aside.exists():
+        print(f"note: fragments of interrupted writes were set aside in {aside}")
     if report.intact:
         text = f"log {report.path}: {report.records} record{'s' if report.records != 1 else ''}, chain intact"
         if report.head is not None:

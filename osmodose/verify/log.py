@@ -38,6 +38,7 @@ except ImportError:  # pragma: no cover - Windows
     fcntl = None  # type: ignore[assignment]
 
 GENESIS_SHA256 = "0" * 64
+_PREFIX = b'{"sha256":"'
 _LINE = re.compile(rb'^\{"sha256":"([0-9a-f]{64})","entry":(\{.*\})\}$')
 _CHUNK = 1 << 16
 #: Windows translates newlines in files opened without O_BINARY; the hashes are of exact bytes.
@@ -267,6 +268,18 @@ def _write_all(fd: int, data: bytes) -> None:
         view = view[written:]
 
 
+def _check_fragment(path: Path, fd: int, start: int) -> None:
+    """Refuse to cut a file whose unfinished last line is no record: it is probably not a log."""
+    os.lseek(fd, start, os.SEEK_SET)
+    head = _read_exactly(fd, len(_PREFIX))
+    if not (head.startswith(_PREFIX) or _PREFIX.startswith(head)):
+        raise LogError(
+            path,
+            "does not end with a complete record and its last line is no record: "
+            "is it a verification log? (this verification was not saved)",
+        )
+
+
 def _set_aside(path: Path, fd: int, start: int) -> None:
     """Move an incomplete last line to PATH.incomplete, then cut the log back to its last complete line."""
     size = os.fstat(fd).st_size
@@ -295,6 +308,7 @@ def append_record(path: Path | str, record: VerificationRecord) -> tuple[LogEntr
         _lock(fd)
         complete_end, last = _tail(fd)
         if os.fstat(fd).st_size > complete_end:
+            _check_fragment(path, fd, complete_end)
             _set_aside(path, fd, complete_end)
         if last is None:
             sequence, previous = 1, GENESIS_SHA256
