@@ -254,3 +254,14 @@ def test_tail_is_found_across_read_chunks(tmp_path, records, monkeypatch) -> Non
     readout = read_log(path)
     assert [e.entry.sequence for e in readout.entries] == [1, 2, 3, 4, 5, 6]
     assert verify_chain(readout).intact
+
+
+def test_repeated_record_is_named(tmp_path, records) -> None:
+    path = tmp_path / "log.jsonl"
+    write_log(path, records[:3])
+    lines = lines_of(path)
+    put_lines(path, [lines[0], lines[1], lines[1], lines[2]])
+    report = verify_chain(read_log(path))
+    assert report.first_problem is not None
+    assert report.first_problem.message == "line 3 holds record 2 again or out of place (expected record 3)"
+    assert len(report.problems) == 1

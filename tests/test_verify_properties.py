@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
+import contextlib
+import io
 import json
 
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
+from osmodose.cli.main import main
 from osmodose.errors import InputError
 from osmodose.inputs import parse_check_request
 from osmodose.verify import make_acceptance, parse_acceptance, parse_order, verify_order
@@ -161,3 +164,28 @@ def test_decision_rules_over_any_findings(found, data) -> None:  # type: ignore[
         assert decision.outcome == "released"
     assert {a.code for a in decision.accepted} == warned & set(chosen)
     assert {n.code for n in decision.not_accepted} == refused & set(chosen)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(patient=patient_fields, order=order_fields, accepted=accepts)
+def test_random_orders_never_crash_the_verify_command(tmp_path_factory, patient, order, accepted) -> None:  # type: ignore[no-untyped-def]
+    log = tmp_path_factory.mktemp("cli") / "log.jsonl"
+    argv = ["verify", "--initials", "AB", "--log", str(log)]
+    for name, value in [*patient.items(), *order.items()]:
+        if value is not None:
+            argv += [f"--{name}={value}"]
+    for code, reason in accepted:
+        argv += [f"--accept={code}={reason}"]
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        try:
+            status = main(argv)
+        except SystemExit as stopped:  # argparse: a required option left out
+            status = stopped.code
+    assert status in (0, 2, 3, 4)
+    assert "Traceback" not in err.getvalue()
+    if status == 2:
+        assert err.getvalue().startswith("osmodose")
+        assert not log.exists()
+    else:
+        assert log.is_file()
