@@ -129,3 +129,18 @@ class EpisodeFileError(OsmodoseError):
         self.path = Path(path)
         self.problem = problem
         super().__init__(f"episode {self.path}: {problem}")
+
+
+class LogError(OsmodoseError):
+    """The verification log cannot be read or appended to.
+
+    Names the file and, when known, the line; a verification whose record
+    cannot be appended is reported as not saved, never shown as done.
+    """
+
+    def __init__(self, path: Path | str, problem: str, line: int | None = None) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        self.line = line
+        where = str(self.path) + (f":{line}" if line is not None else "")
+        super().__init__(f"log {where}: {problem}")

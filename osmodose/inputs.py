@@ -227,7 +227,7 @@ def _dose_request(given: dict[str, object], dose_mode: DoseMode | None) -> DoseR
         return DoseRequest(
             agent_id=agent_id, mode="target-rise", amount=rise, unit="mmol/L", duration_min=duration, text=str(raw)
         )
-    return _parse_dose(agent_id, raw, duration)
+    return parse_dose(agent_id, raw, duration)
 
 
 _DOSE_ACCEPTED = "g, mL, mmol or mOsm, absolute or per kg (1 g/kg, 5 mL/kg, 50 g, 120 mmol)"
@@ -239,12 +239,17 @@ _ABSOLUTE_UNITS: tuple[tuple[str, DoseUnit], ...] = (
 )
 
 
-def _parse_dose(agent_id: str, raw: object, duration: float | None) -> DoseRequest:
+def parse_dose(agent_id: str, raw: object, duration: float | None = None, field: str = "dose") -> DoseRequest:
+    """A dose as typed ("1 g/kg", "50 g", "120 mmol"); `field` names it in errors.
+
+    Verification reads the prescriber's stated dose with the same parser as
+    --dose, so both accept and reject exactly the same text.
+    """
     text = str(raw).strip()
     if isinstance(raw, (int, float)) or text.replace(".", "", 1).isdigit():
-        raise InputError("dose", raw, "has no unit", _DOSE_ACCEPTED)
+        raise InputError(field, raw, "has no unit", _DOSE_ACCEPTED)
     quantity: Quantity = parse_quantity(
-        "dose", text, "g", ("g", "mL", "mmol", "mOsm", "g/kg", "mL/kg", "mmol/kg", "mOsm/kg")
+        field, text, "g", ("g", "mL", "mmol", "mOsm", "g/kg", "mL/kg", "mmol/kg", "mOsm/kg")
     )
     per_kg = is_per_mass(quantity)
     absolute = (quantity * ureg.kilogram) if per_kg else quantity
@@ -253,9 +258,9 @@ def _parse_dose(agent_id: str, raw: object, duration: float | None) -> DoseReque
             amount = float(absolute.to(unit).magnitude)
             break
     else:
-        raise InputError("dose", raw, "is in the wrong unit", _DOSE_ACCEPTED)
+        raise InputError(field, raw, "is in the wrong unit", _DOSE_ACCEPTED)
     if amount <= 0:
-        raise InputError("dose", raw, "is not above zero", _DOSE_ACCEPTED)
+        raise InputError(field, raw, "is not above zero", _DOSE_ACCEPTED)
     return DoseRequest(
         agent_id=agent_id, mode="dose", amount=amount, unit=unit, per_kg=per_kg, duration_min=duration, text=text
     )

@@ -24,6 +24,8 @@ SUBCOMMANDS: tuple[str, ...] = (
     "osmodose.cli.check_cmd",
     "osmodose.cli.formulary_cmd",
     "osmodose.cli.course_cmd",
+    "osmodose.cli.verify_cmd",
+    "osmodose.cli.log_cmd",
 )
 
 

@@ -69,6 +69,8 @@ class LimitsTable(BaseModel):
     """Infusate osmolarity above which a peripheral line is warned; default 900 mOsm/L."""
     dose_tolerance: str | None = None
     """Accepted difference between a stated and a recomputed dose; default "10 %"."""
+    sodium_tolerance: str | None = None
+    """Accepted difference between a stated expected sodium and the projected one; default 2 mmol/L."""
     lab_max_age: str | None = None
     """Age of labs beyond which they are too old to dose on; default "6 h"."""
     icp_treat_above: str | None = None

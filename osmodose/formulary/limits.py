@@ -96,6 +96,14 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
         "common practice (no single source)",
         "largest accepted difference between a stated dose and the recomputed one",
     ),
+    "sodium_tolerance": LimitSpec(
+        "mmol/L",
+        _CONC,
+        2.0,
+        "common practice (no single source): sodium is reported to 1 mmol/L and repeat "
+        "measurements commonly differ by 1-2 mmol/L",
+        "largest accepted difference between a stated expected sodium and the projected one",
+    ),
     "lab_max_age": LimitSpec(
         "h",
         ("h",),

@@ -1,0 +1,31 @@
+"""Malformed quantity text is an InputError naming the field, never a traceback."""
+
+from __future__ import annotations
+
+import pytest
+
+from osmodose.errors import InputError
+from osmodose.units import parse_quantity
+
+
+@pytest.mark.parametrize(
+    ("typed", "problem"),
+    [
+        ("1 mL/", "is not a quantity osmodose can read"),  # a dangling operator: pint asserts
+        ("4-", "is not a quantity osmodose can read"),
+        (":", "is not a quantity osmodose can read"),
+        ("1/0 mL", "is not a quantity osmodose can read"),  # pint evaluates the arithmetic
+    ],
+)
+def test_malformed_quantity_text_is_an_input_error(typed: str, problem: str) -> None:
+    with pytest.raises(InputError) as caught:
+        parse_quantity("volume", typed, "mL")
+    assert str(caught.value) == f"volume: {typed} {problem} (accepted: mL)"
+
+
+@pytest.mark.parametrize("typed", ["7^7^5", "6**666 mL"])
+def test_number_too_large_for_a_float_is_an_input_error(typed: str) -> None:
+    # 7^7^5 is an integer of about 10^14000: no float holds it.
+    with pytest.raises(InputError) as caught:
+        parse_quantity("volume", typed, "mL")
+    assert str(caught.value) == f"volume: {typed} is not a finite number (accepted: a number in mL)"
