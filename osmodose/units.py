@@ -52,9 +52,21 @@ Quantity = pint.Quantity
 _PERCENT_WV = re.compile(r"%\s*(?:w\s*/\s*v|\(\s*w\s*/\s*v\s*\))", re.IGNORECASE)
 _BARE_PERCENT = re.compile(r"%")
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$")
+_LEADING_NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+_EXPONENT = re.compile(r"(?:\*\*|\^)\s*[+-]?\d+")
 
-# The errors pint's parser can raise for text that is not a unit expression.
-_PARSE_ERRORS = (pint.PintError, ValueError, TypeError, SyntaxError, AttributeError, tokenize.TokenError)
+# The errors pint's parser can raise for text that is not a unit expression
+# (its tokenizer asserts on a dangling operator such as "108 mg/"; "1 g/0 kg" divides by zero).
+_PARSE_ERRORS = (
+    pint.PintError,
+    ValueError,
+    TypeError,
+    SyntaxError,
+    AttributeError,
+    tokenize.TokenError,
+    AssertionError,
+    ArithmeticError,
+)
 
 
 def dimension_of(units: str) -> pint.util.UnitsContainer:
@@ -107,6 +119,7 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
         raise InputError(field, "", "is empty", f"a number in {hint}")
     if _NUMBER.match(text):
         return Q_(float(text), default_unit)
+    _check_shape(field, raw, text, default_unit, hint)
     text = _PERCENT_WV.sub(" percent_wv", text)
     if percent_is_wv:
         text = _BARE_PERCENT.sub(" percent_wv", text)
@@ -118,6 +131,17 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
         # A plain number written as an expression ("2*3") has no unit.
         raise InputError(field, raw, "is not a quantity osmodose can read", hint)
     return parsed
+
+
+def _check_shape(field: str, raw: str, text: str, default_unit: str, hint: str) -> None:
+    """One number, then a unit: pint would read "7,5 kg" as 75 kg, "1 500 mL" as 500 mL and "kg" as 1 kg."""
+    if "," in text:
+        raise InputError(field, raw, "has a comma", f"a number with a decimal point, e.g. 7.5 {default_unit}")
+    number = _LEADING_NUMBER.match(text)
+    if number is None:
+        raise InputError(field, raw, "does not start with a number", f"a number in {hint}")
+    if re.search(r"\d", _EXPONENT.sub("", text[number.end() :])):
+        raise InputError(field, raw, "has more than one number", f"one number and a unit, e.g. 7.5 {default_unit}")
 
 
 def is_per_mass(quantity: pint.Quantity) -> bool:
