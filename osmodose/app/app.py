@@ -41,7 +41,7 @@ class OsmodoseApp(App[None]):
         if isinstance(self.screen, HelpScreen):
             self.pop_screen()
         else:
-            self.push_screen(HelpScreen([self.BINDINGS, MainScreen.BINDINGS]))
+            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS]))
 
     def action_formulary(self) -> None:
         if isinstance(self.screen, FormularyScreen):

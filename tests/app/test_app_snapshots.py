@@ -10,6 +10,7 @@ from collections.abc import Callable
 
 import pytest
 from textual.pilot import Pilot
+from textual.widgets import Input
 
 from tests.app.driving import MANNITOL, REFUSE, SALINE, fill, make_app
 
@@ -17,6 +18,8 @@ from tests.app.driving import MANNITOL, REFUSE, SALINE, fill, make_app
 def filled(fields: dict[str, str]) -> Callable[[Pilot], object]:
     async def run_before(pilot: Pilot) -> None:
         await fill(pilot, fields)
+        for box in pilot.app.screen.query(Input):
+            box.cursor_blink = False  # a blinking cursor is a clock: keep it steadily on
         pilot.app.screen.field("weight").control.focus()  # type: ignore[attr-defined]
         await pilot.pause()
 

@@ -11,6 +11,8 @@ from textual.screen import Screen
 from textual.widgets import Footer, Label, Static
 
 from osmodose.app.help_text import FIGURE_HELP, FORM_KEYS
+from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.formulary.model import Formulary
 from osmodose.results import CAUTION
 
 
@@ -25,11 +27,13 @@ class HelpScreen(Screen[None]):
 
     BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "app.pop_screen", "back")]
 
-    def __init__(self, key_lists: list[list[BindingType]]) -> None:
+    def __init__(self, formulary: Formulary, key_lists: list[list[BindingType]]) -> None:
         super().__init__(id="help-screen")
+        self.formulary = formulary
         self.keys = key_rows(key_lists)
 
     def compose(self) -> ComposeResult:
+        yield FormularyBar(self.formulary)
         with VerticalScroll(id="help-body"):
             yield Static("keys", classes="help-title")
             for key, text in self.keys:
