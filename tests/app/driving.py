@@ -66,7 +66,7 @@ async def type_in_form_order(pilot: Pilot, fields: dict[str, str]) -> None:
     """Fill the form with the keyboard only, from the first field on, Tab by Tab.
 
     Typed fields get each character as a key press; a choice is opened with
-    enter, found by typing the start of its shown name and taken with enter.
+    enter, found by typing the fewest letters of its shown name and taken with enter.
     Fields not in `fields` are passed over with Tab, as a user would.
     """
     screen = main_screen(pilot.app)  # type: ignore[arg-type]
@@ -78,10 +78,19 @@ async def type_in_form_order(pilot: Pilot, fields: dict[str, str]) -> None:
         if text is not None and isinstance(field.control, Input):
             await pilot.press(*text)
         elif text is not None:
-            shown = next(label for label, value in field.choices if value == text)
-            await pilot.press("enter", *shown.split(" ")[0], "enter")
+            await pilot.press("enter", *_shortest_prefix(field.choices, text), "enter")
         assert field.value == (text or field.value), f"{spec.key}: typed {text!r}, field holds {field.value!r}"
         await pilot.press("tab")
+
+
+def _shortest_prefix(choices: tuple[tuple[str, str], ...], value: str) -> str:
+    """The fewest letters of a choice's shown name that find it and nothing else."""
+    shown = next(label for label, v in choices if v == value)
+    others = [label for label, v in choices if v != value]
+    for n in range(1, len(shown) + 1):
+        if not any(label.startswith(shown[:n]) for label in others):
+            return shown[:n]
+    return shown
 
 
 async def fill(pilot: Pilot, fields: dict[str, str]) -> None:

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from osmodose.app.view import SYMBOL, banner_text, evaluate
 from osmodose.formulary import Formulary
@@ -45,3 +47,17 @@ def test_status_line_has_its_own_word_and_symbol(demo: Formulary, case: dict[str
 
 def test_every_state_has_a_different_symbol() -> None:
     assert len(set(SYMBOL.values())) == len(SYMBOL)
+
+
+TYPED = st.text(alphabet="0123456789 .,+-*/^()%eEgkmLlbdhminOsuμ", max_size=12)
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(key=st.sampled_from(["weight", "age", "height", "sodium", "glucose", "bun", "osmolality", "amount", "duration"]),
+       typed=TYPED)  # fmt: skip
+def test_any_half_typed_text_gives_a_result_or_a_marked_field(demo: Formulary, key: str, typed: str) -> None:
+    # The app reads the form on every key press: no text may raise past InputError.
+    outcome = evaluate({**SALINE, key: typed}, demo)
+    assert (outcome.result is None) == (outcome.error is not None)
+    if outcome.error is not None:
+        assert outcome.field is not None
