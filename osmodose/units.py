@@ -52,20 +52,22 @@ Quantity = pint.Quantity
 _PERCENT_WV = re.compile(r"%\s*(?:w\s*/\s*v|\(\s*w\s*/\s*v\s*\))", re.IGNORECASE)
 _BARE_PERCENT = re.compile(r"%")
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$")
+_LEADING_NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+_EXPONENT = re.compile(r"(?:\*\*|\^)\s*[+-]?\d+")
 
 # The errors pint's parser can raise for text that is not a unit expression.  Its
 # evaluator asserts on a dangling operator ("1 mL/", "4-", ":"), and evaluates
-# arithmetic, so "1/0" and "6**666" raise ZeroDivisionError and OverflowError.
+# arithmetic, so "1/0" and "6**666" raise ZeroDivisionError and OverflowError
+# (both ArithmeticError).
 _PARSE_ERRORS = (
     pint.PintError,
     ValueError,
     TypeError,
     SyntaxError,
     AttributeError,
-    AssertionError,
-    ZeroDivisionError,
-    OverflowError,
     tokenize.TokenError,
+    AssertionError,
+    ArithmeticError,
 )
 
 
@@ -128,6 +130,7 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
         raise InputError(field, "", "is empty", f"a number in {hint}")
     if _NUMBER.match(text):
         return Q_(float(text), default_unit)
+    _check_shape(field, raw, text, default_unit, hint)
     text = _PERCENT_WV.sub(" percent_wv", text)
     if percent_is_wv:
         text = _BARE_PERCENT.sub(" percent_wv", text)
@@ -139,6 +142,17 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
         # A plain number written as an expression ("2*3") has no unit.
         raise InputError(field, raw, "is not a quantity osmodose can read", hint)
     return parsed
+
+
+def _check_shape(field: str, raw: str, text: str, default_unit: str, hint: str) -> None:
+    """One number, then a unit: pint would read "7,5 kg" as 75 kg, "1 500 mL" as 500 mL and "kg" as 1 kg."""
+    if "," in text:
+        raise InputError(field, raw, "has a comma", f"a number with a decimal point, e.g. 7.5 {default_unit}")
+    number = _LEADING_NUMBER.match(text)
+    if number is None:
+        raise InputError(field, raw, "does not start with a number", f"a number in {hint}")
+    if re.search(r"\d", _EXPONENT.sub("", text[number.end() :])):
+        raise InputError(field, raw, "has more than one number", f"one number and a unit, e.g. 7.5 {default_unit}")
 
 
 def is_per_mass(quantity: pint.Quantity) -> bool:

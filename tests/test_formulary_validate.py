@@ -98,8 +98,8 @@ ERROR_CASES = {
     "a dose limit that is not a quantity": (
         {18: 'dose_warn = "five mL/kg"'},
         [
-            "18: agents[1].dose_warn: 'five mL/kg' is not a quantity osmodose can read "
-            "(accepted: g/kg or mL/kg or mmol/kg or mOsm/kg)"
+            "18: agents[1].dose_warn: 'five mL/kg' does not start with a number "
+            "(accepted: a number in g/kg or mL/kg or mmol/kg or mOsm/kg)"
         ],
     ),
     "a dose limit that is an absolute volume": (

@@ -1,0 +1,53 @@
+"""The App: the formulary it was started with, the global keys and the screens."""
+
+from __future__ import annotations
+
+from typing import ClassVar
+
+from textual.app import App
+from textual.binding import Binding, BindingType
+
+from osmodose.app.screens.formulary import FormularyScreen
+from osmodose.app.screens.help import HelpScreen
+from osmodose.app.screens.main import MainScreen
+from osmodose.formulary.model import Formulary
+
+DARK, LIGHT = "textual-dark", "textual-light"
+
+
+class OsmodoseApp(App[None]):
+    """Opens on the check; help and the formulary table are screens over it."""
+
+    CSS_PATH = "osmodose.tcss"
+    TITLE = "osmodose"
+    # Every action is a key in the footer; a palette would be a second, hidden way in.
+    ENABLE_COMMAND_PALETTE = False
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("f1", "help", "help"),
+        Binding("f2", "formulary", "formulary"),
+        Binding("ctrl+t", "toggle_theme", "light/dark"),
+        Binding("ctrl+q", "quit", "quit"),
+    ]
+
+    def __init__(self, formulary: Formulary, theme: str = DARK) -> None:
+        super().__init__()
+        self.formulary = formulary
+        self.theme = theme
+
+    def get_default_screen(self) -> MainScreen:
+        return MainScreen(self.formulary)
+
+    def action_help(self) -> None:
+        if isinstance(self.screen, HelpScreen):
+            self.pop_screen()
+        else:
+            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS]))
+
+    def action_formulary(self) -> None:
+        if isinstance(self.screen, FormularyScreen):
+            self.pop_screen()
+        else:
+            self.push_screen(FormularyScreen(self.formulary))
+
+    def action_toggle_theme(self) -> None:
+        self.theme = LIGHT if self.current_theme.dark else DARK

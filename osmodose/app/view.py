@@ -1,0 +1,205 @@
+"""What the screen shows, as plain data: no textual here, so it is tested without a terminal.
+
+The form's fields, one evaluation of the typed text through the core
+(`parse_check_request` then `run_check`), and the text of each shown figure,
+formatted with the report's own `fmt`/`signed` so the screen and the saved
+summary round alike.  Nothing here computes a clinical figure.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+from osmodose.check import run_check
+from osmodose.errors import InputError
+from osmodose.formulary.model import Formulary
+from osmodose.inputs import DoseMode, parse_check_request
+from osmodose.report import STATUS_WORDS, fmt, signed
+from osmodose.results import CheckResult
+
+Panel = Literal["patient", "labs", "order"]
+
+#: The order field whose meaning is chosen by the dose-mode select.
+AMOUNT = "amount"
+DOSE_MODE = "dose-mode"
+DOSE_MODES: tuple[tuple[str, DoseMode], ...] = (
+    ("dose", "dose"),
+    ("volume", "volume"),
+    ("target Na change", "target-rise"),
+)
+AMOUNT_HINT: dict[str, str] = {
+    "dose": "1 g/kg, 5 mL/kg, 50 g",
+    "volume": "mL, or 0.25 L",
+    "target-rise": "mmol/L, e.g. 6 or -4",
+}
+
+#: Banner symbols: each status has its own word, colour and symbol.
+SYMBOL = {"ok": "✔", "warn": "▲", "refuse": "✖", "invalid": "?", "incomplete": "…"}
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    """One box of the paper form, in the order a checker fills it in."""
+
+    key: str
+    label: str
+    panel: Panel
+    hint: str = ""
+    choices: tuple[tuple[str, str], ...] = ()
+    """For a select: (shown, value) pairs; empty for a typed field."""
+    blank: str = ""
+    """For a select that may stay empty: what the empty choice says."""
+
+
+FIELDS: tuple[FieldSpec, ...] = (
+    FieldSpec("weight", "weight", "patient", "kg, or 176 lb"),
+    FieldSpec("age", "age", "patient", "years"),
+    FieldSpec("sex", "sex", "patient", choices=(("female", "female"), ("male", "male")), blank="choose"),
+    FieldSpec("height", "height", "patient", "cm (for Watson)"),
+    FieldSpec(
+        "tbw-method",
+        "TBW method",
+        "patient",
+        choices=(("fraction of weight", "fraction"), ("Watson", "watson")),
+        blank="default",
+    ),
+    FieldSpec("sodium", "sodium", "labs", "mmol/L"),
+    FieldSpec("potassium", "potassium", "labs", "mmol/L"),
+    FieldSpec("glucose", "glucose", "labs", "mmol/L or mg/dL"),
+    FieldSpec("urea", "urea", "labs", "mmol/L"),
+    FieldSpec("bun", "or BUN", "labs", "mg/dL"),
+    FieldSpec("ethanol", "ethanol", "labs", "mmol/L or mg/dL"),
+    FieldSpec("osmolality", "osmolality", "labs", "measured, mOsm/kg"),
+    FieldSpec("agent", "agent", "order", blank="no order"),
+    FieldSpec(DOSE_MODE, "asked as", "order", choices=tuple((shown, value) for shown, value in DOSE_MODES)),
+    FieldSpec(AMOUNT, "amount", "order", AMOUNT_HINT["dose"]),
+    FieldSpec("duration", "duration", "order", "min, or 2 h"),
+    FieldSpec(
+        "line", "line", "order", choices=(("central", "central"), ("peripheral", "peripheral")), blank="not stated"
+    ),
+)
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """One evaluation: a result, or the error that stops one (never both)."""
+
+    result: CheckResult | None
+    error: InputError | None = None
+    field: str | None = None
+    """The form field to mark: the one the error names, in the form's own keys."""
+    missing: bool = False
+    """True when a needed field is still empty (incomplete), False when one is wrong."""
+
+    @property
+    def state(self) -> str:
+        if self.result is not None:
+            return self.result.status
+        return "incomplete" if self.missing else "invalid"
+
+
+def evaluate(values: dict[str, str], formulary: Formulary) -> Outcome:
+    """Run the typed form through the core; any InputError becomes a marked field."""
+    mode: DoseMode = values.get(DOSE_MODE) or "dose"  # type: ignore[assignment]
+    fields: dict[str, object] = {k: v for k, v in values.items() if k not in (AMOUNT, DOSE_MODE)}
+    amount = (values.get(AMOUNT) or "").strip()
+    if amount:
+        fields[mode] = amount
+    try:
+        result = run_check(parse_check_request(fields, dose_mode=mode), formulary)
+    except InputError as error:
+        field, missing = _where(error, values, amount)
+        return Outcome(None, error, field, missing)
+    return Outcome(result)
+
+
+def _where(error: InputError, values: dict[str, str], amount: str) -> tuple[str, bool]:
+    """Which form field an error belongs to, and whether it is only missing."""
+    if error.field == "agent" and not amount:
+        return AMOUNT, True  # an agent is chosen but no amount typed yet
+    if error.field in ("dose", "volume", "target-rise"):
+        if not (values.get("agent") or "").strip():
+            return "agent", True
+        return AMOUNT, False
+    return error.field, error.value is None
+
+
+def banner_text(outcome: Outcome) -> str:
+    """The status line: symbol, word, and what it means."""
+    state = outcome.state
+    if outcome.result is None:
+        word = "INCOMPLETE" if outcome.missing else "NOT VALID"
+        return f"{SYMBOL[state]} {word}: {outcome.error}  (no results shown)"
+    text = f"{SYMBOL[state]} {STATUS_WORDS[state]}"
+    if outcome.result.dose is None:
+        text += "  (no order: labs only)"
+    return text
+
+
+#: (id, label) of the figures that need no order, in the order shown.
+PATIENT_FIGURES: tuple[tuple[str, str], ...] = (
+    ("tbw", "body water"),
+    ("calc-osm", "calculated osm"),
+    ("eff-osm", "effective osm"),
+    ("gap", "osmolar gap"),
+)
+#: (id, label) of the order's figures.
+DOSE_FIGURES: tuple[tuple[str, str], ...] = (
+    ("volume", "volume"),
+    ("rate", "rate"),
+    ("solute", "solute"),
+    ("sodium-load", "sodium"),
+    ("osmoles", "osmoles"),
+    ("na-per-litre", "Na per litre"),
+    ("projected-na", "projected Na"),
+)
+
+
+def patient_texts(result: CheckResult) -> dict[str, str]:
+    """Shown text of each figure that needs no order."""
+    p = result.patient
+    method = "Watson" if p.tbw_method == "watson" else "fraction"
+    return {
+        "tbw": f"{fmt(p.total_body_water_l, 'L')} ({method})",
+        "calc-osm": fmt(result.calculated_osmolality_mosm_kg, "mOsm/kg"),
+        "eff-osm": fmt(result.effective_osmolality_mosm_kg, "mOsm/kg"),
+        "gap": fmt(result.osmolar_gap_mosm_kg, "mOsm/kg"),
+    }
+
+
+def dose_texts(result: CheckResult) -> dict[str, str]:
+    """Shown text of each of the order's figures; empty when there is no order."""
+    dose = result.dose
+    if dose is None:
+        return {}
+    rate = "n/a (no duration)"
+    if dose.rate_ml_h is not None and dose.duration_min:
+        rate = f"{dose.rate_ml_h:.0f} mL/h over {dose.duration_min:g} min"
+    return {
+        "volume": f"{fmt(dose.volume_ml, 'mL')} ({fmt(dose.volume_ml_per_kg, 'mL/kg', 2)})",
+        "rate": rate,
+        "solute": f"{fmt(dose.solute_g, 'g', 2)} ({fmt(dose.solute_g_per_kg, 'g/kg', 2)})",
+        "sodium-load": f"{fmt(dose.sodium_mmol, 'mmol')} ({fmt(dose.sodium_mmol_per_kg, 'mmol/kg', 2)})",
+        "osmoles": fmt(dose.osmoles_mosm, "mOsm", 0),
+        "na-per-litre": signed(result.sodium_change_per_litre_mmol_l, "mmol/L"),
+        "projected-na": f"{fmt(result.projected_sodium_mmol_l, 'mmol/L')} "
+        f"({signed(result.projected_sodium_rise_mmol_l)})",
+    }
+
+
+def stock_rows(result: CheckResult) -> list[str]:
+    """The volume against each bag or vial size the agent is kept in."""
+    if result.dose is None:
+        return []
+    rows = []
+    for fit in result.dose.presentations:
+        text = f"{fit.containers} × {fit.size_ml:g} mL"
+        text += f", discard {fit.discard_ml:g} mL" if fit.discard_ml else ", none left over"
+        rows.append(text)
+    return rows or ["no presentations listed in the formulary"]
+
+
+def finding_rows(result: CheckResult) -> list[tuple[str, str]]:
+    """(severity, line) per finding, with the symbol and the word, refusals first."""
+    return [(x.severity, f"{SYMBOL[x.severity]} {x.severity.upper()} {x.code}: {x.message}") for x in result.findings]

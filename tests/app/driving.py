@@ -1,0 +1,114 @@
+"""Drive the real app as a user does: focus a field, type, open a choice list and pick."""
+
+from __future__ import annotations
+
+import asyncio
+import functools
+from collections.abc import Callable, Coroutine
+from typing import Any
+
+from textual.pilot import Pilot
+from textual.widgets import Input
+
+from osmodose.app.app import OsmodoseApp
+from osmodose.app.screens.main import MainScreen
+from osmodose.app.view import FIELDS
+from osmodose.formulary import demo_formulary_path, load_formulary
+
+# Invented patients for the app tests (demo data only).
+MANNITOL = {
+    "weight": "70",
+    "age": "45",
+    "sex": "male",
+    "sodium": "141",
+    "glucose": "6",
+    "urea": "5",
+    "osmolality": "300",
+    "agent": "mannitol-20",
+    "amount": "1 g/kg",
+    "duration": "20",
+}
+SALINE = {
+    "weight": "154 lb",
+    "age": "45",
+    "sex": "male",
+    "sodium": "128",
+    "potassium": "4",
+    "glucose": "108 mg/dL",
+    "bun": "14",
+    "osmolality": "270",
+    "agent": "nacl-3",
+    "dose-mode": "target-rise",
+    "amount": "6",
+    "duration": "2 h",
+    "line": "peripheral",
+}
+REFUSE = {**MANNITOL, "osmolality": "325"}
+#: The same cases as `osmodose check` options (the form's amount is --dose / --target-rise).
+MANNITOL_ARGS = ["--weight", "70", "--age", "45", "--sex", "male", "--sodium", "141", "--glucose", "6", "--urea", "5",
+                 "--osmolality", "300", "--agent", "mannitol-20", "--dose", "1 g/kg", "--duration", "20"]  # fmt: skip
+SALINE_ARGS = ["--weight", "154 lb", "--age", "45", "--sex", "male", "--sodium", "128", "--potassium", "4",
+               "--glucose", "108 mg/dL", "--bun", "14", "--osmolality", "270", "--agent", "nacl-3",
+               "--target-rise", "6", "--duration", "2 h", "--line", "peripheral"]  # fmt: skip
+
+
+def make_app(theme: str = "textual-dark") -> OsmodoseApp:
+    return OsmodoseApp(load_formulary(demo_formulary_path()), theme=theme)
+
+
+def main_screen(app: OsmodoseApp) -> MainScreen:
+    screen = app.screen
+    assert isinstance(screen, MainScreen)
+    return screen
+
+
+async def type_in_form_order(pilot: Pilot, fields: dict[str, str]) -> None:
+    """Fill the form with the keyboard only, from the first field on, Tab by Tab.
+
+    Typed fields get each character as a key press; a choice is opened with
+    enter, found by typing the fewest letters of its shown name and taken with enter.
+    Fields not in `fields` are passed over with Tab, as a user would.
+    """
+    screen = main_screen(pilot.app)  # type: ignore[arg-type]
+    assert pilot.app.focused is screen.field(FIELDS[0].key).control
+    for spec in FIELDS:
+        field = screen.field(spec.key)
+        assert pilot.app.focused is field.control, f"Tab should have reached {spec.key}"
+        text = fields.get(spec.key)
+        if text is not None and isinstance(field.control, Input):
+            await pilot.press(*text)
+        elif text is not None:
+            await pilot.press("enter", *_shortest_prefix(field.choices, text), "enter")
+        assert field.value == (text or field.value), f"{spec.key}: typed {text!r}, field holds {field.value!r}"
+        await pilot.press("tab")
+
+
+def _shortest_prefix(choices: tuple[tuple[str, str], ...], value: str) -> str:
+    """The fewest letters of a choice's shown name that find it and nothing else."""
+    shown = next(label for label, v in choices if v == value)
+    others = [label for label, v in choices if v != value]
+    for n in range(1, len(shown) + 1):
+        if not any(label.startswith(shown[:n]) for label in others):
+            return shown[:n]
+    return shown
+
+
+async def fill(pilot: Pilot, fields: dict[str, str]) -> None:
+    """Put each value in its field at once (the same Changed message typing sends), then let it settle."""
+    await pilot.pause()  # the screen is composed before the first value goes in
+    screen = main_screen(pilot.app)  # type: ignore[arg-type]
+    for key, text in fields.items():
+        screen.field(key).control.value = text
+    await pilot.pause()
+    for key, text in fields.items():
+        assert screen.field(key).value == text, key
+
+
+def sync(test: Callable[..., Coroutine[Any, Any, None]]) -> Callable[..., None]:
+    """Run an async test body with asyncio (no async plugin is installed); fixtures pass through."""
+
+    @functools.wraps(test)
+    def run(*args: Any, **kwargs: Any) -> None:
+        asyncio.run(test(*args, **kwargs))
+
+    return run

@@ -1,0 +1,186 @@
+"""Whole cases typed into the real app at 80x24 end with the same figures as `osmodose check --json`."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from osmodose.app.widgets.dose_panel import DosePanel
+from osmodose.app.widgets.figures import NOT_VALID, FigureValue
+from osmodose.app.widgets.findings import ChecksPanel
+from osmodose.app.widgets.status_banner import StatusBanner
+from osmodose.cli.main import main
+from tests.app.driving import (
+    MANNITOL,
+    MANNITOL_ARGS,
+    REFUSE,
+    SALINE,
+    SALINE_ARGS,
+    fill,
+    main_screen,
+    make_app,
+    sync,
+    type_in_form_order,
+)
+from tests.conftest import run_cli
+
+SIZE = (80, 24)
+
+
+def shown(screen: object, figure_id: str) -> str:
+    return screen.query_one(f"#fig-{figure_id}", FigureValue).text  # type: ignore[attr-defined]
+
+
+@sync
+async def test_mannitol_case_shows_the_figures_of_check_json(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["check", *MANNITOL_ARGS, "--json"]) == 0
+    expected = json.loads(capsys.readouterr().out)
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await type_in_form_order(pilot, MANNITOL)
+        screen = main_screen(app)
+        assert screen.outcome.result is not None
+        assert screen.outcome.result.to_json() == expected
+        dose = expected["dose"]
+        # Mannitol 20 % w/v is 200 g/L (label strength): 70 kg x 1 g/kg = 70 g; 70 / 200 = 0.350 L;
+        # 350 mL over 20 min = 350 x 3 = 1050 mL/h (worked by hand).
+        assert dose["volume_ml"] == pytest.approx(350.0)
+        assert shown(screen, "volume") == f"{dose['volume_ml']:.1f} mL ({dose['volume_ml_per_kg']:.2f} mL/kg)"
+        assert shown(screen, "volume") == "350.0 mL (5.00 mL/kg)"
+        assert shown(screen, "rate") == "1050 mL/h over 20 min"
+        assert shown(screen, "solute") == f"{dose['solute_g']:.2f} g ({dose['solute_g_per_kg']:.2f} g/kg)"
+        assert shown(screen, "osmoles") == f"{dose['osmoles_mosm']:.0f} mOsm"
+        assert shown(screen, "projected-na") == "n/a (n/a)"  # no sodium projection for mannitol
+        # 2 x 141 + 6 + 5 = 293 mOsm/kg; gap 300 - 293 = 7 (worked by hand).
+        assert (
+            shown(screen, "calc-osm") == f"{expected['calculated_osmolality_mosm_kg']:.1f} mOsm/kg" == "293.0 mOsm/kg"
+        )
+        assert shown(screen, "gap") == f"{expected['osmolar_gap_mosm_kg']:.1f} mOsm/kg" == "7.0 mOsm/kg"
+        assert shown(screen, "tbw") == f"{expected['patient']['total_body_water_l']:.1f} L (fraction)"
+        assert screen.query_one(DosePanel).stock == ["2 × 250 mL, discard 150 mL", "1 × 500 mL, discard 150 mL"]
+        assert screen.query_one(StatusBanner).text == "✔ OK: no limit crossed"
+        assert screen.query_one(ChecksPanel).lines == ["✔ OK: no limit crossed"]
+
+
+@sync
+async def test_hypertonic_saline_case_shows_the_figures_of_check_json_run_as_a_command() -> None:
+    done = run_cli("check", *SALINE_ARGS, "--json")
+    assert done.returncode == 3, done.stderr
+    expected = json.loads(done.stdout)
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, SALINE)
+        screen = main_screen(app)
+        assert screen.outcome.result is not None
+        assert screen.outcome.result.to_json() == expected
+        dose = expected["dose"]
+        # 154 lb = 69.85 kg, TBW 0.6 x 69.85 = 41.9 L; 3 % NaCl carries 513 mmol/L Na (label).
+        # Target +6: V = 6 x 41.9 / (513 - 128 - 6) = 0.663 L (mass balance, Chen S et al. Kidney360 2021).
+        assert dose["volume_ml"] == pytest.approx(6 * 0.6 * 154 * 0.45359237 / (513 - 128 - 6) * 1000)
+        assert shown(screen, "volume") == f"{dose['volume_ml']:.1f} mL ({dose['volume_ml_per_kg']:.2f} mL/kg)"
+        assert shown(screen, "rate") == f"{dose['rate_ml_h']:.0f} mL/h over 120 min"
+        assert (
+            shown(screen, "sodium-load") == f"{dose['sodium_mmol']:.1f} mmol ({dose['sodium_mmol_per_kg']:.2f} mmol/kg)"
+        )
+        assert shown(screen, "na-per-litre") == f"{expected['sodium_change_per_litre_mmol_l']:+.1f} mmol/L"
+        assert shown(screen, "projected-na") == (
+            f"{expected['projected_sodium_mmol_l']:.1f} mmol/L ({expected['projected_sodium_rise_mmol_l']:+.1f})"
+        )
+        assert shown(screen, "projected-na") == "134.0 mmol/L (+6.0)"
+        # glucose 108 mg/dL / 180.16 g/mol = 5.99 mmol/L; BUN 14 mg/dL / 28.01 = 5.0 mmol/L urea.
+        assert shown(screen, "calc-osm") == f"{expected['calculated_osmolality_mosm_kg']:.1f} mOsm/kg"
+        codes = [line.split(" ")[2].rstrip(":") for line in screen.query_one(ChecksPanel).lines]
+        assert codes == [f["code"] for f in expected["findings"]]
+        assert screen.query_one(StatusBanner).text.startswith("▲ WARN: ")
+        assert screen.query_one(DosePanel).border_title == "dose ▲ WARN"
+
+
+@sync
+async def test_refused_order_shows_refuse_word_symbol_and_colour() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, REFUSE)
+        screen = main_screen(app)
+        banner = screen.query_one(StatusBanner)
+        # Measured osmolality 325 is above the formulary's 320 mOsm/kg refuse limit (hold mannitol
+        # above 320: Hinson HE et al. J Intensive Care Med 2013).
+        assert banner.text == "✖ REFUSE: a hard limit is crossed; do not give as ordered"
+        assert banner.has_class("-refuse") and not banner.has_class("-ok")
+        assert screen.query_one("#results").has_class("-refuse")
+        assert screen.query_one(DosePanel).border_title == "dose ✖ REFUSE"
+        assert screen.query_one(ChecksPanel).lines[0].startswith("✖ REFUSE osmolality-high: ")
+
+
+@sync
+async def test_implausible_sodium_is_marked_at_its_field_and_no_figure_stays() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, MANNITOL)
+        screen = main_screen(app)
+        assert shown(screen, "volume") == "350.0 mL (5.00 mL/kg)"
+        await fill(pilot, {"sodium": "1400"})
+        sodium = screen.field("sodium")
+        assert sodium.has_class("-bad")
+        assert sodium.message == "✖ sodium: 1400 is outside the plausible range (accepted: 90 to 200 mmol/L)"
+        assert screen.outcome.result is None
+        assert {v.text for v in screen.query(FigureValue)} == {NOT_VALID}
+        assert screen.query_one(StatusBanner).text.startswith("? NOT VALID: sodium: 1400 is outside")
+        assert screen.query_one(DosePanel).border_title == "dose"
+        assert [f.spec.key for f in screen.query("FormField") if f.has_class("-bad")] == ["sodium"]
+
+
+@sync
+async def test_unreadable_unit_is_marked_at_the_amount_field() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, {**MANNITOL, "amount": "1 g/kk"})
+        screen = main_screen(app)
+        amount = screen.field("amount")
+        assert amount.has_class("-bad")
+        assert amount.message.startswith("✖ dose: 1 g/kk ")
+        assert screen.query_one(StatusBanner).has_class("-invalid")
+
+
+@sync
+async def test_unreachable_target_rise_is_marked_at_the_amount_field() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        # Glucose 5 % has no sodium, so no volume of it raises sodium (the infusate is below serum).
+        await fill(pilot, {**SALINE, "agent": "glucose-5"})
+        amount = main_screen(app).field("amount")
+        assert amount.has_class("-bad")
+        assert amount.message.startswith("✖ target-rise: 6 cannot be reached with glucose-5: ")
+
+
+@sync
+async def test_empty_form_asks_for_the_first_required_field_without_marking_it_wrong() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE):
+        screen = main_screen(app)
+        weight = screen.field("weight")
+        assert weight.has_class("-missing") and not weight.has_class("-bad")
+        assert weight.message == "… needed: weight: is required"
+        assert screen.query_one(StatusBanner).text == "… INCOMPLETE: weight: is required  (no results shown)"
+
+
+@sync
+async def test_amount_without_agent_asks_for_the_agent() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        order = {k: v for k, v in MANNITOL.items() if k != "agent"}
+        await fill(pilot, order)
+        screen = main_screen(app)
+        assert screen.outcome.field == "agent" and screen.outcome.missing
+        assert screen.field("agent").has_class("-missing")
+
+
+@sync
+async def test_labs_without_order_say_no_order() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, {k: v for k, v in MANNITOL.items() if k not in ("agent", "amount", "duration")})
+        screen = main_screen(app)
+        assert screen.query_one(StatusBanner).text == "✔ OK: no limit crossed  (no order: labs only)"
+        assert screen.query_one(DosePanel).order_text == "no order entered"
+        assert shown(screen, "calc-osm") == "293.0 mOsm/kg"

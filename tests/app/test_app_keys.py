@@ -1,0 +1,142 @@
+"""Every action is a key shown in the footer: help, formulary, save, copy, new case, light/dark."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from textual.binding import Binding
+from textual.widgets import DataTable, Input
+from textual.widgets._footer import FooterKey
+
+from osmodose.app.app import OsmodoseApp
+from osmodose.app.help_text import FIGURE_HELP
+from osmodose.app.screens.formulary import FormularyScreen
+from osmodose.app.screens.help import HelpScreen
+from osmodose.app.screens.main import MainScreen
+from osmodose.app.screens.save import SaveScreen
+from osmodose.app.view import DOSE_FIGURES, PATIENT_FIGURES
+from osmodose.check import run_check
+from osmodose.formulary import Formulary
+from osmodose.formulary.summary import agent_rows, limit_rows
+from osmodose.inputs import parse_check_request
+from osmodose.report import render_text
+from tests.app.driving import MANNITOL, MANNITOL_ARGS, fill, main_screen, make_app, sync
+
+SIZE = (80, 24)
+ACTIONS = [b for b in OsmodoseApp.BINDINGS + MainScreen.BINDINGS if isinstance(b, Binding)]
+
+
+def mannitol_summary(demo: Formulary) -> str:
+    fields = {MANNITOL_ARGS[i][2:]: MANNITOL_ARGS[i + 1] for i in range(0, len(MANNITOL_ARGS), 2)}
+    return render_text(run_check(parse_check_request(fields), demo))
+
+
+@sync
+async def test_every_action_is_a_described_key_in_the_footer() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        shown = {(k.key, k.description) for k in app.screen.query(FooterKey)}
+        assert {(b.key, b.description) for b in ACTIONS} <= shown
+        assert all(b.show and b.description for b in ACTIONS)
+
+
+@sync
+async def test_help_lists_every_key_and_every_figure() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f1")
+        assert isinstance(app.screen, HelpScreen)
+        assert {(b.key, b.description) for b in ACTIONS} <= set(app.screen.keys)
+        named = {name for name, _ in FIGURE_HELP}
+        for _, label in PATIENT_FIGURES + DOSE_FIGURES:
+            assert label in named or any(label in name for name in named), label
+        await pilot.press("escape")
+        assert isinstance(app.screen, MainScreen)
+
+
+@sync
+async def test_formulary_screen_shows_the_agent_and_limit_tables(demo: Formulary) -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f2")
+        screen = app.screen
+        assert isinstance(screen, FormularyScreen)
+        agents = screen.query_one("#agents-table", DataTable)
+        assert agents.row_count == len(agent_rows(demo))
+        assert [agents.get_row_at(i)[0] for i in range(agents.row_count)] == [a.id for a in demo.agents]
+        assert screen.query_one("#limits-table", DataTable).row_count == len(limit_rows(demo))
+        await pilot.press("f2")
+        assert isinstance(app.screen, MainScreen)
+
+
+@sync
+async def test_save_writes_the_same_text_as_osmodose_check(tmp_path: Path, demo: Formulary) -> None:
+    target = tmp_path / "bed 4.txt"
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, MANNITOL)
+        await pilot.press("ctrl+s")
+        assert isinstance(app.screen, SaveScreen)
+        app.screen.query_one("#save-path", Input).value = str(target)
+        await pilot.press("enter")
+        assert isinstance(app.screen, MainScreen)
+        assert target.read_text(encoding="utf-8") == mannitol_summary(demo)
+
+
+@sync
+async def test_save_into_a_missing_folder_stays_open_with_the_reason(tmp_path: Path) -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, MANNITOL)
+        await pilot.press("ctrl+s")
+        app.screen.query_one("#save-path", Input).value = str(tmp_path / "no" / "such.txt")
+        await pilot.press("enter")
+        assert isinstance(app.screen, SaveScreen)
+        message = app.screen.query_one("#save-message").render()
+        assert str(message) == f"cannot save to {tmp_path / 'no' / 'such.txt'}: No such file or directory"
+        await pilot.press("escape")
+        assert isinstance(app.screen, MainScreen)
+
+
+@sync
+async def test_nothing_is_saved_or_copied_while_results_are_not_valid() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("ctrl+s", "ctrl+y")
+        assert isinstance(app.screen, MainScreen)
+        assert app.clipboard == ""
+        assert [n.message for n in app._notifications][-1].startswith("Nothing to save: the results are not valid")
+
+
+@sync
+async def test_copy_puts_the_summary_on_the_clipboard(demo: Formulary) -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, MANNITOL)
+        await pilot.press("ctrl+y")
+        assert app.clipboard == mannitol_summary(demo)
+
+
+@sync
+async def test_new_case_empties_the_form_and_returns_to_weight() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, MANNITOL)
+        await pilot.press("ctrl+n")
+        await pilot.pause()
+        screen = main_screen(app)
+        assert {k: v for k, v in screen.values().items() if v} == {"dose-mode": "dose"}
+        assert screen.outcome.result is None
+        assert app.focused is screen.field("weight").control
+
+
+@sync
+async def test_light_dark_key_switches_the_theme() -> None:
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        assert app.current_theme.dark
+        await pilot.press("ctrl+t")
+        assert not app.current_theme.dark
+        await pilot.press("ctrl+t")
+        assert app.current_theme.dark

@@ -1,0 +1,39 @@
+"""The main screen at 80x24 in the ok, warn and refuse states (review the SVGs after --snapshot-update).
+
+Deterministic: no clock, no random, and the screen names the formulary by name,
+version and short SHA-256 only, never by its path.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+import pytest
+from textual.pilot import Pilot
+from textual.widgets import Input
+
+from tests.app.driving import MANNITOL, REFUSE, SALINE, fill, make_app
+
+
+def filled(fields: dict[str, str]) -> Callable[[Pilot], object]:
+    async def run_before(pilot: Pilot) -> None:
+        await fill(pilot, fields)
+        for box in pilot.app.screen.query(Input):
+            box.cursor_blink = False  # a blinking cursor is a clock: keep it steadily on
+        pilot.app.screen.field("weight").control.focus()  # type: ignore[attr-defined]
+        await pilot.pause()
+
+    return run_before
+
+
+@pytest.mark.parametrize(
+    ("fields", "theme"),
+    [
+        pytest.param(MANNITOL, "textual-dark", id="ok-dark"),
+        pytest.param(SALINE, "textual-dark", id="warn-dark"),
+        pytest.param(REFUSE, "textual-dark", id="refuse-dark"),
+        pytest.param(REFUSE, "textual-light", id="refuse-light"),
+    ],
+)
+def test_main_screen_snapshot(snap_compare: Callable[..., bool], fields: dict[str, str], theme: str) -> None:
+    assert snap_compare(make_app(theme), terminal_size=(80, 24), run_before=filled(fields))
