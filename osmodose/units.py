@@ -53,8 +53,19 @@ _PERCENT_WV = re.compile(r"%\s*(?:w\s*/\s*v|\(\s*w\s*/\s*v\s*\))", re.IGNORECASE
 _BARE_PERCENT = re.compile(r"%")
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$")
 
-# The errors pint's parser can raise for text that is not a unit expression.
-_PARSE_ERRORS = (pint.PintError, ValueError, TypeError, SyntaxError, AttributeError, tokenize.TokenError)
+# The errors pint's parser can raise for text that is not a unit expression: its
+# tokenizer asserts on a stray operator ("5 //") and it evaluates arithmetic, so
+# "1/0" divides by zero and "722^777" overflows.
+_PARSE_ERRORS = (
+    pint.PintError,
+    ValueError,
+    TypeError,
+    SyntaxError,
+    AttributeError,
+    AssertionError,
+    ArithmeticError,
+    tokenize.TokenError,
+)
 
 
 def dimension_of(units: str) -> pint.util.UnitsContainer:
@@ -93,12 +104,21 @@ def parse_quantity(
         quantity = _parse_text(field, raw, default_unit, hint, percent_is_wv)
     else:
         raise InputError(field, raw, "is not a quantity", f"a number in {hint}")
-    magnitude = quantity.magnitude
-    if not isinstance(magnitude, (int, float)) or not math.isfinite(float(magnitude)):
+    if not _is_finite_number(quantity.magnitude):
         raise InputError(field, raw, "is not a finite number", f"a number in {hint}")
     if quantity.dimensionality not in accepted_dims:
         raise InputError(field, raw, "is in the wrong unit", hint)
     return quantity
+
+
+def _is_finite_number(magnitude: object) -> bool:
+    """A real, finite magnitude; pint's integer arithmetic can exceed any float ("535**5**3")."""
+    if isinstance(magnitude, bool) or not isinstance(magnitude, (int, float)):
+        return False
+    try:
+        return math.isfinite(float(magnitude))
+    except OverflowError:
+        return False
 
 
 def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_wv: bool) -> pint.Quantity:
