@@ -95,7 +95,9 @@ def parse_quantity(
     accepted_dims = [dimension_of(unit) for unit in examples]
     hint = _describe_units(examples)
     if isinstance(raw, pint.Quantity):
-        quantity = raw
+        # Re-express a quantity built with another registry in ours: quantities of two
+        # registries refuse to combine, so passing it through would fail later.
+        quantity = raw if raw._REGISTRY is ureg else Q_(raw.magnitude, str(raw.units))
     elif isinstance(raw, bool) or raw is None:
         raise InputError(field, raw, "is not a quantity", f"a number in {hint}")
     elif isinstance(raw, (int, float)):

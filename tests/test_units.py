@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
+import pint
 import pytest
 
 from osmodose import chemistry, formulas
@@ -107,6 +108,16 @@ def test_every_returned_quantity_belongs_to_the_package_registry() -> None:
     ]
     for quantity in returned:
         assert quantity._REGISTRY is ureg
+
+
+def test_a_quantity_from_another_registry_comes_back_in_ours() -> None:
+    # Quantities of two registries refuse to combine (pint raises ValueError), so a quantity a
+    # caller built elsewhere must be re-expressed in the package registry, not passed through.
+    other = pint.UnitRegistry()
+    weight = parse_quantity("weight", other.Quantity(70, "kg"), "kg")
+    assert weight._REGISTRY is ureg
+    assert weight.m_as("kg") == 70.0
+    assert (weight / Q_(1, "kg")).m_as("") == 70.0
 
 
 def test_only_the_units_module_builds_a_registry() -> None:
