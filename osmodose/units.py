@@ -52,6 +52,7 @@ Quantity = pint.Quantity
 _PERCENT_WV = re.compile(r"%\s*(?:w\s*/\s*v|\(\s*w\s*/\s*v\s*\))", re.IGNORECASE)
 _BARE_PERCENT = re.compile(r"%")
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$")
+_LEADING_DIGIT = re.compile(r"^[+-]?\.?\d")
 
 # The errors pint's parser can raise for text that is not a unit expression: its
 # tokenizer asserts on a stray operator ("5 //") and it evaluates arithmetic, so
@@ -129,6 +130,9 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
         raise InputError(field, "", "is empty", f"a number in {hint}")
     if _NUMBER.match(text):
         return Q_(float(text), default_unit)
+    if not _LEADING_DIGIT.match(text):
+        # pint reads a unit alone ("kg", "lb") as one of it: a weight of 1 kg nobody typed.
+        raise InputError(field, raw, "has no number", f"a number in {hint}")
     text = _PERCENT_WV.sub(" percent_wv", text)
     if percent_is_wv:
         text = _BARE_PERCENT.sub(" percent_wv", text)
