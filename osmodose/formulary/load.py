@@ -31,6 +31,7 @@ COMPOSITION_TOLERANCE = 0.02
 
 _TOML_POSITION = re.compile(r"\(at line (\d+), column \d+\)")
 _DOSE_KINDS = {"[mass]": "g/kg", "[length] ** 3": "mL/kg", "[substance]": "mmol/kg", "[osmotic_amount]": "mOsm/kg"}
+_OSMOLALITY_DIM = ureg.parse_units("mOsm/kg").dimensionality
 _DOSE_UNITS = {"g/kg": "g/kg", "mL/kg": "mL/kg", "mmol/kg": "mmol/kg", "mOsm/kg": "mOsm/kg"}
 
 
@@ -166,6 +167,9 @@ def _resolve_limits(model: FormularyFile, out: _Collector) -> Limits:
         if quantity is None:
             values[name] = spec.default
             continue
+        if quantity.check("[substance]/[mass]") and ureg.parse_units(spec.unit).dimensionality == _OSMOLALITY_DIM:
+            # SI laboratories write osmolality in mmol/kg: the same figure in mOsm/kg.
+            quantity = ureg.Quantity(quantity.m_as("mmol/kg"), "mOsm/kg")
         value = float(quantity.to(spec.unit).magnitude)
         if value < 0:
             out.add(f"limits.{name}", f"{raw!r} is negative (accepted: a value of 0 or more)")
