@@ -16,7 +16,7 @@ from pydantic import BaseModel, ConfigDict, Field
 from osmodose.chemistry import molar_mass
 from osmodose.errors import InputError
 from osmodose.ranges import check_plausible
-from osmodose.units import Q_, Quantity, is_per_mass, parse_quantity, ureg
+from osmodose.units import Q_, Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 
@@ -241,7 +241,7 @@ _ABSOLUTE_UNITS: tuple[tuple[str, DoseUnit], ...] = (
 
 def _parse_dose(agent_id: str, raw: object, duration: float | None) -> DoseRequest:
     text = str(raw).strip()
-    if isinstance(raw, (int, float)) or text.replace(".", "", 1).isdigit():
+    if isinstance(raw, (int, float)) or is_bare_number(text):
         raise InputError("dose", raw, "has no unit", _DOSE_ACCEPTED)
     quantity: Quantity = parse_quantity(
         "dose", text, "g", ("g", "mL", "mmol", "mOsm", "g/kg", "mL/kg", "mmol/kg", "mOsm/kg")

@@ -146,6 +146,11 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
     return parsed
 
 
+def is_bare_number(text: str) -> bool:
+    """Whether `text` is a number alone ("5", "+5", "5e1"), the way a bare number is read."""
+    return bool(_NUMBER.match(text.strip()))
+
+
 def is_per_mass(quantity: pint.Quantity) -> bool:
     """True when the unit as written divides by a mass ("1 g/kg", "5 mL/kg").
 
