@@ -53,6 +53,8 @@ _PERCENT_WV = re.compile(r"%\s*(?:w\s*/\s*v|\(\s*w\s*/\s*v\s*\))", re.IGNORECASE
 _BARE_PERCENT = re.compile(r"%")
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$")
 _LEADING_DIGIT = re.compile(r"^[+-]?\.?\d")
+_POWER = re.compile(r"\*\*|\^")
+_SMALL_POWER = re.compile(r"(?:\*\*|\^)\s*[+-]?\d{1,2}(?![\d.(])")
 
 # The errors pint's parser can raise for text that is not a unit expression: its
 # tokenizer asserts on a stray operator ("5 //") and it evaluates arithmetic, so
@@ -136,6 +138,11 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
     text = _PERCENT_WV.sub(" percent_wv", text)
     if percent_is_wv:
         text = _BARE_PERCENT.sub(" percent_wv", text)
+    powers = len(_POWER.findall(text))
+    if powers > 1 or (powers == 1 and not _SMALL_POWER.search(text)):
+        # pint evaluates powers with exact integers: "9**9**9" would run for minutes.
+        # One power of at most two digits ("dm**3") is all a quantity needs.
+        raise InputError(field, raw, "is not a quantity osmodose can read", hint)
     try:
         parsed: Any = ureg.parse_expression(text)
     except _PARSE_ERRORS:

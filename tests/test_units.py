@@ -187,3 +187,17 @@ def test_a_unit_without_a_number_is_refused_not_read_as_one(raw: str) -> None:
 @pytest.mark.parametrize("raw", ["70kg", "+70 kg", ".5 kg", "-4 kg", "1e2 g"])
 def test_a_number_first_is_read(raw: str) -> None:
     assert parse_quantity("weight", raw, "kg").dimensionality == Q_(1, "kg").dimensionality
+
+
+@pytest.mark.parametrize("raw", ["9**99999", "2^99999 kg", "9**(9)", "9**9**9", "9^9^9 kg"])
+def test_a_power_beyond_what_a_quantity_needs_is_refused_before_pint_evaluates_it(raw: str) -> None:
+    # pint computes powers with exact integers: "9**9**9" has 370 million digits and ran for
+    # minutes (a frozen command line or app). A quantity needs one small power at most ("dm**3").
+    with pytest.raises(InputError) as caught:
+        parse_quantity("weight", raw, "kg")
+    assert str(caught.value) == f"weight: {raw} is not a quantity osmodose can read (accepted: kg)"
+
+
+@pytest.mark.parametrize(("raw", "litres"), [("1 dm**3", 1.0), ("1 dm^3", 1.0), ("2 m**3", 2000.0)])
+def test_one_small_power_is_still_read(raw: str, litres: float) -> None:
+    assert parse_quantity("volume", raw, "mL").m_as("L") == pytest.approx(litres)
