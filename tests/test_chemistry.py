@@ -51,20 +51,21 @@ def test_mannitol_alone_projects_no_sodium() -> None:
     assert [name for name, solute in SOLUTES.items() if not solute.projects_sodium] == ["mannitol"]
 
 
-# Sodium (mmol/L) and theoretical osmolarity (mOsm/L) of stock solutions.
-# "label": the figures printed on product labels; "arithmetic": g/L / molar mass x particles.
+# Sodium (mmol/L) and theoretical osmolarity (mOsm/L) of stock solutions, with the source of each row:
+# "product label" = the figures printed on the product labels; "arithmetic from molar mass" =
+# g/L / molar mass (CIAAW atomic weights) x particles per formula unit (full dissociation).
 COMPOSITION = [
     # solute, % w/v, Na, mOsm/L, source
-    ("sodium chloride", 0.9, 154, 308, "label"),
-    ("sodium chloride", 0.45, 77, 154, "label"),
-    ("sodium chloride", 2.0, 342, 684, "arithmetic: 20 / 58.44 = 342.2"),
-    ("sodium chloride", 3.0, 513, 1027, "label"),
-    ("sodium chloride", 7.5, 1283, 2567, "arithmetic: 75 / 58.44 = 1283.4"),
-    ("sodium chloride", 23.4, 4004, 8008, "label: 4 mEq/mL; 234 / 58.44 = 4004.1"),
-    ("mannitol", 20.0, 0, 1098, "arithmetic: 200 / 182.17 = 1097.9 (as the 25 % label)"),
-    ("mannitol", 25.0, 0, 1372, "label"),
-    ("sodium bicarbonate", 8.4, 1000, 2000, "arithmetic: 84 / 84.01 = 999.9"),
-    ("glucose", 5.0, 0, 278, "label: 50 / 180.16 = 277.5"),
+    ("sodium chloride", 0.9, 154, 308, "product label"),
+    ("sodium chloride", 0.45, 77, 154, "product label"),
+    ("sodium chloride", 2.0, 342, 684, "arithmetic from molar mass: 20 / 58.44 = 342.2"),
+    ("sodium chloride", 3.0, 513, 1027, "product label"),
+    ("sodium chloride", 7.5, 1283, 2567, "arithmetic from molar mass: 75 / 58.44 = 1283.4"),
+    ("sodium chloride", 23.4, 4004, 8008, "product label (4 mEq/mL); arithmetic 234 / 58.44 = 4004.1"),
+    ("mannitol", 20.0, 0, 1098, "arithmetic from molar mass: 200 / 182.17 = 1097.9, as for the 25 % label"),
+    ("mannitol", 25.0, 0, 1372, "product label"),
+    ("sodium bicarbonate", 8.4, 1000, 2000, "arithmetic from molar mass: 84 / 84.01 = 999.9"),
+    ("glucose", 5.0, 0, 278, "arithmetic from molar mass: 50 / 180.16 = 277.5"),
 ]
 
 
