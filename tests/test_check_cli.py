@@ -317,3 +317,29 @@ def test_help_exits_zero(capsys: pytest.CaptureFixture[str]) -> None:
     code, out, _err = cli(capsys, "--help")
     assert code == 0
     assert "--target-rise" in out
+
+
+@pytest.mark.parametrize("before_subcommand", [True, False])
+def test_the_formulary_option_is_honoured_before_or_after_the_subcommand(
+    capsys: pytest.CaptureFixture[str], tmp_path: Path, before_subcommand: bool
+) -> None:
+    # `osmodose --formulary F check ...` used to fall back silently to the demo formulary.
+    copy = tmp_path / "unit.toml"
+    copy.write_bytes(demo_formulary_path().read_bytes().replace(b"2026-12-demo", b"2026-12-copy"))
+    option = ["--formulary", str(copy)]
+    argv = [*option, "check"] if before_subcommand else ["check", *option]
+    code = main([*argv, *MAN, "--sodium", "140", "--json"])
+    result = json.loads(capsys.readouterr().out)
+    assert code == 0
+    assert result["formulary"]["version"] == "2026-12-copy"
+    assert result["formulary"]["sha256"] == hashlib.sha256(copy.read_bytes()).hexdigest()
+
+
+def test_a_missing_formulary_before_the_subcommand_is_an_error(
+    capsys: pytest.CaptureFixture[str], tmp_path: Path
+) -> None:
+    missing = tmp_path / "nowhere.toml"
+    code = main(["--formulary", str(missing), "check", *MAN, "--sodium", "140"])
+    captured = capsys.readouterr()
+    assert (code, captured.out) == (2, "")
+    assert captured.err == f"osmodose: formulary {missing}: cannot be read: No such file or directory\n"
