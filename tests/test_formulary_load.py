@@ -281,3 +281,39 @@ def test_a_bad_formulary_on_the_command_line_is_one_line_and_exit_two(
     assert code == 2
     assert captured.out == ""
     assert captured.err == f"osmodose: formulary {path}:5: limits.sodium_wran: is not a known key\n"
+
+
+def test_a_gram_limit_on_a_mixed_fluid_could_never_fire(tmp_path: Path) -> None:
+    # A mixed fluid has no solute grams, so a g/kg limit would be checked against nothing.
+    agent = """\
+[[agents]]
+id = "lr"
+label = "Lactated Ringer's as labelled"
+solute = "mixed"
+route = "peripheral"
+sodium = "130 mmol/L"
+osmolarity = "273 mOsm/L"
+dose_refuse = "1 g/kg"
+"""
+    path = write(tmp_path, HEADER + agent)
+    assert problems_of(path) == [
+        f"formulary {path}:11: agents[1].dose_refuse: '1 g/kg' is in g/kg, "
+        "but a mixed fluid has no single solute to weigh"
+    ]
+
+
+def test_a_sodium_limit_on_a_sodium_free_agent_could_never_fire(tmp_path: Path) -> None:
+    # Mannitol carries no sodium: a mmol/kg (sodium) limit is always 0 and never fires.
+    agent = """\
+[[agents]]
+id = "mannitol-20"
+label = "Mannitol 20 %"
+solute = "mannitol"
+concentration = "20% w/v"
+route = "peripheral"
+dose_warn = "2 mmol/kg"
+"""
+    path = write(tmp_path, HEADER + agent)
+    assert problems_of(path) == [
+        f"formulary {path}:10: agents[1].dose_warn: '2 mmol/kg' is in mmol/kg of sodium, but this agent has no sodium"
+    ]

@@ -222,6 +222,14 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
             presentations.append(float(size.m_as("mL")))
     dose_warn = _dose_limit(entry.dose_warn, f"{where}.dose_warn", out)
     dose_refuse = _dose_limit(entry.dose_refuse, f"{where}.dose_refuse", out)
+    for key, limit in (("dose_warn", dose_warn), ("dose_refuse", dose_refuse)):
+        # A limit the agent's figures can never reach would never fire: say so instead.
+        if limit is None:
+            continue
+        if limit.kind == "g/kg" and solute.molar_mass_g_per_mol is None:
+            out.add(f"{where}.{key}", f"{limit.text!r} is in g/kg, but a mixed fluid has no single solute to weigh")
+        if limit.kind == "mmol/kg" and sodium is not None and sodium <= 0:
+            out.add(f"{where}.{key}", f"{limit.text!r} is in mmol/kg of sodium, but this agent has no sodium")
     if dose_warn and dose_refuse:
         if dose_warn.kind != dose_refuse.kind:
             out.add(f"{where}.dose_refuse", f"is in {dose_refuse.kind} but dose_warn is in {dose_warn.kind}")
