@@ -56,8 +56,9 @@ def test_mass_balance_at_one_litre_equals_the_per_litre_formula(serum: float, in
 
 
 def test_two_litres_is_mass_balance_not_twice_one_litre() -> None:
-    # Wagner B et al. Kidney360 2023: scaling the 1 L figure overestimates. 2 L of 3 % at Na 110, TBW 42:
-    # mass balance 2 x 403 / 44 = +18.32; linear 2 x 403 / 43 = +18.74.
+    # For V litres, mass balance rather than linear scaling of the 1 L figure (Chen S et al. Kidney360
+    # 2021;2:365-370; Wagner B et al. Kidney360 2023). 2 L of 3 % at Na 110, TBW 42:
+    # mass balance 2 x 403 / 44 = +18.32; linear scaling would say 2 x 403 / 43 = +18.74.
     projected = f.projected_sodium(Q_(110, "mmol/L"), Q_(513, "mmol/L"), Q_(42, "L"), Q_(2, "L"))
     assert projected.m_as("mmol/L") - 110 == pytest.approx(2 * 403 / 44)
     assert projected.m_as("mmol/L") - 110 < 2 * 403 / 43
