@@ -155,7 +155,10 @@ def parse_check_request(
         bun = parse_quantity("bun", given["bun"], "mg/dL", ("mg/dL", "mmol/L"))
         if bun.check("[mass]/[volume]"):
             bun = bun / molar_mass("urea nitrogen")
-        urea = check_plausible("bun", float(bun.m_as("mmol/L")), given["bun"], range_key="urea")
+        urea = float(bun.m_as("mmol/L"))
+        # Judged as urea, but described in mg/dL of nitrogen, the unit a bare BUN is read in.
+        in_mg_dl = float((Q_(urea, "mmol/L") * molar_mass("urea nitrogen")).m_as("mg/dL"))
+        check_plausible("bun", in_mg_dl, given["bun"])
     osmolality = None
     if "osmolality" in given:
         measured = parse_quantity("osmolality", given["osmolality"], "mOsm/kg", ("mOsm/kg", "mmol/kg"))

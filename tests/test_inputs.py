@@ -219,3 +219,22 @@ def test_a_dose_that_comes_to_an_implausible_volume(demo: Formulary) -> None:
     assert message_of(demo, agent="nacl-0.9", dose="100g") == (
         "dose: 100g comes to 11111 mL of nacl-0.9, outside the plausible range (accepted: 0.1 to 5000 mL)"
     )
+
+
+@pytest.mark.parametrize(
+    ("bun", "message"),
+    [
+        # A bare BUN is mg/dL, so its range is said in mg/dL: the urea range 0.5-100 mmol/L
+        # x 28.01 g/mol (N2) = 1.4-280.1 mg/dL; the old message gave mmol/L for a figure typed in mg/dL.
+        ("300", "bun: 300 is outside the plausible range (accepted: 1.4 to 280.1 mg/dL)"),
+        ("1", "bun: 1 is outside the plausible range (accepted: 1.4 to 280.1 mg/dL)"),
+        ("101 mmol/L", "bun: 101 mmol/L is outside the plausible range (accepted: 1.4 to 280.1 mg/dL)"),
+    ],
+)
+def test_an_implausible_bun_is_described_in_mg_per_dl(bun: str, message: str) -> None:
+    assert message_of(bun=bun) == message
+
+
+def test_bun_at_the_ends_of_its_range_is_read() -> None:
+    assert request(bun="280").labs.urea_mmol_l == pytest.approx(2800 / 28.01)
+    assert request(bun="100 mmol/L").labs.urea_mmol_l == pytest.approx(100.0)
