@@ -104,41 +104,91 @@ def test_target_rise_then_projecting_gives_the_target_back(
     assert again.projected_sodium_rise_mmol_l == pytest.approx(float(rise), rel=1e-9, abs=1e-9)
 
 
-def _maybe(strategy: st.SearchStrategy[str]) -> st.SearchStrategy[str | None]:
-    return st.none() | strategy
+def _quantity(low: float, high: float, *units: tuple[str, float]) -> st.SearchStrategy[str]:
+    """A value inside [low, high] of the field's usual unit, typed bare or in one of `units`.
+
+    Each unit comes with its factor from the usual unit (e.g. ("lb", 1 / 0.45359237) for kg).
+    """
+    choices = [("", 1.0), *units]
+    return st.tuples(st.floats(low, high), st.sampled_from(choices)).map(
+        lambda p: f"{p[0] * p[1][1]:.6g}{(' ' + p[1][0]) if p[1][0] else ''}"
+    )
 
 
-def _number(low: float, high: float, *units: str) -> st.SearchStrategy[str]:
-    """A number a little outside to well inside [low, high], bare or with one of `units`."""
+def _sloppy(low: float, high: float, *units: str) -> st.SearchStrategy[str]:
+    """A number up to 10 % outside [low, high], bare or with a unit that may not fit the field."""
     span = high - low
-    value = st.floats(low - 0.1 * span, high + 0.1 * span, allow_nan=False)
+    value = st.floats(low - 0.1 * span, high + 0.1 * span)
     return st.tuples(value, st.sampled_from(["", *units])).map(lambda p: f"{p[0]:.4g}{(' ' + p[1]) if p[1] else ''}")
 
 
-requests = st.fixed_dictionaries(
+# Factors: 1 lb = 0.45359237 kg; glucose 180.16, urea 60.06, N2 28.01, ethanol 46.07 g/mol
+# (CIAAW atomic weights): x mmol/L = x * M / 10 mg/dL.
+LB = ("lb", 1 / 0.45359237)
+valid_order = st.one_of(
+    st.fixed_dictionaries({}),
+    st.fixed_dictionaries(
+        {
+            "agent": st.sampled_from([*PROJECTING, "mannitol-20"]),
+            "dose": st.one_of(
+                _quantity(0.1, 1.5, ("g/kg", 1.0)),
+                _quantity(1, 10, ("mL/kg", 1.0)),
+                _quantity(0.5, 3, ("mmol/kg", 1.0)),
+                _quantity(1, 10, ("mOsm/kg", 1.0)),
+                _quantity(5, 100, ("g", 1.0)),
+                _quantity(10, 1000, ("mL", 1.0), ("L", 1e-3)),
+            ).filter(lambda text: " " in text),
+        },
+        optional={"duration": _quantity(1, 600, ("min", 1.0), ("h", 1 / 60))},
+    ),
+    st.fixed_dictionaries(
+        {"agent": st.sampled_from(PROJECTING), "volume": _quantity(1, 3000, ("mL", 1.0), ("L", 1e-3))},
+        optional={"duration": _quantity(1, 600, ("min", 1.0)), "line": st.sampled_from(["central", "peripheral"])},
+    ),
+    st.fixed_dictionaries(
+        {"agent": st.sampled_from(PROJECTING), "target-rise": _quantity(-30, 30, ("mmol/L", 1.0))},
+    ),
+)
+valid_case = st.fixed_dictionaries(
     {
-        "weight": _number(0.3, 400, "kg", "lb", "g"),
-        "age": _number(0, 120, "year", "month"),
-        "sex": st.sampled_from(["female", "male", "other"]),
-        "sodium": _number(90, 200, "mmol/L", "mEq/L", "mg/dL"),
+        "weight": _quantity(0.3, 400, ("kg", 1.0), LB),
+        "age": _quantity(0, 120, ("year", 1.0), ("month", 12.0)),
+        "sex": st.sampled_from(["female", "male"]),
+        "sodium": _quantity(90, 200, ("mmol/L", 1.0), ("mEq/L", 1.0)),
     },
     optional={
-        "height": _number(25, 250, "cm", "m", "inch"),
-        "potassium": _number(1, 10, "mmol/L"),
-        "glucose": _number(0.5, 100, "mmol/L", "mg/dL"),
-        "urea": _number(0.5, 100, "mmol/L", "mg/dL"),
-        "bun": _number(1, 280, "mg/dL", "mmol/L"),
-        "ethanol": _number(0, 200, "mmol/L", "mg/dL"),
-        "osmolality": _number(200, 450, "mOsm/kg", "mmol/kg"),
-        "agent": st.sampled_from([*PROJECTING, "mannitol-20", "unknown-agent"]),
-        "dose": _number(0, 3, "g/kg", "mL/kg", "mmol/kg", "mOsm/kg", "g", "mL", "mmol", "mOsm", "h"),
-        "volume": _number(0.1, 5000, "mL", "L"),
-        "target-rise": _number(-30, 30, "mmol/L"),
-        "duration": _number(1, 10080, "min", "h"),
-        "line": st.sampled_from(["central", "peripheral", "arterial"]),
+        "height": _quantity(25, 250, ("cm", 1.0), ("m", 0.01)),
+        "potassium": _quantity(1, 10, ("mmol/L", 1.0)),
+        "glucose": _quantity(0.5, 100, ("mg/dL", 18.016)),
+        "urea": _quantity(0.5, 100, ("mg/dL", 6.006)),
+        "ethanol": _quantity(0, 200, ("mg/dL", 4.607)),
+        "osmolality": _quantity(200, 450, ("mOsm/kg", 1.0), ("mmol/kg", 1.0)),
         "tbw-method": st.sampled_from(["fraction", "watson"]),
     },
 )
+valid_requests = st.tuples(valid_case, valid_order).map(lambda pair: {**pair[0], **pair[1]})
+sloppy_requests = st.fixed_dictionaries(
+    {
+        "weight": _sloppy(0.3, 400, "kg", "lb", "g"),
+        "age": _sloppy(0, 120, "year", "month"),
+        "sex": st.sampled_from(["female", "male", "other"]),
+        "sodium": _sloppy(90, 200, "mmol/L", "mEq/L", "mg/dL"),
+    },
+    optional={
+        "height": _sloppy(25, 250, "cm", "m", "inch"),
+        "glucose": _sloppy(0.5, 100, "mmol/L", "mg/dL"),
+        "urea": _sloppy(0.5, 100, "mmol/L", "mg/dL"),
+        "bun": _sloppy(1, 280, "mg/dL", "mmol/L"),
+        "osmolality": _sloppy(200, 450, "mOsm/kg", "mmol/kg"),
+        "agent": st.sampled_from([*PROJECTING, "mannitol-20", "unknown-agent"]),
+        "dose": _sloppy(0, 3, "g/kg", "mL/kg", "mmol/kg", "mOsm/kg", "g", "mL", "mmol", "mOsm", "h"),
+        "volume": _sloppy(0.1, 5000, "mL", "L"),
+        "target-rise": _sloppy(-30, 30, "mmol/L"),
+        "duration": _sloppy(1, 10080, "min", "h"),
+        "line": st.sampled_from(["central", "peripheral", "arterial"]),
+    },
+)
+requests = valid_requests | sloppy_requests
 
 
 @settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
@@ -170,7 +220,7 @@ def test_random_requests_raise_nothing_but_input_errors(demo: Formulary, fields:
     agent=st.sampled_from([*PROJECTING, "mannitol-20"]),
     volume_ml=st.floats(1, 3000).map(lambda x: f"{x:.1f}"),
     line=st.sampled_from([None, "central", "peripheral"]),
-    duration=_maybe(st.floats(1, 600).map(lambda x: f"{x:.0f}")),
+    duration=st.none() | st.floats(1, 600).map(lambda x: f"{x:.0f}"),
 )
 def test_findings_order_and_status(
     demo: Formulary, weight: str, serum: str, agent: str, volume_ml: str, line: str | None, duration: str | None
