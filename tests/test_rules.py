@@ -335,3 +335,46 @@ def test_refusals_are_listed_first_and_the_status_is_the_worst(demo: Formulary) 
 def test_no_finding_is_ok(demo: Formulary) -> None:
     result = check(demo, sodium="140", glucose="5", urea="5")
     assert (result.status, result.findings) == ("ok", [])
+
+
+# --- a batch is many single checks -------------------------------------------------------------
+
+BATCH = [
+    {"sodium": "110", "agent": "nacl-3", "volume": "1L", "line": "peripheral"},
+    {"weight": "68", "age": "76", "sodium": "168", "agent": "glucose-5", "volume": "1L"},
+    {"sex": "female", "sodium": "140", "glucose": "5", "urea": "5", "osmolality": "330"},
+    {"sodium": "135", "glucose": "5", "urea": "5", "osmolality": "305", "agent": "mannitol-20", "dose": "1.2g/kg"},
+    {"sodium": "140", "agent": "nacl-23.4", "volume": "30", "duration": "5", "line": "peripheral"},
+    {"sodium": "140", "agent": "bicarb-8.4", "dose": "2.5mmol/kg"},
+]
+
+
+def test_rules_over_a_batch_give_each_row_the_findings_of_its_own_check(demo: Formulary) -> None:
+    import numpy as np
+
+    from osmodose.check import cases_from_request
+    from osmodose.engine import Cases, compute
+    from osmodose.rules import REFUSE, WARN, evaluate
+    from osmodose.units import Q_
+
+    requests = [parse_check_request({**MAN, **row}) for row in BATCH]
+    singles = [
+        cases_from_request(r, demo.agents.index(demo.agent(r.dose.agent_id)) if r.dose else -1, False) for r in requests
+    ]
+
+    def column(name: str) -> object:
+        values = [getattr(case, name) for case in singles]
+        if hasattr(values[0], "units"):
+            return Q_(np.concatenate([v.m_as(values[0].units) for v in values]), values[0].units)
+        return np.concatenate(values)
+
+    batch = Cases(**{name: column(name) for name in Cases.__dataclass_fields__})
+    figures = compute(batch, demo.agents, demo.settings)
+    outcomes = evaluate(batch, figures, demo.agents, demo.limits, np.array([r.line or "" for r in requests]))
+    severity = {WARN: "warn", REFUSE: "refuse"}
+    for row, request in enumerate(requests):
+        in_batch = sorted((o.code, severity[int(o.severity[row])]) for o in outcomes if o.severity[row] > 0)
+        alone = run_check(request, demo)
+        assert in_batch == sorted(found(alone)), BATCH[row]
+        projected = figures.projected_sodium[row]
+        assert (None if np.isnan(projected) else float(projected)) == alone.projected_sodium_mmol_l
