@@ -16,7 +16,7 @@ from pydantic import BaseModel, ConfigDict, Field
 from osmodose.chemistry import molar_mass
 from osmodose.errors import InputError
 from osmodose.ranges import check_plausible
-from osmodose.units import Q_, Quantity, is_per_mass, parse_quantity, ureg
+from osmodose.units import Q_, Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 
@@ -155,7 +155,10 @@ def parse_check_request(
         bun = parse_quantity("bun", given["bun"], "mg/dL", ("mg/dL", "mmol/L"))
         if bun.check("[mass]/[volume]"):
             bun = bun / molar_mass("urea nitrogen")
-        urea = check_plausible("bun", float(bun.m_as("mmol/L")), given["bun"], range_key="urea")
+        urea = float(bun.m_as("mmol/L"))
+        # Judged as urea, but described in mg/dL of nitrogen, the unit a bare BUN is read in.
+        in_mg_dl = float((Q_(urea, "mmol/L") * molar_mass("urea nitrogen")).m_as("mg/dL"))
+        check_plausible("bun", in_mg_dl, given["bun"])
     osmolality = None
     if "osmolality" in given:
         measured = parse_quantity("osmolality", given["osmolality"], "mOsm/kg", ("mOsm/kg", "mmol/kg"))
@@ -246,7 +249,7 @@ def parse_dose(agent_id: str, raw: object, duration: float | None = None, field:
     --dose, so both accept and reject exactly the same text.
     """
     text = str(raw).strip()
-    if isinstance(raw, (int, float)) or text.replace(".", "", 1).isdigit():
+    if isinstance(raw, (int, float)) or is_bare_number(text):
         raise InputError(field, raw, "has no unit", _DOSE_ACCEPTED)
     quantity: Quantity = parse_quantity(
         field, text, "g", ("g", "mL", "mmol", "mOsm", "g/kg", "mL/kg", "mmol/kg", "mOsm/kg")

@@ -31,6 +31,8 @@ PLAUSIBLE: dict[str, Range] = {
     "potassium": Range(1.0, 10.0, "mmol/L"),
     "glucose": Range(0.5, 100.0, "mmol/L"),
     "urea": Range(0.5, 100.0, "mmol/L"),
+    # The urea range as BUN: 0.5 and 100 mmol/L x 28.01 g/mol (N2) = 1.4 and 280.1 mg/dL.
+    "bun": Range(1.4, 280.1, "mg/dL"),
     "osmolality": Range(200.0, 450.0, "mOsm/kg"),
     # Not in the reference: an ethanol level above 200 mmol/L (about 920 mg/dL)
     # is beyond any survived level; chosen to catch typing errors (common practice).

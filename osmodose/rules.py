@@ -119,7 +119,7 @@ def evaluate(
             figures.projected_sodium,
             _num(limits.get("sodium_warn")),
             _num(limits.get("sodium_refuse")),
-            has_agent,
+            has_agent & not_lowering,
         ),
         _threshold_rule(
             "osmolality-high",

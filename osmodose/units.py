@@ -54,10 +54,12 @@ _BARE_PERCENT = re.compile(r"%")
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$")
 _LEADING_NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
 _EXPONENT = re.compile(r"(?:\*\*|\^)\s*[+-]?\d+")
+_POWER = re.compile(r"\*\*|\^")
+_SMALL_POWER = re.compile(r"(?:\*\*|\^)\s*[+-]?\d{1,2}(?![\d.(])")
 
 # The errors pint's parser can raise for text that is not a unit expression.  Its
-# evaluator asserts on a dangling operator ("1 mL/", "4-", ":"), and evaluates
-# arithmetic, so "1/0" and "6**666" raise ZeroDivisionError and OverflowError
+# evaluator asserts on a dangling operator ("1 mL/", "4-", "5 //"), and evaluates
+# arithmetic, so "1/0" and "722^777" raise ZeroDivisionError and OverflowError
 # (both ArithmeticError).
 _PARSE_ERRORS = (
     pint.PintError,
@@ -98,7 +100,9 @@ def parse_quantity(
     accepted_dims = [dimension_of(unit) for unit in examples]
     hint = _describe_units(examples)
     if isinstance(raw, pint.Quantity):
-        quantity = raw
+        # Re-express a quantity built with another registry in ours: quantities of two
+        # registries refuse to combine, so passing it through would fail later.
+        quantity = raw if raw._REGISTRY is ureg else Q_(raw.magnitude, str(raw.units))
     elif isinstance(raw, bool) or raw is None:
         raise InputError(field, raw, "is not a quantity", f"a number in {hint}")
     elif isinstance(raw, (int, float)):
@@ -115,8 +119,8 @@ def parse_quantity(
 
 
 def _is_finite_number(magnitude: object) -> bool:
-    """A real, finite magnitude; an integer too large for a float ("7^7^5") is not."""
-    if not isinstance(magnitude, (int, float)):
+    """A real, finite magnitude; pint's integer arithmetic can exceed any float ("535**5**3")."""
+    if isinstance(magnitude, bool) or not isinstance(magnitude, (int, float)):
         return False
     try:
         return math.isfinite(float(magnitude))
@@ -134,6 +138,11 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
     text = _PERCENT_WV.sub(" percent_wv", text)
     if percent_is_wv:
         text = _BARE_PERCENT.sub(" percent_wv", text)
+    powers = len(_POWER.findall(text))
+    if powers > 1 or (powers == 1 and not _SMALL_POWER.search(text)):
+        # pint evaluates powers with exact integers: "9**9**9" would run for minutes.
+        # One power of at most two digits ("dm**3") is all a quantity needs.
+        raise InputError(field, raw, "is not a quantity osmodose can read", hint)
     try:
         parsed: Any = ureg.parse_expression(text)
     except _PARSE_ERRORS:
@@ -153,6 +162,11 @@ def _check_shape(field: str, raw: str, text: str, default_unit: str, hint: str) 
         raise InputError(field, raw, "does not start with a number", f"a number in {hint}")
     if re.search(r"\d", _EXPONENT.sub("", text[number.end() :])):
         raise InputError(field, raw, "has more than one number", f"one number and a unit, e.g. 7.5 {default_unit}")
+
+
+def is_bare_number(text: str) -> bool:
+    """Whether `text` is a number alone ("5", "+5", "5e1"), the way a bare number is read."""
+    return bool(_NUMBER.match(text.strip()))
 
 
 def is_per_mass(quantity: pint.Quantity) -> bool:

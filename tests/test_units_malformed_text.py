@@ -26,7 +26,8 @@ def test_malformed_quantity_text_is_an_input_error(typed: str, problem: str) -> 
 
 @pytest.mark.parametrize("typed", ["7^7^5", "6**666 mL"])
 def test_number_too_large_for_a_float_is_an_input_error(typed: str) -> None:
-    # 7^7^5 is an integer of about 10^14000: no float holds it.
+    # 7^7^5 is an integer of about 10^14000: no float holds it. Chained or long powers are refused
+    # before pint evaluates them.
     with pytest.raises(InputError) as caught:
         parse_quantity("volume", typed, "mL")
-    assert str(caught.value) == f"volume: {typed} is not a finite number (accepted: a number in mL)"
+    assert str(caught.value) == f"volume: {typed} is not a quantity osmodose can read (accepted: mL)"

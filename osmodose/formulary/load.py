@@ -33,6 +33,7 @@ COMPOSITION_TOLERANCE = 0.02
 
 _TOML_POSITION = re.compile(r"\(at line (\d+), column \d+\)")
 _DOSE_KINDS = {"[mass]": "g/kg", "[length] ** 3": "mL/kg", "[substance]": "mmol/kg", "[osmotic_amount]": "mOsm/kg"}
+_OSMOLALITY_DIM = ureg.parse_units("mOsm/kg").dimensionality
 _DOSE_UNITS = {"g/kg": "g/kg", "mL/kg": "mL/kg", "mmol/kg": "mmol/kg", "mOsm/kg": "mOsm/kg"}
 
 
@@ -165,6 +166,9 @@ def _resolve_limits(table: LimitsTable, out: _Collector) -> Limits:
         if quantity is None:
             values[name] = spec.default
             continue
+        if quantity.check("[substance]/[mass]") and ureg.parse_units(spec.unit).dimensionality == _OSMOLALITY_DIM:
+            # SI laboratories write osmolality in mmol/kg: the same figure in mOsm/kg.
+            quantity = ureg.Quantity(quantity.m_as("mmol/kg"), "mOsm/kg")
         value = float(quantity.to(spec.unit).magnitude)
         if value < 0:
             out.add(f"limits.{name}", f"{raw!r} is negative (accepted: a value of 0 or more)")
@@ -224,6 +228,14 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
             presentations.append(float(size.m_as("mL")))
     dose_warn = _dose_limit(entry.dose_warn, f"{where}.dose_warn", out)
     dose_refuse = _dose_limit(entry.dose_refuse, f"{where}.dose_refuse", out)
+    for key, limit in (("dose_warn", dose_warn), ("dose_refuse", dose_refuse)):
+        # A limit the agent's figures can never reach would never fire: say so instead.
+        if limit is None:
+            continue
+        if limit.kind == "g/kg" and solute.molar_mass_g_per_mol is None:
+            out.add(f"{where}.{key}", f"{limit.text!r} is in g/kg, but a mixed fluid has no single solute to weigh")
+        if limit.kind == "mmol/kg" and sodium is not None and sodium <= 0:
+            out.add(f"{where}.{key}", f"{limit.text!r} is in mmol/kg of sodium, but this agent has no sodium")
     if dose_warn and dose_refuse:
         if dose_warn.kind != dose_refuse.kind:
             out.add(f"{where}.dose_refuse", f"is in {dose_refuse.kind} but dose_warn is in {dose_warn.kind}")

@@ -1,0 +1,315 @@
+"""The published formulas against their worked examples and check values."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pint
+import pytest
+
+from osmodose import formulas as f
+from osmodose.check import run_check
+from osmodose.chemistry import molar_mass
+from osmodose.formulary import Formulary, load_formulary
+from osmodose.inputs import parse_check_request
+from osmodose.units import Q_
+
+# --- Adrogue-Madias and the mass-balance projection --------------------------------------------
+
+
+def test_adrogue_madias_three_percent_saline_in_hyponatraemia() -> None:
+    # 70 kg man, TBW 0.6 x 70 = 42 L, Na 110, 1 L of 3 % saline (513 mmol/L, product label):
+    # (513 - 110) / (42 + 1) = 403 / 43 = +9.37 mmol/L (Adrogue HJ, Madias NE. N Engl J Med 2000;342:1581-9).
+    change = f.sodium_change_per_litre(Q_(110, "mmol/L"), Q_(513, "mmol/L"), Q_(42, "L"))
+    assert change.m_as("mmol/L") == pytest.approx(403 / 43)
+    assert round(change.m_as("mmol/L"), 2) == 9.37
+
+
+def test_adrogue_madias_five_percent_dextrose_in_hypernatraemia() -> None:
+    # From memory: the hypernatraemia paper's example (Adrogue HJ, Madias NE. N Engl J Med
+    # 2000;342:1493-9): 76-year-old man, 68 kg, Na 168, TBW 0.5 x 68 = 34 L, 1 L of 5 % dextrose
+    # (no sodium): (0 - 168) / (34 + 1) = -4.8 mmol/L.
+    tbw = f.tbw_from_fraction(Q_(68, "kg"), f.tbw_fraction(76, male=True))
+    assert tbw.m_as("L") == pytest.approx(34.0)
+    change = f.sodium_change_per_litre(Q_(168, "mmol/L"), Q_(0, "mmol/L"), tbw)
+    assert change.m_as("mmol/L") == pytest.approx(-4.8)
+
+
+def test_potassium_in_the_infusate_counts_with_sodium() -> None:
+    # Lactated Ringer's labelled Na 130, K 4: (130 + 4 - 120) / (42 + 1) = 14 / 43 = +0.326 mmol/L.
+    change = f.sodium_change_per_litre(Q_(120, "mmol/L"), Q_(134, "mmol/L"), Q_(42, "L"))
+    assert change.m_as("mmol/L") == pytest.approx(14 / 43)
+
+
+@pytest.mark.parametrize(
+    ("serum", "infusate", "tbw"),
+    [(110, 513, 42), (168, 0, 34), (125, 154, 30), (140, 4004, 42), (120, 134, 21.5)],
+)
+def test_mass_balance_at_one_litre_equals_the_per_litre_formula(serum: float, infusate: float, tbw: float) -> None:
+    # Na_new = Na + V (C - Na) / (TBW + V) (Chen S et al. Kidney360 2021;2:365-370) at V = 1 L is
+    # (C - Na) / (TBW + 1), the Adrogue-Madias change per litre.
+    na, c, w = Q_(serum, "mmol/L"), Q_(infusate, "mmol/L"), Q_(tbw, "L")
+    projected = f.projected_sodium(na, c, w, Q_(1000, "mL")).m_as("mmol/L")
+    assert projected - serum == pytest.approx(f.sodium_change_per_litre(na, c, w).m_as("mmol/L"), rel=1e-12)
+    assert projected - serum == pytest.approx((infusate - serum) / (tbw + 1), rel=1e-12)
+
+
+def test_two_litres_is_mass_balance_not_twice_one_litre() -> None:
+    # For V litres, mass balance rather than linear scaling of the 1 L figure (Chen S et al. Kidney360
+    # 2021;2:365-370; Wagner B et al. Kidney360 2023). 2 L of 3 % at Na 110, TBW 42:
+    # mass balance 2 x 403 / 44 = +18.32; linear scaling would say 2 x 403 / 43 = +18.74.
+    projected = f.projected_sodium(Q_(110, "mmol/L"), Q_(513, "mmol/L"), Q_(42, "L"), Q_(2, "L"))
+    assert projected.m_as("mmol/L") - 110 == pytest.approx(2 * 403 / 44)
+    assert projected.m_as("mmol/L") - 110 < 2 * 403 / 43
+
+
+def test_volume_for_a_sodium_change_solves_the_projection() -> None:
+    # +5 mmol/L with 3 % (513) at Na 110, TBW 42: V = R TBW / (C - Na - R) = 5 x 42 / (403 - 5) = 0.5276 L.
+    volume = f.volume_for_sodium_change(Q_(110, "mmol/L"), Q_(513, "mmol/L"), Q_(42, "L"), Q_(5, "mmol/L"))
+    assert volume.m_as("L") == pytest.approx(210 / 398)
+    back = f.projected_sodium(Q_(110, "mmol/L"), Q_(513, "mmol/L"), Q_(42, "L"), volume)
+    assert back.m_as("mmol/L") == pytest.approx(115.0)
+
+
+@pytest.mark.parametrize(
+    ("serum", "infusate", "change"),
+    [
+        (140, 154, 20),  # 0.9 % saline cannot raise Na 140 by 20: it is only 14 above
+        (140, 154, 14),  # the limit itself needs an infinite volume
+        (140, 0, 5),  # a sodium-free fluid cannot raise sodium
+        (168, 513, -5),  # hypertonic saline cannot lower sodium
+        (140, 154, 0),
+    ],
+)
+def test_an_unreachable_change_has_no_volume(serum: float, infusate: float, change: float) -> None:
+    volume = f.volume_for_sodium_change(Q_(serum, "mmol/L"), Q_(infusate, "mmol/L"), Q_(42, "L"), Q_(change, "mmol/L"))
+    assert np.isnan(volume.m_as("L"))
+
+
+# --- total body water --------------------------------------------------------------------------
+
+
+def test_watson_man() -> None:
+    # Watson PE, Watson ID, Batt RD. Am J Clin Nutr 1980;33:27-39 (original abstract), man 35 y, 180 cm, 80 kg:
+    # 2.447 - 0.09516 x 35 + 0.1074 x 180 + 0.3362 x 80 = 2.447 - 3.3306 + 19.332 + 26.896 = 45.3444 L.
+    tbw = f.tbw_watson(Q_(35, "year"), Q_(180, "cm"), Q_(80, "kg"), male=True)
+    assert tbw.m_as("L") == pytest.approx(45.3444, abs=1e-9)
+    assert round(tbw.m_as("L"), 2) == 45.34
+
+
+def test_watson_uses_the_original_age_coefficient() -> None:
+    # The original is 0.09516; the digit-swapped 0.09156 printed in many secondary sources would give
+    # 2.447 - 0.09156 x 35 + 19.332 + 26.896 = 45.4704 L for the same man.
+    tbw = f.tbw_watson(Q_(35, "year"), Q_(180, "cm"), Q_(80, "kg"), male=True).m_as("L")
+    assert tbw != pytest.approx(45.4704, abs=0.01)
+    # The age slope is the coefficient itself: one year less adds 0.09516 L.
+    younger = f.tbw_watson(Q_(34, "year"), Q_(180, "cm"), Q_(80, "kg"), male=True).m_as("L")
+    assert younger - tbw == pytest.approx(0.09516, abs=1e-9)
+
+
+def test_watson_woman() -> None:
+    # Watson 1980, woman 165 cm, 65 kg (no age term): -2.097 + 0.1069 x 165 + 0.2466 x 65
+    # = -2.097 + 17.6385 + 16.029 = 31.5705 L.
+    tbw = f.tbw_watson(Q_(50, "year"), Q_(165, "cm"), Q_(65, "kg"), male=False)
+    assert tbw.m_as("L") == pytest.approx(31.5705, abs=1e-9)
+    assert round(tbw.m_as("L"), 2) == 31.57
+    assert f.tbw_watson(Q_(80, "year"), Q_(165, "cm"), Q_(65, "kg"), male=False).m_as("L") == pytest.approx(31.5705)
+
+
+@pytest.mark.parametrize(
+    ("age", "male", "elderly_age", "fraction"),
+    [
+        # Adrogue HJ, Madias NE. N Engl J Med 2000;342:1581-9 (as restated in reviews): children 0.6;
+        # men 0.6, elderly men 0.5; women 0.5, elderly women 0.45. "Elderly" is 65 or 70 by source:
+        # a formulary setting, default 65 (common practice), applying from that age on.
+        (8, True, 65, 0.6),
+        (8, False, 65, 0.6),
+        (17.9, False, 65, 0.6),
+        (18, False, 65, 0.5),
+        (18, True, 65, 0.6),
+        (40, True, 65, 0.6),
+        (40, False, 65, 0.5),
+        (64.9, True, 65, 0.6),
+        (65, True, 65, 0.5),
+        (76, True, 65, 0.5),
+        (64.9, False, 65, 0.5),
+        (65, False, 65, 0.45),
+        (67, True, 70, 0.6),
+        (67, False, 70, 0.5),
+        (70, True, 70, 0.5),
+        (70, False, 70, 0.45),
+    ],
+)
+def test_tbw_fraction_by_age_and_sex(age: float, male: bool, elderly_age: float, fraction: float) -> None:
+    assert f.tbw_fraction(age, male, elderly_age=elderly_age) == fraction
+
+
+def test_the_elderly_cut_off_setting_reaches_the_check(tmp_path: Path, demo: Formulary) -> None:
+    # A 67-year-old man of 70 kg: 0.5 x 70 = 35 L with the cut-off at 65, 0.6 x 70 = 42 L at 70.
+    path = tmp_path / "seventy.toml"
+    text = Path(demo.path).read_text(encoding="utf-8")
+    path.write_text(text.replace("elderly_age_years = 65", "elderly_age_years = 70"), encoding="utf-8")
+    request = parse_check_request({"weight": "70", "age": "67", "sex": "male", "sodium": "140"})
+    assert run_check(request, demo).patient.total_body_water_l == pytest.approx(35.0)
+    assert run_check(request, load_formulary(path)).patient.total_body_water_l == pytest.approx(42.0)
+
+
+def test_watson_reaches_the_check(demo: Formulary) -> None:
+    fields = {"weight": "80", "age": "35", "sex": "male", "height": "180", "sodium": "140", "tbw-method": "watson"}
+    patient = run_check(parse_check_request(fields), demo).patient
+    assert (patient.tbw_method, round(patient.total_body_water_l, 2)) == ("watson", 45.34)
+
+
+# --- osmolality --------------------------------------------------------------------------------
+
+
+def test_calculated_osmolality_in_si_units() -> None:
+    # 2 Na + glucose + urea, all mmol/L (McMaster Textbook of Internal Medicine, "Alcohols"):
+    # 2 x 140 + 5 + 5 = 290 mOsm/kg.
+    osm = f.calculated_osmolality(Q_(140, "mmol/L"), Q_(5, "mmol/L"), Q_(5, "mmol/L"))
+    assert osm.m_as("mOsm/kg") == pytest.approx(290.0)
+
+
+@pytest.mark.parametrize(
+    ("sodium", "glucose_mg_dl", "bun_mg_dl"),
+    [(140, 90, 14), (140, 126, 28), (130, 540, 56), (155, 72, 7)],
+)
+def test_conventional_units_give_the_same_osmolality(sodium: float, glucose_mg_dl: float, bun_mg_dl: float) -> None:
+    # 2 Na + glucose/18 + BUN/2.8 with glucose and BUN in mg/dL (Cleveland Clinic Journal of Medicine):
+    # the divisors are molar mass / 10 (glucose 180.16, BUN as N2 28.01 g/mol), so converting the labs
+    # with the molar masses gives the same figure within the divisors' rounding (< 0.1 mOsm/kg here).
+    conventional = 2 * sodium + glucose_mg_dl / 18 + bun_mg_dl / 2.8
+    glucose = (Q_(glucose_mg_dl, "mg/dL") / molar_mass("glucose")).to("mmol/L")
+    urea = (Q_(bun_mg_dl, "mg/dL") / molar_mass("urea nitrogen")).to("mmol/L")
+    si = f.calculated_osmolality(Q_(sodium, "mmol/L"), glucose, urea).m_as("mOsm/kg")
+    assert si == pytest.approx(conventional, abs=0.1)
+
+
+def test_ethanol_molar_factor() -> None:
+    # Ethanol adds mg/dL / 4.6 (molar, 46.07 g/mol; Nguyen MK et al. Front Med 2020, doi
+    # 10.3389/fmed.2019.00306): 92 mg/dL adds 20.0; from the molar mass 920 / 46.07 = 19.97 mmol/L.
+    ethanol = (Q_(92, "mg/dL") / molar_mass("ethanol")).to("mmol/L")
+    base = f.calculated_osmolality(Q_(140, "mmol/L"), Q_(5, "mmol/L"), Q_(5, "mmol/L")).m_as("mOsm/kg")
+    with_ethanol = f.calculated_osmolality(Q_(140, "mmol/L"), Q_(5, "mmol/L"), Q_(5, "mmol/L"), ethanol)
+    assert with_ethanol.m_as("mOsm/kg") - base == pytest.approx(920 / 46.07)
+    assert with_ethanol.m_as("mOsm/kg") - base == pytest.approx(92 / 4.6, abs=0.05)
+
+
+def test_ethanol_empirical_factor() -> None:
+    # Empirical mg/dL / 3.7, i.e. 1.25 x molar (Purssell RA et al. Ann Emerg Med 2001; tabulated in
+    # Lynd LD et al. BMC Emerg Med 2008;8:5): 92 mg/dL adds 24.9 (92 / 3.7 = 24.86, 1.25 x 19.97 = 24.96).
+    ethanol = (Q_(92, "mg/dL") / molar_mass("ethanol")).to("mmol/L")
+    base = f.calculated_osmolality(Q_(140, "mmol/L"), Q_(5, "mmol/L"), Q_(5, "mmol/L")).m_as("mOsm/kg")
+    empirical = f.calculated_osmolality(
+        Q_(140, "mmol/L"), Q_(5, "mmol/L"), Q_(5, "mmol/L"), ethanol, f.ETHANOL_FACTOR_EMPIRICAL
+    )
+    assert empirical.m_as("mOsm/kg") - base == pytest.approx(1.25 * 920 / 46.07)
+    assert empirical.m_as("mOsm/kg") - base == pytest.approx(92 / 3.7, rel=0.01)
+
+
+def test_the_ethanol_factor_setting_reaches_the_check(tmp_path: Path, demo: Formulary) -> None:
+    path = tmp_path / "empirical.toml"
+    path.write_text(
+        Path(demo.path).read_text(encoding="utf-8").replace('ethanol_factor = "molar"', 'ethanol_factor = "empirical"'),
+        encoding="utf-8",
+    )
+    fields = {"weight": "70", "age": "40", "sex": "male", "sodium": "140", "glucose": "5", "urea": "5", "ethanol": "20"}
+    # 290 + 20 (molar) and 290 + 1.25 x 20 = 315 (empirical).
+    assert run_check(parse_check_request(fields), demo).calculated_osmolality_mosm_kg == pytest.approx(310.0)
+    assert run_check(parse_check_request(fields), load_formulary(path)).calculated_osmolality_mosm_kg == (
+        pytest.approx(315.0)
+    )
+
+
+def test_effective_osmolality_leaves_out_urea_and_ethanol() -> None:
+    # Tonicity 2 Na + glucose (standard physiology: urea and ethanol cross cell membranes): 2 x 140 + 5 = 285.
+    assert f.effective_osmolality(Q_(140, "mmol/L"), Q_(5, "mmol/L")).m_as("mOsm/kg") == pytest.approx(285.0)
+
+
+def test_osmolar_gap_is_measured_minus_calculated() -> None:
+    # Gap = measured - calculated (McMaster Textbook of Internal Medicine): 310 - 290 = 20.
+    gap = f.osmolar_gap(Q_(310, "mOsm/kg"), Q_(290, "mOsm/kg"))
+    assert gap.m_as("mOsm/kg") == pytest.approx(20.0)
+    assert f.osmolar_gap(Q_(285, "mOsm/kg"), Q_(290, "mOsm/kg")).m_as("mOsm/kg") == pytest.approx(-5.0)
+
+
+# --- amounts and rates -------------------------------------------------------------------------
+
+
+def test_amount_volume_and_rate() -> None:
+    # 350 mL of 20 % mannitol (200 g/L) holds 70 g; 70 g is 350 mL; 250 mL in 15 min is 1000 mL/h.
+    assert f.amount_in_volume(Q_(350, "mL"), Q_(200, "g/L"), "g").m_as("g") == pytest.approx(70.0)
+    assert f.volume_for_amount(Q_(70, "g"), Q_(20, "percent_wv")).m_as("mL") == pytest.approx(350.0)
+    assert f.infusion_rate(Q_(250, "mL"), Q_(15, "min")).m_as("mL/h") == pytest.approx(1000.0)
+
+
+def test_a_formula_refuses_a_quantity_in_the_wrong_dimension() -> None:
+    with pytest.raises(pint.DimensionalityError):
+        f.projected_sodium(Q_(140, "mmol/L"), Q_(513, "mmol/L"), Q_(42, "kg"), Q_(1, "L"))
+
+
+# --- scalars and arrays ------------------------------------------------------------------------
+
+SODIUM = np.array([110.0, 140.0, 168.0, 125.0])
+INFUSATE = np.array([513.0, 154.0, 0.0, 4004.0])
+TBW = np.array([42.0, 35.0, 34.0, 21.5])
+VOLUME = np.array([1.0, 0.25, 3.0, 0.03])
+AGE = np.array([40.0, 70.0, 8.0, 35.0])
+MALE = np.array([True, False, True, True])
+HEIGHT = np.array([180.0, 165.0, 130.0, 180.0])
+WEIGHT = np.array([70.0, 65.0, 25.0, 80.0])
+GLUCOSE = np.array([5.0, 30.0, 6.0, 7.5])
+UREA = np.array([5.0, 12.0, 3.0, 40.0])
+
+
+def _columns() -> dict[str, tuple]:
+    """Each formula as (arrays in, a function of row i giving the same call on scalars)."""
+    q = Q_
+    return {
+        "projected": (
+            lambda: f.projected_sodium(q(SODIUM, "mmol/L"), q(INFUSATE, "mmol/L"), q(TBW, "L"), q(VOLUME, "L")),
+            lambda i: f.projected_sodium(
+                q(SODIUM[i], "mmol/L"), q(INFUSATE[i], "mmol/L"), q(TBW[i], "L"), q(VOLUME[i], "L")
+            ),
+        ),
+        "per_litre": (
+            lambda: f.sodium_change_per_litre(q(SODIUM, "mmol/L"), q(INFUSATE, "mmol/L"), q(TBW, "L")),
+            lambda i: f.sodium_change_per_litre(q(SODIUM[i], "mmol/L"), q(INFUSATE[i], "mmol/L"), q(TBW[i], "L")),
+        ),
+        "watson": (
+            lambda: f.tbw_watson(q(AGE, "year"), q(HEIGHT, "cm"), q(WEIGHT, "kg"), MALE),
+            lambda i: f.tbw_watson(q(AGE[i], "year"), q(HEIGHT[i], "cm"), q(WEIGHT[i], "kg"), bool(MALE[i])),
+        ),
+        "fraction": (
+            lambda: f.tbw_from_fraction(q(WEIGHT, "kg"), f.tbw_fraction(AGE, MALE)),
+            lambda i: f.tbw_from_fraction(q(WEIGHT[i], "kg"), f.tbw_fraction(AGE[i], bool(MALE[i]))),
+        ),
+        "osmolality": (
+            lambda: f.calculated_osmolality(q(SODIUM, "mmol/L"), q(GLUCOSE, "mmol/L"), q(UREA, "mmol/L")),
+            lambda i: f.calculated_osmolality(q(SODIUM[i], "mmol/L"), q(GLUCOSE[i], "mmol/L"), q(UREA[i], "mmol/L")),
+        ),
+        "effective": (
+            lambda: f.effective_osmolality(q(SODIUM, "mmol/L"), q(GLUCOSE, "mmol/L")),
+            lambda i: f.effective_osmolality(q(SODIUM[i], "mmol/L"), q(GLUCOSE[i], "mmol/L")),
+        ),
+        "volume_for_change": (
+            lambda: f.volume_for_sodium_change(q(SODIUM, "mmol/L"), q(INFUSATE, "mmol/L"), q(TBW, "L"), q(5, "mmol/L")),
+            lambda i: f.volume_for_sodium_change(
+                q(SODIUM[i], "mmol/L"), q(INFUSATE[i], "mmol/L"), q(TBW[i], "L"), q(5, "mmol/L")
+            ),
+        ),
+    }
+
+
+@pytest.mark.parametrize("name", list(_columns()))
+def test_scalars_and_arrays_give_identical_results(name: str) -> None:
+    as_array, as_scalar = _columns()[name]
+    column = as_array()
+    assert isinstance(column.magnitude, np.ndarray)
+    assert column.magnitude.shape == SODIUM.shape
+    for i in range(len(SODIUM)):
+        scalar = as_scalar(i)
+        assert isinstance(scalar.magnitude, float)
+        assert scalar.units == column.units
+        np.testing.assert_array_equal(scalar.magnitude, column.magnitude[i])
