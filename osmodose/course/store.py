@@ -25,6 +25,7 @@ from pydantic import ValidationError
 
 from osmodose.course.episode import FORMAT_VERSION, Episode
 from osmodose.course.migrations import MIGRATIONS, MigrationError, migrate
+from osmodose.durable import fsync_directory
 from osmodose.errors import EpisodeFileError
 
 UNCHANGED = "the file was not changed"
@@ -144,27 +145,13 @@ def save_episode(episode: Episode, path: Path | str, create: bool = False, expec
             raise EpisodeFileError(path, CHANGED_MEANWHILE)
         os.replace(tmp_name, path)
         tmp_name = None
-        _fsync_folder(folder)
+        fsync_directory(folder)
     except OSError as error:
         raise EpisodeFileError(path, f"cannot be written: {error.strerror or type(error).__name__}") from None
     finally:
         if tmp_name is not None:
             with contextlib.suppress(OSError):
                 os.unlink(tmp_name)
-
-
-def _fsync_folder(folder: Path) -> None:
-    """Make the rename itself durable; some systems cannot open a folder, which costs only durability."""
-    try:
-        fd = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
 
 
 def update_episode(path: Path | str, change: Callable[[Episode], Episode]) -> Episode:

@@ -29,6 +29,7 @@ from pathlib import Path
 
 from pydantic import BaseModel, ConfigDict, ValidationError
 
+from osmodose.durable import fsync_directory
 from osmodose.errors import LogError
 from osmodose.verify.record import VerificationRecord
 
@@ -332,19 +333,5 @@ def append_record(path: Path | str, record: VerificationRecord) -> tuple[LogEntr
     finally:
         os.close(fd)
     if created:
-        _sync_directory(path.parent)
+        fsync_directory(path.parent)
     return entry, digest
-
-
-def _sync_directory(directory: Path) -> None:
-    """Make a new file's directory entry durable too (POSIX; a no-op where directories cannot be opened)."""
-    try:
-        fd = os.open(directory, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
