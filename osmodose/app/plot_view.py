@@ -15,7 +15,7 @@ from typing import Literal
 from osmodose.course.findings import when
 from osmodose.course.series import CourseSeries, Floats
 
-Style = Literal["points", "line", "points+line"]
+Style = Literal["points", "line", "points+line", "limit"]
 #: matplotlib's tab: colours, as `osmodose course plot` draws the same lines.
 BLUE, ORANGE, RED, PURPLE, GREEN, GREY = "#1f77b4", "#ff7f0e", "#d62728", "#9467bd", "#2ca02c", "#7f7f7f"
 
@@ -37,7 +37,10 @@ class PlotPanel:
     title: str
     ylabel: str
     lines: tuple[PlotLine, ...]
+    """In drawing order: limit lines first, so a measured point in the same text row is drawn over them."""
     dose_hours: Floats = ()
+    x_range: Floats = ()
+    """First and last hour of the episode: both panels share it, so their times line up."""
     legend: tuple[tuple[str, str], ...] = ()
     """(colour, text) pairs, in the order drawn."""
 
@@ -55,7 +58,7 @@ def _span(series: CourseSeries) -> Floats:
 def _limit(label: str, value: float | None, span: Floats, colour: str) -> list[PlotLine]:
     if value is None or not span:
         return []
-    return [PlotLine(f"{label} {value:g}", span, (value,) * len(span), "line", colour)]
+    return [PlotLine(f"{label} {value:g}", span, (value,) * len(span), "limit", colour)]
 
 
 def x_label(series: CourseSeries) -> str:
@@ -72,7 +75,7 @@ def sodium_panel(series: CourseSeries) -> PlotPanel:
     if series.dose_hours:
         legend.append((GREY, "│ dose"))
     legend += [(line.colour, f"─ {line.label}") for line in limits]
-    return PlotPanel("sodium mmol/L", "mmol/L", (*lines, *limits), series.dose_hours, tuple(legend))
+    return PlotPanel("sodium mmol/L", "mmol/L", (*limits, *lines), series.dose_hours, span, tuple(legend))
 
 
 def pressure_panel(series: CourseSeries) -> PlotPanel:
@@ -87,4 +90,4 @@ def pressure_panel(series: CourseSeries) -> PlotPanel:
         *_limit("CPP target", series.cpp_target_min, span, GREEN),
     ]
     legend = [(PURPLE, "● ICP"), (GREEN, "● CPP"), *((line.colour, f"─ {line.label}") for line in limits)]
-    return PlotPanel("pressure mmHg", "mmHg", (*lines, *limits), (), tuple(legend))
+    return PlotPanel("pressure mmHg", "mmHg", (*limits, *lines), (), span, tuple(legend))

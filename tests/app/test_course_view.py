@@ -98,13 +98,17 @@ def test_plot_panels_draw_the_course_series_and_its_limits(tmp_path: Path, demo:
     assert [(x.hours, x.values) for x in top.lines if x.label == "projected"] == list(series.projected)
     assert top.dose_hours == series.dose_hours
     # Demo formulary limits: sodium warn 155, refuse 160; ICP above 22, CPP below 60 (Brain Trauma Foundation 4th ed.).
-    assert {x.label: x.values[0] for x in top.lines if x.style == "line" and x.label != "projected"} == {
+    assert {x.label: x.values[0] for x in top.lines if x.style == "limit"} == {
         "warn 155": 155.0,
         "refuse 160": 160.0,
     }
     bottom = pressure_panel(series)
-    assert [(x.label, x.values) for x in bottom.lines[:2]] == [("ICP", series.icp), ("CPP", series.cpp)]
-    assert [x.label for x in bottom.lines[2:]] == ["ICP threshold 22", "CPP target 60"]
+    assert [(x.label, x.hours, x.values) for x in bottom.lines[2:]] == [
+        ("ICP", series.reading_hours, series.icp),
+        ("CPP", series.reading_hours, series.cpp),
+    ]
+    assert [x.label for x in bottom.lines[:2]] == ["ICP threshold 22", "CPP target 60"]  # drawn first, under the data
+    assert top.x_range == bottom.x_range == (0.0, 14.0)  # 08:00 to 22:00, the demo's first and last entries
 
 
 def test_an_episode_with_no_entries_has_empty_panels(tmp_path: Path, demo: Formulary) -> None:

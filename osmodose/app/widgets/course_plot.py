@@ -14,7 +14,9 @@ from textual_plotext import PlotextPlot
 from osmodose.app.plot_view import GREY, PlotPanel, x_label
 from osmodose.course.series import CourseSeries
 
-_MARKER = {"points": "●", "line": "braille", "points+line": "●"}
+#: Lines (limits too) in braille dots, which place a value a quarter row apart; a measured value as a dot.
+#: A solid rule would snap a limit to the nearest whole text row and so misplace it.
+POINT, LINE = "●", "braille"
 
 
 class CoursePlot(PlotextPlot):
@@ -34,11 +36,16 @@ class CoursePlot(PlotextPlot):
         plt.xlabel(x_label(series) if self.x_label else "")
         for hours in panel.dose_hours:
             plt.vline(hours, _rgb(GREY))
+        if len(panel.x_range) == 2 and panel.x_range[1] > panel.x_range[0]:
+            plt.xlim(*panel.x_range)
         for line in panel.lines:
-            if not line.hours:
+            hours, values, colour = list(line.hours), list(line.values), _rgb(line.colour)
+            if not hours:
                 continue
-            draw = plt.scatter if line.style == "points" else plt.plot
-            draw(list(line.hours), list(line.values), marker=_MARKER[line.style], color=_rgb(line.colour))
+            if line.style != "points":
+                plt.plot(hours, values, marker=LINE, color=colour)
+            if line.style in ("points", "points+line"):
+                plt.scatter(hours, values, marker=POINT, color=colour)
         self.refresh()
 
 
