@@ -13,6 +13,7 @@ from osmodose.app.course_view import finding_rows, open_course
 from osmodose.app.plot_view import pressure_panel, sodium_panel
 from osmodose.app.screens.course import CourseScreen
 from osmodose.app.screens.entry import EntryScreen
+from osmodose.app.screens.main import MainScreen
 from osmodose.app.widgets.course_plot import CoursePlot
 from osmodose.cli.main import main
 from osmodose.course.report import review
@@ -208,3 +209,15 @@ def test_good_episode_starts_the_app_on_it(
         (expected.path, expected.sha256, expected.episode, expected.rows)
     ]
     assert capsys.readouterr().err == ""
+
+
+@sync
+async def test_help_lists_the_course_keys_and_f4_returns_to_the_check(tmp_path: Path, demo: Formulary) -> None:
+    app = course_app(demo, copy_demo(tmp_path))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f1")
+        keys = app.screen.keys  # type: ignore[attr-defined]
+        for pair in [("f4", "course"), ("l", "lab"), ("d", "dose"), ("r", "reading"), ("p", "plan"), ("2", "plot tab")]:
+            assert pair in keys
+        await pilot.press("escape", "f4")
+        assert isinstance(app.screen, MainScreen)
