@@ -7,6 +7,8 @@ from typing import ClassVar
 from textual.app import App
 from textual.binding import Binding, BindingType
 
+from osmodose.app.course_view import CourseState
+from osmodose.app.screens.course import CourseScreen
 from osmodose.app.screens.formulary import FormularyScreen
 from osmodose.app.screens.help import HelpScreen
 from osmodose.app.screens.main import MainScreen
@@ -16,7 +18,7 @@ DARK, LIGHT = "textual-dark", "textual-light"
 
 
 class OsmodoseApp(App[None]):
-    """Opens on the check; help and the formulary table are screens over it."""
+    """Opens on the check (or on the course, given an episode); help, formulary and course are screens over it."""
 
     CSS_PATH = "osmodose.tcss"
     TITLE = "osmodose"
@@ -25,29 +27,44 @@ class OsmodoseApp(App[None]):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("f1", "help", "help"),
         Binding("f2", "formulary", "formulary"),
+        Binding("f4", "course", "course"),
         Binding("ctrl+t", "toggle_theme", "light/dark"),
         Binding("ctrl+q", "quit", "quit"),
     ]
 
-    def __init__(self, formulary: Formulary, theme: str = DARK) -> None:
+    def __init__(self, formulary: Formulary, theme: str = DARK, course: CourseState | None = None) -> None:
         super().__init__()
         self.formulary = formulary
         self.theme = theme
+        self.course = course  # the episode last opened: the course screen reopens on it
 
     def get_default_screen(self) -> MainScreen:
         return MainScreen(self.formulary)
+
+    def on_mount(self) -> None:
+        if self.course is not None:  # started with --episode: open on it
+            self.action_course()
 
     def action_help(self) -> None:
         if isinstance(self.screen, HelpScreen):
             self.pop_screen()
         else:
-            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS]))
+            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS, CourseScreen.BINDINGS]))
 
     def action_formulary(self) -> None:
         if isinstance(self.screen, FormularyScreen):
             self.pop_screen()
         else:
             self.push_screen(FormularyScreen(self.formulary))
+
+    def action_course(self) -> None:
+        if isinstance(self.screen, CourseScreen):
+            self.pop_screen()
+        else:
+            self.push_screen(CourseScreen(self.formulary, self.course, self._remember))
+
+    def _remember(self, course: CourseState) -> None:
+        self.course = course
 
     def action_toggle_theme(self) -> None:
         self.theme = LIGHT if self.current_theme.dark else DARK

@@ -50,6 +50,9 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument(
         "--formulary", metavar="FILE", default=None, help="formulary for the app (default: the bundled demo formulary)"
     )
+    parser.add_argument(
+        "--episode", metavar="FILE", default=None, help="open the app on this episode file's course (see course new)"
+    )
     subparsers = parser.add_subparsers(title="commands", metavar="COMMAND", parser_class=_Parser)
     for name in SUBCOMMANDS:
         importlib.import_module(name).register(subparsers)
@@ -87,4 +90,4 @@ def _run_app(args: argparse.Namespace) -> int:
             sys.stderr.write("osmodose: the app is not built yet; use a subcommand (osmodose --help)\n")
             return BAD_INPUT
         raise
-    return int(app_module.launch(args.formulary))
+    return int(app_module.launch(args.formulary, args.episode))

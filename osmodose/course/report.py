@@ -116,7 +116,8 @@ def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
     return [(time, kind, text) for _, _, time, kind, text in rows]
 
 
-def _patient_line(result: Review) -> str:
+def patient_line(result: Review) -> str:
+    """The patient as `course show` and the app name them: label, weight, age, sex, body water."""
     p = result.episode.patient
     text = (f"{p.label}: " if p.label else "") + f"{p.weight_kg:g} kg, {p.age_years:g} y, {p.sex}"
     if p.height_cm is not None:
@@ -128,7 +129,8 @@ def _formulary_line(formulary: Formulary) -> str:
     return f"formulary: {formulary.name} v{formulary.version} sha256 {formulary.sha256}"
 
 
-def _projection_line(projection: Projection | None, timeline: Timeline) -> str:
+def projection_line(projection: Projection | None, timeline: Timeline) -> str:
+    """Where the projected sodium stands now, and from which lab, as `course show` and the app say it."""
     if projection is None:
         return "projected sodium: n/a (no labs)"
     n = len(projection.dose_rows)
@@ -154,14 +156,14 @@ def render_review_text(result: Review, path: Path | str) -> str:
         f"osmodose course  {STATUS_MARK[result.status]} {COURSE_STATUS_WORDS[result.status]}",
         f"episode: {path}",
         _formulary_line(result.formulary),
-        _patient_line(result),
+        patient_line(result),
         "",
         f"{'time':<{width}}  {'entry':<7}  details",
         *[f"{time:<{width}}  {kind:<7}  {text}" for time, kind, text in rows],
     ]
     if not rows:
         lines.append("(no entries yet)")
-    lines += ["", _projection_line(result.projection, result.timeline), "", *_findings_lines(result.findings)]
+    lines += ["", projection_line(result.projection, result.timeline), "", *_findings_lines(result.findings)]
     if result.notes:
         lines += ["notes:", *[f"  - {note}" for note in result.notes]]
     lines += ["", CAUTION]

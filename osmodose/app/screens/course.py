@@ -1,0 +1,203 @@
+"""The course of therapy: one episode file's timeline, findings and plot, and forms to add to it.
+
+Everything shown comes from one `CourseState` (the file as last read); after
+every save the file is read again and the whole screen is redrawn from it.
+Without an open episode the screen asks for a file; a file that cannot be
+used is reported there, in the command line's words, and nothing else opens.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from functools import partial
+from typing import ClassVar
+
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Vertical, VerticalScroll
+from textual.markup import escape
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Input, Label, Static, TabbedContent, TabPane
+
+from osmodose.app.course_view import (
+    ENTRY_FIELDS,
+    ENTRY_TITLES,
+    PLAN_FIELDS,
+    CourseState,
+    EntryKind,
+    FormOutcome,
+    add_entry,
+    finding_rows,
+    head_text,
+    notes_lines,
+    open_course,
+    plan_next,
+    status_text,
+)
+from osmodose.app.plot_view import pressure_panel, sodium_panel
+from osmodose.app.screens.entry import EntryScreen
+from osmodose.app.widgets.course_plot import CoursePlot, PlotLegend
+from osmodose.app.widgets.formulary_bar import formulary_line
+from osmodose.errors import OsmodoseError
+from osmodose.formulary.model import Formulary
+from osmodose.results import CAUTION
+
+TIMELINE_COLUMNS = ("time", "entry", "details")
+_STYLE = {"ok": "bold $text-success", "warn": "bold $text-warning", "refuse": "bold $text-error"}
+STATES = ("ok", "warn", "refuse")
+
+
+class CourseScreen(Screen[None]):
+    """Shows `self.state`; `remember` hands every newly read state back to the app."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("l", "add('lab')", "lab"),
+        Binding("d", "add('dose')", "dose"),
+        Binding("r", "add('reading')", "reading"),
+        Binding("p", "plan", "plan"),
+        Binding("o", "open", "open"),
+        Binding("escape", "app.pop_screen", "back"),
+        Binding("1", "tab('tab-timeline')", "timeline tab", show=False),
+        Binding("2", "tab('tab-plot')", "plot tab", show=False),
+        Binding("3", "tab('tab-findings')", "findings tab", show=False),
+    ]
+
+    def __init__(
+        self, formulary: Formulary, state: CourseState | None, remember: Callable[[CourseState], None]
+    ) -> None:
+        super().__init__(id="course-screen")
+        self.formulary = formulary
+        self.state = state
+        self.remember = remember
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="course-open"):
+            yield Label("episode file to open (JSON), then enter:")
+            yield Input(placeholder="bed3.json", id="course-path")
+            yield Static("", id="course-open-message", markup=False)
+        yield Static("", id="course-head", markup=False)
+        yield Static("", id="course-status", markup=False)
+        with TabbedContent(id="course-tabs"):
+            with TabPane("timeline", id="tab-timeline"):
+                yield DataTable(id="course-timeline", cursor_type="row", zebra_stripes=True)
+            with TabPane("plot", id="tab-plot"), VerticalScroll(id="course-plots"):
+                yield PlotLegend("sodium-legend")
+                yield CoursePlot("sodium-plot", x_label=False)
+                yield PlotLegend("pressure-legend")
+                yield CoursePlot("pressure-plot")
+            with TabPane("findings", id="tab-findings"), VerticalScroll(id="course-findings-box"):
+                yield Static("", id="course-findings")
+                yield Static("", id="course-notes", markup=False)
+        yield Static(CAUTION, id="caution", markup=False)
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.redraw()
+
+    def redraw(self) -> None:
+        """Replace everything shown with what `self.state` holds (or only the open box)."""
+        state = self.state
+        self.query_one("#course-open").display = state is None
+        for part in ("#course-head", "#course-status", "#course-tabs"):
+            self.query_one(part).display = state is not None
+        if state is None:
+            self.query_one("#course-path", Input).focus()
+            return
+        self.query_one("#course-head", Static).update(head_text(state))
+        status = self.query_one("#course-status", Static)
+        status.update(status_text(state))
+        for name in STATES:
+            status.set_class(state.review.status == name, f"-{name}")
+        self._fill_table(state)
+        for plot_id, legend_id, make in (
+            ("#sodium-plot", "#sodium-legend", sodium_panel),
+            ("#pressure-plot", "#pressure-legend", pressure_panel),
+        ):
+            panel = make(state.series)
+            self.query_one(plot_id, CoursePlot).show(state.series, panel)
+            self.query_one(legend_id, PlotLegend).show(panel)
+        rows = finding_rows(state)
+        self.query_one("#course-findings", Static).update(
+            "\n".join(f"[{_STYLE[severity]}]{escape(line)}[/]" for severity, line in rows)
+        )
+        notes = [*notes_lines(state), f"formulary: {formulary_line(self.formulary)} (F2 shows it)"]
+        self.query_one("#course-notes", Static).update("\n".join(notes))
+
+    def _fill_table(self, state: CourseState) -> None:
+        """One row per entry, the details wrapped in the width left (nothing hidden off to the right)."""
+        table = self.query_one("#course-timeline", DataTable)
+        table.clear(columns=True)
+        widths = [len(row[0]) for row in state.rows] or [len(TIMELINE_COLUMNS[0])]
+        time_width, entry_width = max(widths), len("reading")
+        # cell padding 1 each side, and the vertical scrollbar
+        details = max(30, self.size.width - time_width - entry_width - 3 * 2 - 2)
+        for label, width in zip(TIMELINE_COLUMNS, (time_width, entry_width, details), strict=True):
+            table.add_column(label, width=width)
+        for row in state.rows:
+            table.add_row(*row, height=None)
+        table.move_cursor(row=len(state.rows) - 1)
+        if self.app.focused is None or isinstance(self.app.focused, Input):
+            table.focus()
+
+    def on_resize(self) -> None:
+        if self.state is not None:
+            self._fill_table(self.state)
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        event.stop()
+        message = self.query_one("#course-open-message", Static)
+        try:
+            state = open_course(event.value.strip(), self.formulary)
+        except OsmodoseError as error:
+            message.update(f"✖ {error}")
+            message.add_class("-bad")
+            return
+        message.update("")
+        message.remove_class("-bad")
+        self.loaded(state)
+
+    def loaded(self, state: CourseState | None) -> None:
+        if state is None:
+            return
+        self.state = state
+        self.remember(state)
+        self.redraw()
+        self.refresh_bindings()
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        """Adding and planning need an open episode: hidden from the footer until one is."""
+        return not (action in ("add", "plan", "open", "tab") and self.state is None)
+
+    def action_open(self) -> None:
+        """Ask for another file; the one shown stays open (and in the app) until another loads."""
+        assert self.state is not None
+        self.query_one("#course-path", Input).value = str(self.state.path)
+        self.state = None
+        self.redraw()
+        self.refresh_bindings()
+
+    def action_tab(self, pane_id: str) -> None:
+        """Show a tab and give the keys to what is in it (the table, or a scroll)."""
+        self.query_one("#course-tabs", TabbedContent).active = pane_id
+        self.query_one(f"#{pane_id}").query("DataTable, VerticalScroll").first().focus()
+
+    def _agents(self) -> tuple[tuple[str, str], ...]:
+        return tuple((a.id, a.id) for a in self.formulary.agents)
+
+    def action_add(self, kind: EntryKind) -> None:
+        if self.state is None:
+            return
+        submit = partial(self._add, kind)
+        self.app.push_screen(EntryScreen(ENTRY_TITLES[kind], ENTRY_FIELDS[kind], submit, self._agents()), self.loaded)
+
+    def _add(self, kind: EntryKind, values: Mapping[str, str]) -> FormOutcome:
+        assert self.state is not None
+        return add_entry(self.state, kind, self.formulary, values)
+
+    def action_plan(self) -> None:
+        if self.state is None:
+            return
+        state = self.state
+        submit = partial(plan_next, state, self.formulary)
+        title = "plan the next dose (nothing is saved)"
+        self.app.push_screen(EntryScreen(title, PLAN_FIELDS, submit, self._agents(), verb="plan"))
