@@ -227,7 +227,7 @@ def _dose_request(given: dict[str, object], dose_mode: DoseMode | None) -> DoseR
         return DoseRequest(
             agent_id=agent_id, mode="target-rise", amount=rise, unit="mmol/L", duration_min=duration, text=str(raw)
         )
-    return _parse_dose(agent_id, raw, duration)
+    return parse_dose(agent_id, raw, duration)
 
 
 _DOSE_ACCEPTED = "g, mL, mmol or mOsm, absolute or per kg (1 g/kg, 5 mL/kg, 50 g, 120 mmol)"
@@ -239,7 +239,8 @@ _ABSOLUTE_UNITS: tuple[tuple[str, DoseUnit], ...] = (
 )
 
 
-def _parse_dose(agent_id: str, raw: object, duration: float | None) -> DoseRequest:
+def parse_dose(agent_id: str, raw: object, duration: float | None = None) -> DoseRequest:
+    """A dose as typed ("1 g/kg", "50 g", "120 mmol"); the audit reuses it for every dose unit it meets."""
     text = str(raw).strip()
     if isinstance(raw, (int, float)) or text.replace(".", "", 1).isdigit():
         raise InputError("dose", raw, "has no unit", _DOSE_ACCEPTED)
