@@ -19,7 +19,7 @@ from osmodose import __version__
 from osmodose.cli.exit_codes import BAD_INPUT
 from osmodose.errors import OsmodoseError
 
-SUBCOMMANDS: tuple[str, ...] = ("osmodose.cli.check_cmd",)
+SUBCOMMANDS: tuple[str, ...] = ("osmodose.cli.check_cmd", "osmodose.cli.audit_cmd")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -1,0 +1,199 @@
+"""An audit: an orders file through the engine a chunk at a time, results to sinks.
+
+Each chunk goes through exactly what `run_check` runs, on whole columns:
+`convert` (the request checks), `engine.compute`, `check.volume_problems`
+(the orders whose worked-out volume cannot be given) and `rules.evaluate`.
+Memory is the chunk's plus what the sinks keep, so it grows with the file
+only as far as the summary's dose distributions do (8 bytes a figure).
+"""
+
+from __future__ import annotations
+
+import gc
+import math
+import sys
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Protocol, TextIO
+
+import numpy as np
+
+from osmodose.audit.columns import Header
+from osmodose.audit.convert import Converted, convert
+from osmodose.audit.reader import open_orders
+from osmodose.check import volume_error, volume_problems
+from osmodose.engine import compute
+from osmodose.formulary.model import Formulary
+from osmodose.rules import REFUSE, SEVERITY_NAMES, RuleOutcome, evaluate
+
+#: Rows per chunk: big enough that the engine's fixed cost per call is small
+#: beside the arithmetic, small enough that a chunk's text stays a few tens of MB.
+CHUNK_ROWS = 50_000
+
+STATUS_NAMES = {-1: "error", 0: "ok", 1: "warn", 2: "refuse"}
+
+#: Output name (as in `check --json`) -> engine figure.
+FIGURES: tuple[tuple[str, str], ...] = (
+    ("total_body_water_l", "tbw_l"),
+    ("calculated_osmolality_mosm_kg", "calculated_osmolality"),
+    ("effective_osmolality_mosm_kg", "effective_osmolality"),
+    ("osmolar_gap_mosm_kg", "osmolar_gap"),
+    ("volume_ml", "volume_ml"),
+    ("solute_g", "solute_g"),
+    ("sodium_mmol", "sodium_mmol"),
+    ("osmoles_mosm", "osmoles_mosm"),
+    ("volume_ml_per_kg", "volume_ml_per_kg"),
+    ("solute_g_per_kg", "solute_g_per_kg"),
+    ("sodium_mmol_per_kg", "sodium_mmol_per_kg"),
+    ("osmoles_mosm_per_kg", "osmoles_mosm_per_kg"),
+    ("rate_ml_h", "rate_ml_h"),
+    ("sodium_change_per_litre_mmol_l", "sodium_change_per_litre"),
+    ("projected_sodium_mmol_l", "projected_sodium"),
+    ("projected_sodium_rise_mmol_l", "projected_rise"),
+)
+
+
+def _opt(value: float) -> float | None:
+    return None if math.isnan(value) else float(value)
+
+
+@dataclass(frozen=True)
+class ChunkResult:
+    """The audit of one chunk: a status per row, figures as full columns, rule outcomes for audited rows."""
+
+    lines: np.ndarray
+    order_id: tuple[str, ...] | None
+    agent_text: np.ndarray
+    status: np.ndarray
+    reasons: dict[int, str]
+    tbw_method: np.ndarray
+    figures: dict[str, np.ndarray]
+    #: Positions of the audited rows; `agent_index` and each outcome's columns follow them.
+    rows: np.ndarray
+    agent_index: np.ndarray
+    outcomes: list[RuleOutcome]
+
+    def __len__(self) -> int:
+        return len(self.lines)
+
+    def findings(self) -> dict[int, list[dict[str, object]]]:
+        """Position -> findings as `check --json` lists them (refusals first, then in rule order)."""
+        found: dict[int, list[dict[str, object]]] = {}
+        for outcome in self.outcomes:
+            for k in np.flatnonzero(outcome.severity).tolist():
+                found.setdefault(int(self.rows[k]), []).append(
+                    {
+                        "code": outcome.code,
+                        "severity": SEVERITY_NAMES[int(outcome.severity[k])],
+                        "message": outcome.message(k),
+                        "value": _opt(outcome.value[k]),
+                        "limit": _opt(outcome.limit[k]),
+                        "unit": outcome.unit,
+                    }
+                )
+        for items in found.values():
+            items.sort(key=lambda item: item["severity"] != "refuse")
+        return found
+
+
+class Sink(Protocol):
+    """Where chunk results go: an output file, the summary, the list of bad rows."""
+
+    def add(self, chunk: ChunkResult) -> None: ...
+
+    def close(self) -> None: ...
+
+
+def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -> ChunkResult:
+    """Engine and rules over the rows that passed `convert`, as `run_check` runs them on one."""
+    n = len(lines)
+    reasons = dict(converted.reasons)
+    rows = np.flatnonzero(converted.good())
+    cases = converted.cases(rows)
+    with np.errstate(all="ignore"):
+        figures = compute(cases, formulary.agents, formulary.settings)
+        mode = converted.mode[rows]
+        unreachable, implausible = volume_problems(mode, figures.volume_ml)
+        failed = (mode != "") & (unreachable | implausible)
+        outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, converted.line[rows])
+    for k in np.flatnonzero(failed).tolist():
+        i = int(rows[k])
+        agent = formulary.agents[int(converted.agent_index[i])]
+        sodium = float(converted.columns["sodium"][i])
+        error = volume_error(converted.dose_request(i, formulary), agent, sodium, float(figures.volume_ml[k]))
+        reasons[i] = str(error)
+    keep = ~failed
+    kept = rows[keep]
+    full = {}
+    for name, attribute in FIGURES:
+        column = np.full(n, np.nan)
+        column[kept] = getattr(figures, attribute)[keep]
+        full[name] = column
+    outcomes = [replace(o, severity=o.severity[keep], value=o.value[keep], limit=o.limit[keep]) for o in outcomes]
+    worst = np.zeros(len(kept), dtype=np.int8)
+    for outcome in outcomes:
+        worst = np.maximum(worst, outcome.severity)
+    status = np.full(n, -1, dtype=np.int8)
+    status[kept] = np.minimum(worst, REFUSE)
+    return ChunkResult(
+        lines=lines,
+        order_id=None,
+        agent_text=converted.agent_text,
+        status=status,
+        reasons=reasons,
+        tbw_method=np.where(converted.use_watson, "watson", "fraction"),
+        figures=full,
+        rows=kept,
+        agent_index=converted.agent_index[kept],
+        outcomes=outcomes,
+    )
+
+
+class Progress:
+    """A one-line progress bar on stderr, redrawn after each chunk."""
+
+    WIDTH = 30
+
+    def __init__(self, stream: TextIO | None = None) -> None:
+        self.stream = stream or sys.stderr
+
+    def update(self, fraction: float, rows: int) -> None:
+        filled = round(fraction * self.WIDTH)
+        bar = "#" * filled + "." * (self.WIDTH - filled)
+        self.stream.write(f"\raudit [{bar}] {fraction:4.0%} {rows:,} rows")
+        self.stream.flush()
+
+    def finish(self) -> None:
+        self.stream.write("\n")
+        self.stream.flush()
+
+
+def run_audit(
+    path: Path | str,
+    formulary: Formulary,
+    sinks: Sequence[Sink],
+    chunk_rows: int = CHUNK_ROWS,
+    progress: Progress | None = None,
+) -> Header:
+    """Audit every row of the file into the sinks; a bad header raises OrdersFileError before any row."""
+    rows = 0
+    with open_orders(path) as orders:
+        for raw in orders.chunks(chunk_rows):
+            converted = convert(orders.header, raw, formulary)
+            result = audit_chunk(converted, raw.lines, formulary)
+            if "order-id" in orders.header:
+                result = replace(result, order_id=tuple(c.strip() for c in raw.cells["order-id"]))
+            for sink in sinks:
+                sink.add(result)
+            rows += len(raw)
+            del raw, converted, result
+            gc.collect(0)
+            if progress is not None:
+                progress.update(orders.fraction_read(), rows)
+        header = orders.header
+    if progress is not None:
+        progress.finish()
+    for sink in sinks:
+        sink.close()
+    return header
