@@ -20,6 +20,11 @@ from osmodose.formulary.model import Agent, Limits
 NONE, WARN, REFUSE = 0, 1, 2
 SEVERITY_NAMES = {WARN: "warn", REFUSE: "refuse"}
 
+#: A figure within this relative distance of a limit is at the limit, not above it.  The
+#: engine's unit conversions leave a few units in the last place (a 1.5 g/kg order came back
+#: as 1.5000000000000004 g/kg for 40.2 kg), which must not cross a limit set at 1.5 g/kg.
+LIMIT_RELATIVE_TOLERANCE = 1e-9
+
 
 @dataclass(frozen=True)
 class RuleOutcome:
@@ -41,11 +46,17 @@ def _num(value: float | None) -> float:
     return np.nan if value is None else float(value)
 
 
+def _past(limit: np.ndarray | float) -> np.ndarray | float:
+    """The smallest figure judged above `limit` (infinite and NaN limits stay as they are)."""
+    with np.errstate(invalid="ignore"):
+        return limit + np.abs(limit) * LIMIT_RELATIVE_TOLERANCE
+
+
 def _threshold(value: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
     """2 above refuse, 1 above warn, else 0; NaN values and limits give 0."""
     with np.errstate(invalid="ignore"):
-        refused = np.nan_to_num(value > refuse, nan=False)
-        warned = np.nan_to_num(value > warn, nan=False)
+        refused = np.nan_to_num(value > _past(refuse), nan=False)
+        warned = np.nan_to_num(value > _past(warn), nan=False)
     return np.where(refused, REFUSE, np.where(warned, WARN, NONE)).astype(np.int8)
 
 
