@@ -22,7 +22,7 @@ from osmodose.audit.columns import ORDER_COLUMNS, Column, Header
 from osmodose.audit.reader import RawChunk
 from osmodose.check import dose_misfit, height_required_error
 from osmodose.chemistry import molar_mass
-from osmodose.engine import DOSE_UNITS, Cases
+from osmodose.engine import DOSE_UNITS, Cases, dose_unit_codes
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.inputs import DoseRequest, parse_dose
@@ -52,6 +52,7 @@ class Converted:
     agent_index: np.ndarray
     mode: np.ndarray
     dose_unit: np.ndarray
+    dose_unit_code: np.ndarray
     dose_amount: np.ndarray
     dose_per_kg: np.ndarray
     dose_text: list[str]
@@ -78,7 +79,7 @@ class Converted:
             ethanol=Q_(c["ethanol"], "mmol/L"),
             osmolality=Q_(c["osmolality"], "mOsm/kg"),
             agent_index=self.agent_index[rows],
-            dose_unit=self.dose_unit[rows],
+            dose_unit=self.dose_unit_code[rows],
             dose_amount=self.dose_amount[rows],
             dose_per_kg=self.dose_per_kg[rows],
             duration_min=c["duration"],
@@ -296,7 +297,8 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg, dose_text)
 
     agent_index = _agent_index(formulary, agent_text, active & ~reasons.bad, reasons)
-    _misfits(formulary, agent_index, mode, dose_unit, amount, per_kg, dose_text, reasons)
+    unit_code = dose_unit_codes(dose_unit)
+    _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, dose_text, reasons)
     height_given = given["height"]
     reasons.add(use_watson & ~height_given, lambda i: str(height_required_error()))
 
@@ -310,6 +312,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         agent_index=agent_index,
         mode=mode,
         dose_unit=dose_unit,
+        dose_unit_code=unit_code,
         dose_amount=amount,
         dose_per_kg=per_kg,
         dose_text=dose_text,
@@ -392,6 +395,7 @@ def _misfits(
     agent_index: np.ndarray,
     mode: np.ndarray,
     dose_unit: np.ndarray,
+    unit_code: np.ndarray,
     amount: np.ndarray,
     per_kg: np.ndarray,
     dose_text: list[str],
@@ -403,9 +407,6 @@ def _misfits(
         for a, agent in enumerate(formulary.agents):
             probe = DoseRequest(agent_id=agent.id, mode="dose", amount=1.0, unit=unit, text="")  # type: ignore[arg-type]
             table[u, a] = dose_misfit(probe, agent) is not None
-    unit_code = np.zeros(len(dose_unit), dtype=np.int64)
-    for u, unit in enumerate(DOSE_UNITS):
-        unit_code[dose_unit == unit] = u
     misfit = table[unit_code, agent_index] & (agent_index >= 0)
 
     def message(i: int) -> str:
