@@ -233,14 +233,11 @@ def _bare_parse(path: Path) -> float:
     return time.perf_counter() - start
 
 
-def measure(n: int, check_sample: int) -> dict[str, float]:
+def measure(orders: Path, n: int, check_sample: int) -> dict[str, float]:
     """Everything for one N (run in a child process so peak memory is this N's alone)."""
     formulary = load_formulary(demo_formulary_path())
     base_rss = _rss_mb()
     with tempfile.TemporaryDirectory() as folder:
-        orders = Path(folder) / "orders.csv"
-        make_orders(orders, n)
-        rss_before = _rss_mb()
         timings: dict[str, float] = {}
         start = time.perf_counter()
         with open(Path(folder) / "results.csv", "w", newline="", encoding="utf-8") as out:
@@ -306,8 +303,8 @@ def measure(n: int, check_sample: int) -> dict[str, float]:
         "bare_parse_s": bare,
         "check_per_row_s": per_check,
         "rss_base_mb": base_rss,
-        "rss_file_made_mb": rss_before,
         "rss_peak_mb": peak_rss,
+        "file_mb": orders.stat().st_size / 1e6,
     }
 
 
@@ -364,8 +361,8 @@ def report(results: list[dict[str, float]]) -> str:
         lines.append(
             f"{r['n']:>9}  {r['read_s']:.2f} / {r['convert_s']:.2f} / {r['engine_s']:.2f} / {r['sinks_s']:.2f}"
             f"   bare parse {r['bare_parse_s']:.2f}   whole {r['whole_s']:.2f}"
-            f"   RSS MB: after import {r['rss_base_mb']:.0f}, file made {r['rss_file_made_mb']:.0f},"
-            f" audit peak {r['rss_peak_mb']:.0f}"
+            f"   file {r['file_mb']:.0f} MB; RSS after imports {r['rss_base_mb']:.0f} MB,"
+            f" audit peak {r['rss_peak_mb']:.0f} MB"
         )
     return "\n".join(lines)
 
@@ -374,17 +371,26 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--n", type=int, nargs="*", default=[10**4, 10**5, 10**6])
     parser.add_argument("--check-sample", type=int, default=2000)
+    parser.add_argument("--make", type=int, help=argparse.SUPPRESS)
     parser.add_argument("--one", type=int, help=argparse.SUPPRESS)
+    parser.add_argument("--file", type=Path, help=argparse.SUPPRESS)
     parser.add_argument("--json", action="store_true", help="print the raw numbers as JSON too")
     args = parser.parse_args(argv)
+    if args.make is not None:
+        make_orders(args.file, args.make)
+        return 0
     if args.one is not None:
-        print(json.dumps(measure(args.one, min(args.check_sample, args.one))))
+        print(json.dumps(measure(args.file, args.one, min(args.check_sample, args.one))))
         return 0
     results = []
-    for n in args.n:
-        child = [sys.executable, __file__, "--one", str(n), "--check-sample", str(args.check_sample)]
-        done = subprocess.run(child, capture_output=True, text=True, check=True)
-        results.append(json.loads(done.stdout.strip().splitlines()[-1]))
+    with tempfile.TemporaryDirectory() as folder:
+        for n in args.n:
+            orders = Path(folder) / f"orders-{n}.csv"
+            subprocess.run([sys.executable, __file__, "--make", str(n), "--file", str(orders)], check=True)
+            child = [sys.executable, __file__, "--one", str(n), "--check-sample", str(args.check_sample)]
+            done = subprocess.run([*child, "--file", str(orders)], capture_output=True, text=True, check=True)
+            results.append(json.loads(done.stdout.strip().splitlines()[-1]))
+            orders.unlink()
     print(report(results))
     if args.json:
         print(json.dumps(results, indent=1))

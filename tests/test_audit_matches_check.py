@@ -9,6 +9,7 @@ message or error that differs is a failure.
 from __future__ import annotations
 
 import csv
+import io
 import math
 import tempfile
 from pathlib import Path
@@ -16,7 +17,7 @@ from pathlib import Path
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from osmodose.audit.output import row_dicts
+from osmodose.audit.output import CsvResults, row_dicts
 from osmodose.audit.run import FIGURES, run_audit
 from osmodose.check import run_check
 from osmodose.errors import InputError
@@ -170,6 +171,7 @@ def _expected_figures(result: dict) -> dict[str, float | None]:
 
 
 def audit_rows(header: list[str], rows: list[list[str]], chunk_rows: int = 3) -> list[dict]:
+    """The audit's JSON rows; its CSV rows are checked against them on the way."""
     with tempfile.TemporaryDirectory() as folder:
         path = Path(folder) / "orders.csv"
         with open(path, "w", newline="", encoding="utf-8") as handle:
@@ -185,8 +187,25 @@ def audit_rows(header: list[str], rows: list[list[str]], chunk_rows: int = 3) ->
             def close(self) -> None:
                 pass
 
-        run_audit(path, DEMO, [Collect()], chunk_rows=chunk_rows)
+        text = io.StringIO()
+        run_audit(path, DEMO, [Collect(), CsvResults(text, with_order_id=False)], chunk_rows=chunk_rows)
+    _csv_matches_json(text.getvalue(), out)
     return out
+
+
+def _csv_matches_json(text: str, rows: list[dict]) -> None:
+    """The CSV results read back (any CSV reader) as the JSON rows, figures exactly."""
+    table = list(csv.DictReader(io.StringIO(text)))
+    assert len(table) == len(rows)
+    for line, row in zip(table, rows, strict=True):
+        assert int(line["row"]) == row["row"]
+        assert line["status"] == row["status"]
+        assert (line["reason"] or None) == row["reason"]
+        assert (line["agent"] or None) == row["agent"]
+        for name, _ in FIGURES:
+            assert (float(line[name]) if line[name] else None) == row[name], name
+        assert line["findings"] == ";".join(f"{f['code']}:{f['severity']}" for f in row["findings"])
+        assert line["messages"] == " | ".join(f["message"] for f in row["findings"])
 
 
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])

@@ -9,7 +9,6 @@ only as far as the summary's dose distributions do (8 bytes a figure).
 
 from __future__ import annotations
 
-import gc
 import math
 import sys
 import time
@@ -207,7 +206,6 @@ def run_audit(
             spent["sinks"] += time.perf_counter() - after_engine
             rows += len(raw)
             del raw, converted, result
-            gc.collect(0)
             if progress is not None:
                 progress.update(orders.fraction_read(), rows)
         header = orders.header
