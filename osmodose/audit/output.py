@@ -25,7 +25,11 @@ MESSAGE_SEPARATOR = " | "
 
 
 def _numbers(values: np.ndarray) -> list[str]:
-    return ["" if isnan(v) else repr(v) for v in values.tolist()]
+    """Shortest round-trip text of each figure; "" where it cannot be computed."""
+    text = list(map(repr, values.tolist()))
+    for i in np.flatnonzero(np.isnan(values)).tolist():
+        text[i] = ""
+    return text
 
 
 def formulary_ref(formulary: Formulary) -> dict[str, str]:

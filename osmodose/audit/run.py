@@ -111,12 +111,14 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     reasons = dict(converted.reasons)
     rows = np.flatnonzero(converted.good())
     cases = converted.cases(rows)
+    every = len(rows) == n
     with np.errstate(all="ignore"):
         figures = compute(cases, formulary.agents, formulary.settings)
-        mode = converted.mode[rows]
+        mode = converted.mode if every else converted.mode[rows]
         unreachable, implausible = volume_problems(mode, figures.volume_ml)
         failed = (mode != "") & (unreachable | implausible)
-        outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, converted.line[rows])
+        line = converted.line if every else converted.line[rows]
+        outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, line)
     for k in np.flatnonzero(failed).tolist():
         i = int(rows[k])
         agent = formulary.agents[int(converted.agent_index[i])]
@@ -127,10 +129,14 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     kept = rows[keep]
     full = {}
     for name, attribute in FIGURES:
+        if len(kept) == n:  # every row audited: the engine's columns are already the chunk's
+            full[name] = getattr(figures, attribute)
+            continue
         column = np.full(n, np.nan)
         column[kept] = getattr(figures, attribute)[keep]
         full[name] = column
-    outcomes = [replace(o, severity=o.severity[keep], value=o.value[keep], limit=o.limit[keep]) for o in outcomes]
+    if not keep.all():
+        outcomes = [replace(o, severity=o.severity[keep], value=o.value[keep], limit=o.limit[keep]) for o in outcomes]
     worst = np.zeros(len(kept), dtype=np.int8)
     for outcome in outcomes:
         worst = np.maximum(worst, outcome.severity)
