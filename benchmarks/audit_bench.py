@@ -322,7 +322,7 @@ def _merged_cases(parts: list, good: np.ndarray) -> object:
         dose_unit_code=np.concatenate([p.dose_unit_code for p in parts]),
         dose_amount=np.concatenate([p.dose_amount for p in parts]),
         dose_per_kg=np.concatenate([p.dose_per_kg for p in parts]),
-        dose_text=[],
+        shown=lambda _name, _row: "",
         use_watson=np.concatenate([p.use_watson for p in parts]),
         line=np.concatenate([p.line for p in parts]),
     )

@@ -57,7 +57,8 @@ class Converted:
     dose_unit_code: np.ndarray
     dose_amount: np.ndarray
     dose_per_kg: np.ndarray
-    dose_text: list[str]
+    #: The cell of a column as check would have been typed it: (column, position) -> text.
+    shown: Callable[[str, int], str]
     use_watson: np.ndarray
     line: np.ndarray
 
@@ -90,6 +91,10 @@ class Converted:
             use_watson=self.use_watson[rows],
         )
 
+    def dose_text(self, row: int) -> str:
+        """The order as typed (for messages only, so read when a message needs it)."""
+        return self.shown(str(self.mode[row]), row)
+
     def dose_request(self, row: int, formulary: Formulary) -> DoseRequest:
         """The DoseRequest a check would have made for this row (for the message of a failed order)."""
         return DoseRequest(
@@ -99,7 +104,7 @@ class Converted:
             unit=str(self.dose_unit[row]),  # type: ignore[arg-type]
             per_kg=bool(self.dose_per_kg[row]),
             duration_min=None if math.isnan(self.columns["duration"][row]) else float(self.columns["duration"][row]),
-            text=self.dose_text[row],
+            text=self.dose_text(row),
         )
 
 
@@ -123,6 +128,7 @@ class _Chunk:
 
     def __init__(self, header: Header, raw: RawChunk) -> None:
         self.header, self.raw, self.n = header, raw, len(raw)
+        self._numbers: dict[str, tuple[np.ndarray, np.ndarray, dict[int, str]]] = {}
 
     def text(self, name: str) -> np.ndarray:
         cells = self.raw.cells.get(name)
@@ -139,8 +145,28 @@ class _Chunk:
             return f"{text} {unit}" if unit else text
         return f"{text} {column.unit}" if column.unit else text
 
+    def given(self, name: str) -> np.ndarray:
+        """Whether each cell of the column holds anything but spaces."""
+        cells = self.raw.cells.get(name)
+        if cells is None:
+            return np.zeros(self.n, dtype=bool)
+        return np.fromiter((bool(c) and not c.isspace() for c in cells), dtype=bool, count=self.n)
+
+    def order_text(self, row: int) -> str:
+        """The order of a row as typed: its dose, volume or target-rise cell with the header's unit."""
+        for name in ORDER_COLUMNS:
+            if name in self.header and self.raw.cells[name][row].strip():
+                return self.shown(name, row)
+        return ""
+
     def number(self, name: str) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
-        """(canonical values, given, reason of each unreadable cell) of a number column.
+        """(canonical values, given, reason of each unreadable cell) of a number column, read once."""
+        if name not in self._numbers:
+            self._numbers[name] = self._read_number(name)
+        return self._numbers[name]
+
+    def _read_number(self, name: str) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
+        """Read a number column.
 
         Plain numbers are read as one array.  Any other cell ("70kg", "1,5",
         "nan") is read by `parse_quantity` exactly as check reads its typed
@@ -265,7 +291,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     agent_codes, agent_ids = encode(raw.cells["agent"]) if "agent" in header else (np.zeros(n, np.int64), [""])
     agent_text = np.asarray(agent_ids, dtype=object)[agent_codes]
     has_agent = agent_text != ""
-    orders = {name: np.strings.str_len(chunk.text(name)) > 0 for name in ORDER_COLUMNS}
+    orders = {name: chunk.given(name) for name in ORDER_COLUMNS}
     count = sum(orders.values())
 
     def nth_order(i: int, nth: int) -> str:
@@ -303,15 +329,11 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     number("target-rise", active=rise_text)
     amount = np.where(mode == "volume", values["volume"], np.where(rise_text, values["target-rise"], np.nan))
     per_kg = np.zeros(n, dtype=bool)
-    dose_text = [""] * n
-    for name in ("volume", "target-rise"):
-        for i in np.flatnonzero(mode == name).tolist():
-            dose_text[i] = chunk.shown(name, i)
-    _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg, dose_text)
+    _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg)
 
     agent_index = _agent_index(formulary, agent_text, active & ~reasons.bad, reasons)
     unit_code = dose_unit_codes(dose_unit)
-    _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, dose_text, reasons)
+    _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, chunk.order_text, reasons)
     height_given = given["height"]
     reasons.add(use_watson & ~height_given, lambda i: str(height_required_error()))
 
@@ -328,7 +350,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         dose_unit_code=unit_code,
         dose_amount=amount,
         dose_per_kg=per_kg,
-        dose_text=dose_text,
+        shown=chunk.shown,
         use_watson=use_watson,
         line=line,
     )
@@ -341,11 +363,17 @@ def _read_doses(
     amount: np.ndarray,
     dose_unit: np.ndarray,
     per_kg: np.ndarray,
-    dose_text: list[str],
 ) -> None:
     """Dose cells through `parse_dose`: once per distinct unit, or per distinct text when odd."""
-    texts = [chunk.shown("dose", i) for i in rows.tolist()]
-    codes, distinct = encode(texts)
+    if not len(rows):
+        return
+    cells = chunk.raw.cells["dose"]
+    if "dose-unit" in chunk.header:
+        codes, distinct = encode([chunk.shown("dose", i) for i in rows.tolist()])
+    else:
+        codes, plain = encode([cells[i] for i in rows.tolist()])
+        unit = chunk.header.columns["dose"].unit
+        distinct = [f"{c} {unit}" if unit and c else c for c in plain]
     units: dict[str, DoseRequest | InputError] = {}
     read: list[tuple[float, str, bool] | str] = []
     for text in distinct:
@@ -375,8 +403,6 @@ def _read_doses(
     amount[rows] = np.asarray([e[0] for e in entries], dtype=float)[codes]
     dose_unit[rows] = np.asarray([e[1] for e in entries], dtype=dose_unit.dtype)[codes]
     per_kg[rows] = np.asarray([e[2] for e in entries], dtype=bool)[codes]
-    for i, text in zip(rows.tolist(), texts, strict=True):
-        dose_text[i] = text
 
 
 def _parse(text: str) -> DoseRequest | InputError:
@@ -411,7 +437,7 @@ def _misfits(
     unit_code: np.ndarray,
     amount: np.ndarray,
     per_kg: np.ndarray,
-    dose_text: list[str],
+    text_of: Callable[[int], str],
     reasons: _Reasons,
 ) -> None:
     """Rows whose dose cannot be had from their agent, by `check.dose_misfit` on each (unit, agent) pair."""
@@ -430,7 +456,7 @@ def _misfits(
             amount=float(amount[i]),
             unit=str(dose_unit[i]),  # type: ignore[arg-type]
             per_kg=bool(per_kg[i]),
-            text=dose_text[i],
+            text=text_of(i),
         )
         return str(dose_misfit(request, agent))
 

@@ -25,8 +25,13 @@ MESSAGE_SEPARATOR = " | "
 
 
 def _numbers(values: np.ndarray) -> list[str]:
-    """Shortest round-trip text of each figure; "" where it cannot be computed."""
-    text = list(map(repr, values.tolist()))
+    """Shortest round-trip text of each figure; "" where it cannot be computed.
+
+    Each distinct value is formatted once (volumes, bag sizes and weights
+    repeat a lot): sorting is cheaper than formatting a float again.
+    """
+    distinct, index = np.unique(values, return_inverse=True)
+    text = np.asarray([repr(v) for v in distinct.tolist()], dtype=object)[index.reshape(-1)].tolist()
     for i in np.flatnonzero(np.isnan(values)).tolist():
         text[i] = ""
     return text
@@ -45,7 +50,11 @@ def _quoted(values: list[str] | tuple[str, ...]) -> list[str] | tuple[str, ...]:
     joined = "".join(values)
     if not any(mark in joined for mark in _SPECIAL):
         return values
-    return ['"' + v.replace('"', '""') + '"' if any(m in v for m in _SPECIAL) else v for v in values]
+    return ['"' + v.replace('"', '""') + '"' if _special(v) else v for v in values]
+
+
+def _special(value: str) -> bool:
+    return "," in value or '"' in value or "\n" in value or "\r" in value
 
 
 class CsvResults:
@@ -95,9 +104,23 @@ def _finding_texts(chunk: ChunkResult) -> dict[int, list[tuple[bool, str, str]]]
     rows = chunk.rows.tolist()
     for outcome in chunk.outcomes:
         severity = outcome.severity
-        for k in np.flatnonzero(severity).tolist():
-            name = SEVERITY_NAMES[int(severity[k])]
-            item = (name == "refuse", f"{outcome.code}:{name}", outcome.message(k))
+        fired = np.flatnonzero(severity)
+        if not len(fired):
+            continue
+        # The rule's own message, made once per distinct (value, limit, severity): values repeat.
+        memo: dict[tuple[float, float, int], tuple[bool, str, str]] = {}
+        for k, value, limit, level in zip(
+            fired.tolist(),
+            outcome.value[fired].tolist(),
+            outcome.limit[fired].tolist(),
+            severity[fired].tolist(),
+            strict=True,
+        ):
+            item = memo.get((value, limit, level))
+            if item is None:
+                name = SEVERITY_NAMES[level]
+                item = (name == "refuse", f"{outcome.code}:{name}", outcome.describe(value, limit, name))
+                memo[(value, limit, level)] = item
             found.setdefault(rows[k], []).append(item)
     return found
 
