@@ -71,7 +71,7 @@ HEADER = [
 
 
 def make_orders(path: Path, n: int, seed: int = 7) -> None:
-    """An invented order history: plausible patients, the demo agents, a few bad rows."""
+    """An invented order history: plausible patients, the demo agents, about 1 bad row in 100."""
     rng = np.random.default_rng(seed)
 
     def fmt(values: np.ndarray, digits: int) -> list[str]:
@@ -80,7 +80,10 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
     weight = fmt(rng.uniform(40, 130, n), 1)
     age = fmt(rng.uniform(18, 92, n), 0)
     sex = rng.choice(["female", "male"], n).tolist()
-    height = np.where(rng.random(n) < 0.3, fmt(rng.uniform(150, 195, n), 0), "").tolist()
+    watson = rng.random(n) < 0.1
+    # Heights are recorded for about a third of the patients, and for nearly all whose TBW is by Watson.
+    height = np.where((rng.random(n) < 0.3) | (watson & (rng.random(n) < 0.98)), fmt(rng.uniform(150, 195, n), 0), "")
+    height = height.tolist()
     sodium = fmt(rng.normal(141, 9, n).clip(115, 170), 0)
     potassium = np.where(rng.random(n) < 0.7, fmt(rng.uniform(3.0, 5.5, n), 1), "").tolist()
     glucose = fmt(rng.uniform(70, 250, n), 0)
@@ -111,7 +114,7 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
     rise[g] = [f"{v:.0f}" for v in rng.uniform(-8, -2, g.sum()).tolist()]
     duration = fmt(rng.choice([10, 15, 20, 30, 60, 120, 240], n).astype(float), 0)
     line = rng.choice(["central", "peripheral", ""], n).tolist()
-    method = np.where(rng.random(n) < 0.1, "watson", "").tolist()
+    method = np.where(watson, "watson", "").tolist()
     # About 1 row in 200 is bad: a slipped decimal point or an agent the formulary lacks.
     spoilt = rng.random(n) < 0.005
     weight = [f"{float(w) * 100:.0f}" if s else w for w, s in zip(weight, spoilt.tolist(), strict=True)]

@@ -67,11 +67,10 @@ class Converted:
         mask[list(self.reasons)] = False
         return mask
 
-    def cases(self, rows: np.ndarray) -> Cases:
-        """The engine's batch for these rows, built as `check.cases_from_request` builds a batch of one."""
-        if len(rows) == len(self.mode):  # no bad row: the columns as they are
-            rows = slice(None)  # type: ignore[assignment]
-        c = {name: values[rows] for name, values in self.columns.items()}
+    def cases(self, rows: np.ndarray | None = None) -> Cases:
+        """The engine's batch for these rows (all by default), built as `check.cases_from_request` builds one."""
+        take = slice(None) if rows is None else rows
+        c = {name: values[take] for name, values in self.columns.items()}
         return Cases(
             weight=Q_(c["weight"], "kg"),
             age=Q_(c["age"], "year"),
@@ -83,12 +82,12 @@ class Converted:
             urea=Q_(c["urea"], "mmol/L"),
             ethanol=Q_(c["ethanol"], "mmol/L"),
             osmolality=Q_(c["osmolality"], "mOsm/kg"),
-            agent_index=self.agent_index[rows],
-            dose_unit=self.dose_unit_code[rows],
-            dose_amount=self.dose_amount[rows],
-            dose_per_kg=self.dose_per_kg[rows],
+            agent_index=self.agent_index[take],
+            dose_unit=self.dose_unit_code[take],
+            dose_amount=self.dose_amount[take],
+            dose_per_kg=self.dose_per_kg[take],
             duration_min=c["duration"],
-            use_watson=self.use_watson[rows],
+            use_watson=self.use_watson[take],
         )
 
     def dose_text(self, row: int) -> str:

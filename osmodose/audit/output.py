@@ -101,7 +101,6 @@ class CsvResults:
 def _finding_texts(chunk: ChunkResult) -> dict[int, list[tuple[bool, str, str]]]:
     """Position -> (refused, "code:severity", message) per finding, in rule order (CSV needs no more)."""
     found: dict[int, list[tuple[bool, str, str]]] = {}
-    rows = chunk.rows.tolist()
     for outcome in chunk.outcomes:
         severity = outcome.severity
         fired = np.flatnonzero(severity)
@@ -121,7 +120,7 @@ def _finding_texts(chunk: ChunkResult) -> dict[int, list[tuple[bool, str, str]]]
                 name = SEVERITY_NAMES[level]
                 item = (name == "refuse", f"{outcome.code}:{name}", outcome.describe(value, limit, name))
                 memo[(value, limit, level)] = item
-            found.setdefault(rows[k], []).append(item)
+            found.setdefault(k, []).append(item)
     return found
 
 

@@ -25,7 +25,7 @@ from osmodose.audit.reader import open_orders
 from osmodose.check import volume_error, volume_problems
 from osmodose.engine import compute
 from osmodose.formulary.model import Formulary
-from osmodose.rules import REFUSE, SEVERITY_NAMES, RuleOutcome, evaluate
+from osmodose.rules import SEVERITY_NAMES, RuleOutcome, evaluate
 
 #: Rows per chunk: big enough that the engine's fixed cost per call is small
 #: beside the arithmetic, small enough that a chunk's text stays a few tens of MB.
@@ -60,7 +60,11 @@ def _opt(value: float) -> float | None:
 
 @dataclass(frozen=True)
 class ChunkResult:
-    """The audit of one chunk: a status per row, figures as full columns, rule outcomes for audited rows."""
+    """The audit of one chunk, every array one entry per row of the chunk.
+
+    A bad row has status -1, its reason in `reasons`, agent index -1, NaN
+    figures and no finding.
+    """
 
     lines: np.ndarray
     order_id: tuple[str, ...] | None
@@ -69,8 +73,6 @@ class ChunkResult:
     reasons: dict[int, str]
     tbw_method: np.ndarray
     figures: dict[str, np.ndarray]
-    #: Positions of the audited rows; `agent_index` and each outcome's columns follow them.
-    rows: np.ndarray
     agent_index: np.ndarray
     outcomes: list[RuleOutcome]
 
@@ -82,7 +84,7 @@ class ChunkResult:
         found: dict[int, list[dict[str, object]]] = {}
         for outcome in self.outcomes:
             for k in np.flatnonzero(outcome.severity).tolist():
-                found.setdefault(int(self.rows[k]), []).append(
+                found.setdefault(k, []).append(
                     {
                         "code": outcome.code,
                         "severity": SEVERITY_NAMES[int(outcome.severity[k])],
@@ -106,42 +108,39 @@ class Sink(Protocol):
 
 
 def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -> ChunkResult:
-    """Engine and rules over the rows that passed `convert`, as `run_check` runs them on one."""
+    """Engine and rules over the chunk, as `run_check` runs them on a batch of one.
+
+    The engine runs on every row (a bad row's inputs give figures that are then
+    dropped): each figure and rule is worked row by row, so the good rows get
+    exactly what they would get alone, and no column is gathered or scattered.
+    """
     n = len(lines)
     reasons = dict(converted.reasons)
-    rows = np.flatnonzero(converted.good())
-    cases = converted.cases(rows)
-    every = len(rows) == n
+    good = converted.good()
+    cases = converted.cases()
     with np.errstate(all="ignore"):
         figures = compute(cases, formulary.agents, formulary.settings)
-        mode = converted.mode if every else converted.mode[rows]
-        unreachable, implausible = volume_problems(mode, figures.volume_ml)
-        failed = (mode != "") & (unreachable | implausible)
-        line = converted.line if every else converted.line[rows]
-        outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, line)
-    for k in np.flatnonzero(failed).tolist():
-        i = int(rows[k])
+        outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, converted.line)
+        unreachable, implausible = volume_problems(converted.mode, figures.volume_ml)
+    failed = good & (converted.mode != "") & (unreachable | implausible)
+    for i in np.flatnonzero(failed).tolist():
         agent = formulary.agents[int(converted.agent_index[i])]
         sodium = float(converted.columns["sodium"][i])
-        error = volume_error(converted.dose_request(i, formulary), agent, sodium, float(figures.volume_ml[k]))
+        error = volume_error(converted.dose_request(i, formulary), agent, sodium, float(figures.volume_ml[i]))
         reasons[i] = str(error)
-    keep = ~failed
-    kept = rows[keep]
+    bad = np.flatnonzero(~good | failed)
     full = {}
     for name, attribute in FIGURES:
-        if len(kept) == n:  # every row audited: the engine's columns are already the chunk's
-            full[name] = getattr(figures, attribute)
-            continue
-        column = np.full(n, np.nan)
-        column[kept] = getattr(figures, attribute)[keep]
+        column = getattr(figures, attribute)
+        column[bad] = np.nan
         full[name] = column
-    if not keep.all():
-        outcomes = [replace(o, severity=o.severity[keep], value=o.value[keep], limit=o.limit[keep]) for o in outcomes]
-    worst = np.zeros(len(kept), dtype=np.int8)
+    status = np.zeros(n, dtype=np.int8)
     for outcome in outcomes:
-        worst = np.maximum(worst, outcome.severity)
-    status = np.full(n, -1, dtype=np.int8)
-    status[kept] = np.minimum(worst, REFUSE)
+        outcome.severity[bad] = 0
+        np.maximum(status, outcome.severity, out=status)
+    status[bad] = -1
+    agent_index = converted.agent_index.copy()
+    agent_index[bad] = -1
     return ChunkResult(
         lines=lines,
         order_id=None,
@@ -150,8 +149,7 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
         reasons=reasons,
         tbw_method=np.where(converted.use_watson, "watson", "fraction"),
         figures=full,
-        rows=kept,
-        agent_index=converted.agent_index[kept],
+        agent_index=agent_index,
         outcomes=outcomes,
     )
 

@@ -43,7 +43,7 @@ class Summary:
         self.status += np.bincount(chunk.status.astype(np.int64) + 1, minlength=4)
         agent = chunk.agent_index
         with_agent = agent >= 0
-        status = chunk.status[chunk.rows].astype(np.int64) + 1
+        status = chunk.status.astype(np.int64) + 1
         cells = np.bincount(agent[with_agent] * 4 + status[with_agent], minlength=agents * 4)
         self.agent_status += cells.reshape(agents, 4)
         for outcome in chunk.outcomes:
@@ -54,7 +54,7 @@ class Summary:
                 counts[severity - 1] += int(fired.sum())
                 by_agent[:, severity - 1] += np.bincount(agent[fired & with_agent], minlength=agents)
         for a, item in enumerate(self.formulary.agents):
-            rows = chunk.rows[agent == a]
+            rows = np.flatnonzero(agent == a)
             if not len(rows):
                 continue
             for unit, name in DOSE_MEASURES:
