@@ -216,9 +216,12 @@ def _rss_mb() -> float:
 
 
 def _bare_parse(path: Path) -> float:
-    """csv rows -> float columns, nothing checked: what any CSV reader must pay."""
+    """csv rows -> float columns (Python's float(), the fastest stdlib way), nothing checked."""
     start = time.perf_counter()
-    numeric = [i for i, name in enumerate(HEADER) if name.split("[")[0] in ("weight", "age", "sodium", "urea")]
+    numbers = ("weight", "age", "height", "sodium", "potassium", "glucose", "urea", "osmolality")
+    numbers += ("volume", "target-rise", "duration")
+    numeric = [i for i, name in enumerate(HEADER) if name.split("[")[0] in numbers]
+    nan = float("nan")
     gc.disable()
     with open(path, newline="", encoding="utf-8") as handle:
         reader = csv.reader(handle)
@@ -228,10 +231,8 @@ def _bare_parse(path: Path) -> float:
             if not rows:
                 break
             columns = list(zip(*rows, strict=True))
-            for i in range(len(HEADER)):
-                text = np.asarray(columns[i])
-                if i in numeric:
-                    np.where(text == "", "nan", text).astype(float)
+            for i in numeric:
+                np.fromiter((float(c) if c else nan for c in columns[i]), dtype=float, count=len(rows))
     gc.enable()
     return time.perf_counter() - start
 
