@@ -115,7 +115,7 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
     duration = fmt(rng.choice([10, 15, 20, 30, 60, 120, 240], n).astype(float), 0)
     line = rng.choice(["central", "peripheral", ""], n).tolist()
     method = np.where(watson, "watson", "").tolist()
-    # About 1 row in 200 is bad: a slipped decimal point or an agent the formulary lacks.
+    # About 1 row in 100 is bad: a slipped decimal point, an agent the formulary lacks, Watson without a height.
     spoilt = rng.random(n) < 0.005
     weight = [f"{float(w) * 100:.0f}" if s else w for w, s in zip(weight, spoilt.tolist(), strict=True)]
     agent = np.where(rng.random(n) < 0.002, "nacl-9", agent).tolist()
