@@ -13,35 +13,26 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
-from osmodose.audit.columns import ORDER_COLUMNS, Column, Header
+from osmodose.audit.cells import ChunkCells, encode
+from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
 from osmodose.check import dose_misfit, height_required_error
-from osmodose.chemistry import molar_mass
 from osmodose.engine import DOSE_UNITS, Cases, dose_unit_codes
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.inputs import DoseRequest, parse_dose
 from osmodose.ranges import PLAUSIBLE, check_plausible
-from osmodose.units import Q_, Quantity, parse_quantity
+from osmodose.units import Q_
 
 #: A dose cell "number unit" whose unit is letters and slashes reads as number x (1 unit);
 #: anything else is handed whole to `parse_dose`.
 _DOSE_SPLIT = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ][A-Za-zµμ/ ]*?)\s*")
 _ONE_ORDER = "exactly one of dose, volume or target-rise"
-#: Characters float() accepts that a plain number never has ("1_000", "nan", "inf", "Infinity").
-_NOT_PLAIN = ("_", "n", "N", "i", "I")
-
-
-def encode(cells: Sequence[str]) -> tuple[np.ndarray, list[str]]:
-    """Codes into the list of distinct stripped cells: text columns repeat a few values."""
-    ids = {c: i for i, c in enumerate(set(cells))}
-    codes = np.fromiter(map(ids.__getitem__, cells), dtype=np.int64, count=len(cells))
-    return codes, [c.strip() for c in ids]
 
 
 @dataclass(frozen=True)
@@ -122,106 +113,6 @@ class _Reasons:
         self.bad[new] = True
 
 
-class _Chunk:
-    """The text of one chunk with the header's units: cells as check would see them."""
-
-    def __init__(self, header: Header, raw: RawChunk) -> None:
-        self.header, self.raw, self.n = header, raw, len(raw)
-        self._numbers: dict[str, tuple[np.ndarray, np.ndarray, dict[int, str]]] = {}
-
-    def text(self, name: str) -> np.ndarray:
-        cells = self.raw.cells.get(name)
-        if cells is None:
-            return np.full(self.n, "", dtype="U1")
-        return np.strings.strip(np.asarray(cells, dtype=str))
-
-    def shown(self, name: str, row: int) -> str:
-        """The cell with the header's unit appended: what check would have been typed."""
-        column = self.header.columns[name]
-        text = self.raw.cells[name][row].strip()
-        if name == "dose" and "dose-unit" in self.header:
-            unit = self.raw.cells["dose-unit"][row].strip()
-            return f"{text} {unit}" if unit else text
-        return f"{text} {column.unit}" if column.unit else text
-
-    def given(self, name: str) -> np.ndarray:
-        """Whether each cell of the column holds anything but spaces."""
-        cells = self.raw.cells.get(name)
-        if cells is None:
-            return np.zeros(self.n, dtype=bool)
-        return np.fromiter((bool(c) and not c.isspace() for c in cells), dtype=bool, count=self.n)
-
-    def order_text(self, row: int) -> str:
-        """The order of a row as typed: its dose, volume or target-rise cell with the header's unit."""
-        for name in ORDER_COLUMNS:
-            if name in self.header and self.raw.cells[name][row].strip():
-                return self.shown(name, row)
-        return ""
-
-    def number(self, name: str) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
-        """(canonical values, given, reason of each unreadable cell) of a number column, read once."""
-        if name not in self._numbers:
-            self._numbers[name] = self._read_number(name)
-        return self._numbers[name]
-
-    def _read_number(self, name: str) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
-        """Read a number column.
-
-        Plain numbers are read as one array.  Any other cell ("70kg", "1,5",
-        "nan") is read by `parse_quantity` exactly as check reads its typed
-        text, so it is accepted, or refused with check's words, the same way.
-        """
-        column = self.header.get(name)
-        if column is None:
-            return np.full(self.n, np.nan), np.zeros(self.n, dtype=bool), {}
-        cells = self.raw.cells[name]
-        try:
-            # The common case, every cell a number or empty: Python's float() in one pass.
-            values = np.fromiter((float(c) if c else math.nan for c in cells), dtype=float, count=self.n)
-            joined = "".join(cells)
-            plain = not any(mark in joined for mark in _NOT_PLAIN)
-        except ValueError:
-            plain = False
-        if plain:
-            given = ~np.isnan(values)
-            odd = np.zeros(self.n, dtype=bool)
-        else:
-            text = self.text(name)
-            given = np.strings.str_len(text) > 0
-            values = np.fromiter((_float(t) for t in text.tolist()), dtype=float, count=self.n)
-            # float() also reads "1_000", "nan" and "inf", which check does not take for numbers.
-            odd = given & (~np.isfinite(values) | (np.strings.find(text, "_") >= 0))
-        values = _canonical(column, Q_(values, column.unit_in_force))
-        unreadable: dict[int, str] = {}
-        spec = column.spec
-        for i in np.flatnonzero(odd).tolist():
-            try:
-                quantity = parse_quantity(name, self.shown(name, i), spec.default_unit or "", spec.accepted)
-            except InputError as error:
-                unreadable[i] = str(error)
-                values[i] = np.nan
-            else:
-                values[i] = _canonical(column, Q_(np.array([float(quantity.magnitude)]), quantity.units))[0]
-        return values, given, unreadable
-
-
-def _canonical(column: Column, quantity: Quantity) -> np.ndarray:
-    """A column in the engine's unit, converted as `parse_check_request` converts one value."""
-    spec = column.spec
-    if spec.substance is not None and quantity.check("[mass]/[volume]"):
-        quantity = quantity / molar_mass(spec.substance)
-    if spec.name == "osmolality" and quantity.check("[substance]/[mass]"):
-        quantity = Q_(quantity.m_as("mmol/kg"), "mOsm/kg")  # SI labs write mmol/kg for mOsm/kg
-    return np.array(quantity.m_as(spec.canonical or ""), dtype=float)
-
-
-def _float(text: str) -> float:
-    try:
-        return float(text) if text else math.nan
-    except ValueError:
-        return math.nan
-
-
 def _error(field: str, value: object, problem: str, accepted: str | None = None) -> str:
     return str(InputError(field, value, problem, accepted))
 
@@ -236,12 +127,14 @@ def _implausible(field: str, value: float, shown: str, range_key: str | None = N
 
 def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     """Read one chunk the way `parse_check_request` + `run_check` read one request."""
-    chunk, n = _Chunk(header, raw), len(raw)
+    chunk, n = ChunkCells(header, raw), len(raw)
     reasons = _Reasons(n, raw.problems)
     values: dict[str, np.ndarray] = {}
     given: dict[str, np.ndarray] = {}
 
-    def number(name: str, required: bool = False, range_key: str | None = None, active: np.ndarray | None = None):
+    def number(
+        name: str, required: bool = False, range_key: str | None = None, active: np.ndarray | None = None
+    ) -> None:
         v, g, unreadable = chunk.number(name)
         if active is not None:
             g = g & active
@@ -356,7 +249,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
 
 
 def _read_doses(
-    chunk: _Chunk,
+    chunk: ChunkCells,
     rows: np.ndarray,
     reasons: _Reasons,
     amount: np.ndarray,
