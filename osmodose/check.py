@@ -15,7 +15,7 @@ from osmodose import __version__
 from osmodose.engine import Cases, Figures, compute
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary
-from osmodose.inputs import CheckRequest
+from osmodose.inputs import CheckRequest, DoseRequest
 from osmodose.presentations import fit_presentations
 from osmodose.ranges import PLAUSIBLE
 from osmodose.results import (
@@ -84,14 +84,18 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     if request.dose is not None:
         agent = formulary.agent(request.dose.agent_id)
         agent_index = formulary.agents.index(agent)
-        _check_dose_fits_agent(request, agent)
+        misfit = dose_misfit(request.dose, agent)
+        if misfit is not None:
+            raise misfit
     method = request.tbw_method or formulary.settings.tbw_method
     if method == "watson" and request.patient.height_cm is None:
-        raise InputError("height", None, "is required for the Watson formula", "a height in cm, or tbw-method fraction")
+        raise height_required_error()
     cases = cases_from_request(request, agent_index, method == "watson")
     figures = compute(cases, formulary.agents, formulary.settings)
     if agent is not None and request.dose is not None:
-        _check_volume(request, agent, figures)
+        problem = volume_error(request.dose, agent, request.labs.sodium_mmol_l, float(figures.volume_ml[0]))
+        if problem is not None:
+            raise problem
     line = np.array([request.line or ""])
     outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, line)
     findings = [
@@ -136,41 +140,61 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     )
 
 
-def _check_dose_fits_agent(request: CheckRequest, agent: Agent) -> None:
-    dose = request.dose
-    assert dose is not None
+def height_required_error() -> InputError:
+    """The Watson formula was asked for without a height."""
+    return InputError("height", None, "is required for the Watson formula", "a height in cm, or tbw-method fraction")
+
+
+def dose_misfit(dose: DoseRequest, agent: Agent) -> InputError | None:
+    """Why `dose` cannot be had from `agent` at all, or None.
+
+    Shared with the audit, which asks it once per (dose unit, agent) pair and
+    again for the message of each row that fails.
+    """
     field = "target-rise" if dose.mode == "target-rise" else "dose"
     if dose.unit == "mmol/L" and not agent.projects_sodium:
-        raise InputError(
+        return InputError(
             field, dose.text, f"cannot be used with {agent.id}: osmodose projects no sodium for it", "dose or volume"
         )
     if dose.unit == "mmol" and agent.sodium_mmol_l <= 0:
-        raise InputError(field, dose.text, f"is in mmol of sodium, but {agent.id} has no sodium", "g, mL or mOsm")
+        return InputError(field, dose.text, f"is in mmol of sodium, but {agent.id} has no sodium", "g, mL or mOsm")
     if dose.unit == "g" and agent.solute_g_per_l is None:
-        raise InputError(field, dose.text, f"is in grams, but {agent.id} is a mixed fluid", "mL, mmol or mOsm")
+        return InputError(field, dose.text, f"is in grams, but {agent.id} is a mixed fluid", "mL, mmol or mOsm")
+    return None
 
 
-def _check_volume(request: CheckRequest, agent: Agent, figures: Figures) -> None:
-    dose = request.dose
-    assert dose is not None
-    volume = float(figures.volume_ml[0])
-    if dose.mode == "target-rise" and math.isnan(volume):
-        cations = agent.cations_mmol_l
-        raise InputError(
+def volume_problems(mode: np.ndarray, volume_ml: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Columns of (target change unreachable, volume implausible) for orders with an agent.
+
+    A volume given as such was range-checked when read; a volume worked out
+    from a dose or a target change is checked here, after the engine.
+    """
+    unreachable = (mode == "target-rise") & np.isnan(volume_ml)
+    bounds = PLAUSIBLE["volume"]
+    with np.errstate(invalid="ignore"):
+        inside = (bounds.low <= volume_ml) & (volume_ml <= bounds.high)
+    return unreachable, ~unreachable & (mode != "volume") & ~inside
+
+
+def volume_error(dose: DoseRequest, agent: Agent, serum_sodium_mmol_l: float, volume_ml: float) -> InputError | None:
+    """The error for an order whose worked-out volume cannot be given, or None."""
+    unreachable, implausible = volume_problems(np.array([dose.mode]), np.array([volume_ml]))
+    if unreachable[0]:
+        return InputError(
             "target-rise",
             dose.text,
-            f"cannot be reached with {agent.id}: its sodium + potassium is {cations:g} mmol/L "
-            f"against serum {request.labs.sodium_mmol_l:g} mmol/L",
+            f"cannot be reached with {agent.id}: its sodium + potassium is {agent.cations_mmol_l:g} mmol/L "
+            f"against serum {serum_sodium_mmol_l:g} mmol/L",
             "a change toward the infusate's sodium, smaller than the difference",
         )
-    bounds = PLAUSIBLE["volume"]
-    if dose.mode != "volume" and not (bounds.low <= volume <= bounds.high):
-        raise InputError(
+    if implausible[0]:
+        return InputError(
             dose.mode,
             dose.text,
-            f"comes to {volume:.0f} mL of {agent.id}, outside the plausible range",
-            bounds.describe(),
+            f"comes to {volume_ml:.0f} mL of {agent.id}, outside the plausible range",
+            PLAUSIBLE["volume"].describe(),
         )
+    return None
 
 
 def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures) -> DoseFigures | None:

@@ -21,6 +21,18 @@ from osmodose.units import Q_, Quantity
 
 #: Codes of the dose units in `Cases.dose_unit`.
 DOSE_UNITS: tuple[str, ...] = ("", "g", "mL", "mmol", "mOsm", "mmol/L")
+_UNIT_G, _UNIT_ML, _UNIT_MMOL, _UNIT_MOSM, _UNIT_RISE = range(1, len(DOSE_UNITS))
+
+
+def dose_unit_codes(units: np.ndarray) -> np.ndarray:
+    """Indexes into DOSE_UNITS: `Cases.dose_unit` may hold the strings or (for big batches) the indexes."""
+    units = np.asarray(units)
+    if units.dtype.kind in "iu":
+        return units
+    codes = np.zeros(units.shape, dtype=np.int8)
+    for code, unit in enumerate(DOSE_UNITS[1:], start=1):
+        codes[units == unit] = code
+    return codes
 
 
 @dataclass(frozen=True)
@@ -38,18 +50,15 @@ class AgentColumns:
 
     @classmethod
     def gather(cls, agents: Sequence[Agent], index: np.ndarray) -> AgentColumns:
-        """Columns for `index` into `agents`; -1 means no agent."""
-        index = np.asarray(index, dtype=int)
+        """Columns for `index` into `agents`; -1 means no agent (the NaN/False appended to each table)."""
+        index = np.asarray(index, dtype=np.int64)
         has = index >= 0
-        safe = np.where(has, index, 0)
 
         def column(values: list[float], empty: float = np.nan) -> np.ndarray:
-            table = np.asarray([*values, empty], dtype=float)
-            return np.where(has, table[safe] if values else empty, empty)
+            return np.asarray([*values, empty], dtype=float)[index]
 
         def flags(values: list[bool]) -> np.ndarray:
-            table = np.asarray([*values, False], dtype=bool)
-            return has & (table[safe] if values else False)
+            return np.asarray([*values, False], dtype=bool)[index]
 
         return cls(
             has_agent=has,
@@ -78,7 +87,7 @@ class Cases:
     ethanol: Quantity
     osmolality: Quantity
     agent_index: np.ndarray
-    dose_unit: np.ndarray  # strings from DOSE_UNITS
+    dose_unit: np.ndarray  # strings from DOSE_UNITS, or their indexes
     dose_amount: np.ndarray
     dose_per_kg: np.ndarray
     duration_min: np.ndarray
@@ -126,7 +135,7 @@ def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray) -> np.n
     """
     weight = cases.weight.m_as("kg")
     amount = np.where(cases.dose_per_kg, cases.dose_amount * weight, cases.dose_amount)
-    unit = cases.dose_unit
+    unit = dose_unit_codes(cases.dose_unit)
     with np.errstate(divide="ignore", invalid="ignore"):
         by_grams = f.volume_for_amount(Q_(amount, "g"), Q_(agent.solute_g_per_l, "g/L")).m_as("mL")
         sodium = np.where(agent.sodium_mmol_l > 0, agent.sodium_mmol_l, np.nan)
@@ -138,7 +147,7 @@ def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray) -> np.n
         cases.sodium, Q_(cations, "mmol/L"), Q_(tbw_l, "L"), Q_(cases.dose_amount, "mmol/L")
     ).m_as("mL")
     volume = np.select(
-        [unit == "mL", unit == "g", unit == "mmol", unit == "mOsm", unit == "mmol/L"],
+        [unit == _UNIT_ML, unit == _UNIT_G, unit == _UNIT_MMOL, unit == _UNIT_MOSM, unit == _UNIT_RISE],
         [amount, by_grams, by_mmol, by_mosm, by_rise],
         default=np.nan,
     )

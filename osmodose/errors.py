@@ -144,3 +144,35 @@ class LogError(OsmodoseError):
         self.line = line
         where = str(self.path) + (f":{line}" if line is not None else "")
         super().__init__(f"log {where}: {problem}")
+
+
+class OrdersFileError(OsmodoseError):
+    """An orders file for `osmodose audit` cannot be read at all: missing, empty, or a bad header.
+
+    A bad row never raises this: it is reported with its row number and the
+    other rows go on.  `column` is the header field as written (with its unit
+    suffix) and `position` its place in the header, counted from 1.
+    """
+
+    def __init__(
+        self,
+        path: Path | str,
+        problem: str,
+        column: str | None = None,
+        position: int | None = None,
+        accepted: str | None = None,
+    ) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        self.column = column
+        self.position = position
+        self.accepted = accepted
+        text = f"orders {self.path}"
+        if column is not None:
+            text += f": column {column}"
+            if position is not None:
+                text += f" (header field {position})"
+        text += f": {problem}"
+        if accepted:
+            text += f" (accepted: {accepted})"
+        super().__init__(text)

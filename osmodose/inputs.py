@@ -245,8 +245,9 @@ _ABSOLUTE_UNITS: tuple[tuple[str, DoseUnit], ...] = (
 def parse_dose(agent_id: str, raw: object, duration: float | None = None, field: str = "dose") -> DoseRequest:
     """A dose as typed ("1 g/kg", "50 g", "120 mmol"); `field` names it in errors.
 
-    Verification reads the prescriber's stated dose with the same parser as
-    --dose, so both accept and reject exactly the same text.
+    Verification reads the prescriber's stated dose, and the audit every dose
+    cell, with the same parser as --dose, so all accept and reject exactly
+    the same text.
     """
     text = str(raw).strip()
     if isinstance(raw, (int, float)) or is_bare_number(text):

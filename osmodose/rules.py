@@ -20,6 +20,11 @@ from osmodose.formulary.model import Agent, Limits
 NONE, WARN, REFUSE = 0, 1, 2
 SEVERITY_NAMES = {WARN: "warn", REFUSE: "refuse"}
 
+#: A figure within this relative distance of a limit is at the limit, not above it.  The
+#: engine's unit conversions leave a few units in the last place (a 1.5 g/kg order came back
+#: as 1.5000000000000004 g/kg for 40.2 kg), which must not cross a limit set at 1.5 g/kg.
+LIMIT_RELATIVE_TOLERANCE = 1e-9
+
 
 @dataclass(frozen=True)
 class RuleOutcome:
@@ -41,16 +46,28 @@ def _num(value: float | None) -> float:
     return np.nan if value is None else float(value)
 
 
+def _past(limit: np.ndarray | float) -> np.ndarray | float:
+    """The smallest figure judged above `limit` (infinite and NaN limits stay as they are)."""
+    with np.errstate(invalid="ignore"):
+        return limit + np.abs(limit) * LIMIT_RELATIVE_TOLERANCE
+
+
 def _threshold(value: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
     """2 above refuse, 1 above warn, else 0; NaN values and limits give 0."""
+    return _severity(value, _past(warn), _past(refuse))
+
+
+def _severity(value: np.ndarray, warn_past: np.ndarray | float, refuse_past: np.ndarray | float) -> np.ndarray:
+    """`_threshold` with the limits already moved past by the tolerance."""
     with np.errstate(invalid="ignore"):
-        refused = np.nan_to_num(value > refuse, nan=False)
-        warned = np.nan_to_num(value > warn, nan=False)
-    return np.where(refused, REFUSE, np.where(warned, WARN, NONE)).astype(np.int8)
+        refused = value > refuse_past  # NaN compares False: no finding
+        severity = (value > warn_past).astype(np.int8)
+    severity[refused] = REFUSE
+    return severity
 
 
 def _limit_of(severity: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
-    return np.where(severity == REFUSE, refuse, warn).astype(float)
+    return np.asarray(np.where(severity == REFUSE, refuse, warn), dtype=float)
 
 
 def _above(what: str, unit: str) -> Callable[[float, float, str], str]:
@@ -74,8 +91,12 @@ def _threshold_rule(
 
 
 def _agent_column(agents: Sequence[Agent], index: np.ndarray, pick: Callable[[Agent], float | None]) -> np.ndarray:
+    """The agent property of each case; `index` is -1 (no agent, NaN) or an index into `agents`.
+
+    Index -1 picks the table's last entry, the NaN appended for "no agent".
+    """
     table = np.asarray([_num(pick(a)) for a in agents] + [np.nan], dtype=float)
-    return table[np.where(index >= 0, index, len(agents))]
+    return table[index]
 
 
 _DOSE_FIGURE = {
@@ -90,18 +111,17 @@ def evaluate(
     cases: Cases, figures: Figures, agents: Sequence[Agent], limits: Limits, line: np.ndarray
 ) -> list[RuleOutcome]:
     """Every rule over every case; `line` holds "", "central" or "peripheral" per case."""
-    index = cases.agent_index
+    index = np.asarray(cases.agent_index, dtype=np.int64)
     has_agent = index >= 0
     sodium = cases.sodium.m_as("mmol/L")
     rise = figures.projected_rise
     # Fluids that lower sodium (5 % glucose in hypernatraemia) are what a high
     # sodium calls for: the ceilings judge orders that raise sodium or osmolality.
-    not_lowering = ~np.nan_to_num(rise < 0, nan=False)
+    with np.errstate(invalid="ignore"):
+        not_lowering = ~(rise < 0)  # NaN compares False: judged
     measured = cases.osmolality.m_as("mOsm/kg")
     osmolality = np.where(np.isnan(measured), figures.calculated_osmolality, measured)
-    is_mannitol = np.asarray([a.solute == "mannitol" for a in agents] + [False])[
-        np.where(has_agent, index, len(agents))
-    ]
+    is_mannitol = np.asarray([a.solute == "mannitol" for a in agents] + [False])[index]  # -1: the False
     outcomes = [
         _threshold_rule(
             "sodium-high",
@@ -164,27 +184,31 @@ def evaluate(
     return outcomes
 
 
+def _agent_table(agents: Sequence[Agent], pick: Callable[[Agent], float | None], missing: float) -> np.ndarray:
+    """One entry per agent, `missing` where the agent has none, and `missing` last for index -1 (no agent)."""
+    return np.asarray([missing if (v := pick(a)) is None else float(v) for a in agents] + [missing], dtype=float)
+
+
 def _dose_rules(figures: Figures, agents: Sequence[Agent], index: np.ndarray) -> list[RuleOutcome]:
-    """Per-kg dose against the agent's own limits, in whichever unit the limit is written."""
+    """Per-kg dose against the agent's own limits, in whichever unit the limit is written.
+
+    Limits are looked up per agent and then gathered per case, so the tolerance
+    and the missing limits (no limit: never above) cost a table, not a column.
+    """
     outcomes = []
+    present = np.zeros(len(agents) + 1, dtype=bool)
+    present[index] = True
     for kind, (attribute, what) in _DOSE_FIGURE.items():
-        warn = _agent_column(
-            agents, index, lambda a, k=kind: a.dose_warn.value if a.dose_warn and a.dose_warn.kind == k else None
+        warn = _agent_table(agents, lambda a, k=kind: d.value if (d := a.dose_warn) and d.kind == k else None, np.inf)
+        refuse = _agent_table(
+            agents, lambda a, k=kind: d.value if (d := a.dose_refuse) and d.kind == k else None, np.inf
         )
-        refuse = _agent_column(
-            agents, index, lambda a, k=kind: a.dose_refuse.value if a.dose_refuse and a.dose_refuse.kind == k else None
-        )
-        if np.all(np.isnan(warn)) and np.all(np.isnan(refuse)):
-            continue
+        if np.all(np.isinf(warn[present])) and np.all(np.isinf(refuse[present])):
+            continue  # no case in this batch has a limit of this kind
         value = getattr(figures, attribute)
-        warn = np.where(np.isnan(warn), np.inf, warn)
-        refuse = np.where(np.isnan(refuse), np.inf, refuse)
-        severity = _threshold(value, warn, refuse)
-        outcomes.append(
-            RuleOutcome(
-                "dose-per-kg", severity, value, _limit_of(severity, warn, refuse), kind, _dose_describe(what, kind)
-            )
-        )
+        severity = _severity(value, _past(warn)[index], _past(refuse)[index])
+        limit = np.stack([warn, warn, refuse])[severity, index]
+        outcomes.append(RuleOutcome("dose-per-kg", severity, value, limit, kind, _dose_describe(what, kind)))
     return outcomes
 
 
@@ -196,8 +220,9 @@ def _dose_describe(what: str, unit: str) -> Callable[[float, float, str], str]:
 
 
 def _max_rate_rule(figures: Figures, agents: Sequence[Agent], index: np.ndarray) -> RuleOutcome:
-    limit = _agent_column(agents, index, lambda a: a.max_rate_ml_h)
-    severity = _threshold(figures.rate_ml_h, np.inf, limit)
+    table = _agent_table(agents, lambda a: a.max_rate_ml_h, np.nan)
+    limit = table[index]
+    severity = _severity(figures.rate_ml_h, np.inf, _past(table)[index])
 
     def describe(value: float, maximum: float, _severity: str) -> str:
         return f"rate {value:.0f} mL/h is faster than the agent's maximum of {maximum:g} mL/h"

@@ -26,6 +26,7 @@ SUBCOMMANDS: tuple[str, ...] = (
     "osmodose.cli.course_cmd",
     "osmodose.cli.verify_cmd",
     "osmodose.cli.log_cmd",
+    "osmodose.cli.audit_cmd",
 )
 
 

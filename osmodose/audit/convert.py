@@ -1,0 +1,356 @@
+"""Text columns of a chunk -> the engine's columns, and the reason each bad row is bad.
+
+This is `parse_check_request` and the checks `run_check` makes before the
+engine, run on whole columns.  The stages come in the order those functions
+meet them, and each bad row keeps the first reason it meets, so a row is
+reported with the words a check of the same typed text would print.  Ranges
+come from `osmodose.ranges`, units from the header (see `columns`), molar
+masses from `osmodose.chemistry`; doses are read by `inputs.parse_dose` once
+per distinct unit.  Messages are only built for the rows that fail.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from osmodose.audit.cells import ChunkCells, encode
+from osmodose.audit.columns import ORDER_COLUMNS, Header
+from osmodose.audit.reader import RawChunk
+from osmodose.check import dose_misfit, height_required_error
+from osmodose.engine import DOSE_UNITS, Cases, dose_unit_codes
+from osmodose.errors import InputError
+from osmodose.formulary.model import Formulary
+from osmodose.inputs import DoseRequest, parse_dose
+from osmodose.ranges import PLAUSIBLE, check_plausible
+from osmodose.units import Q_
+
+#: A dose cell "number unit" whose unit is letters and slashes reads as number x (1 unit);
+#: anything else is handed whole to `parse_dose`.
+_DOSE_SPLIT = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ][A-Za-zµμ/ ]*?)\s*")
+_ONE_ORDER = "exactly one of dose, volume or target-rise"
+
+
+@dataclass(frozen=True)
+class Converted:
+    """One chunk in canonical units (NaN where not given) and the reasons of its bad rows."""
+
+    reasons: dict[int, str]
+    columns: dict[str, np.ndarray]
+    agent_text: np.ndarray
+    agent_index: np.ndarray
+    mode: np.ndarray
+    dose_unit: np.ndarray
+    dose_unit_code: np.ndarray
+    dose_amount: np.ndarray
+    dose_per_kg: np.ndarray
+    #: The cell of a column as check would have been typed it: (column, position) -> text.
+    shown: Callable[[str, int], str]
+    use_watson: np.ndarray
+    line: np.ndarray
+
+    def good(self) -> np.ndarray:
+        mask = np.ones(len(self.mode), dtype=bool)
+        mask[list(self.reasons)] = False
+        return mask
+
+    def cases(self, rows: np.ndarray | None = None) -> Cases:
+        """The engine's batch for these rows (all by default), built as `check.cases_from_request` builds one."""
+        take = slice(None) if rows is None else rows
+        c = {name: values[take] for name, values in self.columns.items()}
+        return Cases(
+            weight=Q_(c["weight"], "kg"),
+            age=Q_(c["age"], "year"),
+            male=c["male"].astype(bool),
+            height=Q_(c["height"], "cm"),
+            sodium=Q_(c["sodium"], "mmol/L"),
+            potassium=Q_(c["potassium"], "mmol/L"),
+            glucose=Q_(c["glucose"], "mmol/L"),
+            urea=Q_(c["urea"], "mmol/L"),
+            ethanol=Q_(c["ethanol"], "mmol/L"),
+            osmolality=Q_(c["osmolality"], "mOsm/kg"),
+            agent_index=self.agent_index[take],
+            dose_unit=self.dose_unit_code[take],
+            dose_amount=self.dose_amount[take],
+            dose_per_kg=self.dose_per_kg[take],
+            duration_min=c["duration"],
+            use_watson=self.use_watson[take],
+        )
+
+    def dose_text(self, row: int) -> str:
+        """The order as typed (for messages only, so read when a message needs it)."""
+        return self.shown(str(self.mode[row]), row)
+
+    def dose_request(self, row: int, formulary: Formulary) -> DoseRequest:
+        """The DoseRequest a check would have made for this row (for the message of a failed order)."""
+        return DoseRequest(
+            agent_id=formulary.agents[int(self.agent_index[row])].id,
+            mode=str(self.mode[row]),  # type: ignore[arg-type]
+            amount=float(self.dose_amount[row]),
+            unit=str(self.dose_unit[row]),  # type: ignore[arg-type]
+            per_kg=bool(self.dose_per_kg[row]),
+            duration_min=None if math.isnan(self.columns["duration"][row]) else float(self.columns["duration"][row]),
+            text=self.dose_text(row),
+        )
+
+
+class _Reasons:
+    """The first reason of each bad row, in the order the stages are added."""
+
+    def __init__(self, n: int, known: dict[int, str]) -> None:
+        self.bad = np.zeros(n, dtype=bool)
+        self.reasons = dict(known)
+        self.bad[list(known)] = True
+
+    def add(self, mask: np.ndarray, reason: Callable[[int], str]) -> None:
+        new = np.flatnonzero(mask & ~self.bad)
+        for row in new.tolist():
+            self.reasons[row] = reason(row)
+        self.bad[new] = True
+
+
+def _error(field: str, value: object, problem: str, accepted: str | None = None) -> str:
+    return str(InputError(field, value, problem, accepted))
+
+
+def _implausible(field: str, value: float, shown: str, range_key: str | None = None) -> str:
+    try:
+        check_plausible(field, value, shown, range_key)
+    except InputError as error:
+        return str(error)
+    raise AssertionError(f"{field} {value} is inside its range")  # pragma: no cover
+
+
+def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
+    """Read one chunk the way `parse_check_request` + `run_check` read one request."""
+    chunk, n = ChunkCells(header, raw), len(raw)
+    reasons = _Reasons(n, raw.problems)
+    values: dict[str, np.ndarray] = {}
+    given: dict[str, np.ndarray] = {}
+
+    def number(
+        name: str, required: bool = False, range_key: str | None = None, active: np.ndarray | None = None
+    ) -> None:
+        v, g, unreadable = chunk.number(name)
+        if active is not None:
+            g = g & active
+            unreadable = {i: reason for i, reason in unreadable.items() if active[i]}
+        values[name], given[name] = v, g
+        if required:
+            reasons.add(~g, lambda i: _error(name, None, "is required"))
+        failed = np.zeros(n, dtype=bool)
+        failed[list(unreadable)] = True
+        reasons.add(failed, unreadable.__getitem__)
+        g = g & ~failed
+        bounds = PLAUSIBLE[range_key or name]
+        with np.errstate(invalid="ignore"):
+            inside = (bounds.low <= v) & (v <= bounds.high)
+        reasons.add(g & ~inside, lambda i: _implausible(name, v[i], chunk.shown(name, i), range_key))
+
+    def choice(name: str, accepted: tuple[str, ...], problem: str, required: bool = False) -> np.ndarray:
+        codes, distinct = encode(raw.cells[name]) if name in header else (np.zeros(n, np.int64), [""])
+        lowered = np.asarray([d.lower() for d in distinct], dtype=str)
+        text = lowered[codes]
+        if required:
+            reasons.add(text == "", lambda i: _error(name, None, "is required"))
+        bad = (text != "") & ~np.isin(text, accepted)
+        reasons.add(bad, lambda i: _error(name, raw.cells[name][i].strip(), problem, " or ".join(accepted)))
+        return text
+
+    number("weight", required=True)
+    number("age", required=True)
+    male = choice("sex", ("female", "male"), "is not a sex osmodose knows", required=True) == "male"
+    number("height")
+    number("sodium", required=True)
+    _, bun_given, _ = chunk.number("bun")
+    _, urea_given, _ = chunk.number("urea")
+    both = "cannot be given together with urea"
+    reasons.add(bun_given & urea_given, lambda i: _error("bun", chunk.shown("bun", i), both, "urea or bun, not both"))
+    number("urea")
+    number("bun", range_key="urea")
+    number("osmolality")
+    number("potassium")
+    number("glucose")
+    number("ethanol")
+    line = choice("line", ("central", "peripheral"), "is not a line osmodose knows")
+    method = choice("tbw-method", ("fraction", "watson"), "is not a method osmodose knows")
+    use_watson = np.where(method == "", formulary.settings.tbw_method, method) == "watson"
+
+    agent_codes, agent_ids = encode(raw.cells["agent"]) if "agent" in header else (np.zeros(n, np.int64), [""])
+    agent_text = np.asarray(agent_ids, dtype=object)[agent_codes]
+    has_agent = agent_text != ""
+    orders = {name: chunk.given(name) for name in ORDER_COLUMNS}
+    count = sum(orders.values())
+
+    def nth_order(i: int, nth: int) -> str:
+        return [name for name in ORDER_COLUMNS if orders[name][i]][nth]
+
+    reasons.add(
+        ~has_agent & (count > 0),
+        lambda i: _error(nth_order(i, 0), chunk.shown(nth_order(i, 0), i), "needs an agent", "--agent ID"),
+    )
+    reasons.add(has_agent & (count == 0), lambda i: _error("agent", agent_text[i], "needs a dose", _ONE_ORDER))
+    reasons.add(
+        count > 1,
+        lambda i: _error(
+            nth_order(i, 1),
+            chunk.shown(nth_order(i, 1), i),
+            "cannot be given together with " + nth_order(i, 0),
+            _ONE_ORDER,
+        ),
+    )
+    active = has_agent & (count == 1) & ~reasons.bad
+    number("duration", active=active)
+    mode = np.full(n, "", dtype="U11")
+    for name in ORDER_COLUMNS:
+        mode[active & orders[name]] = name
+    dose_unit = np.where(mode == "volume", "mL", np.where(mode == "target-rise", "mmol/L", "")).astype("U6")
+    number("volume", active=mode == "volume")
+    rise_text = mode == "target-rise"
+    rise_values, _, _ = chunk.number("target-rise")  # unreadable cells are NaN, never zero
+    zero = rise_text & (rise_values == 0)
+    rise_accepted = "a change from -30 to 30 mmol/L, not 0"
+    reasons.add(
+        zero,
+        lambda i: _error("target-rise", chunk.shown("target-rise", i), "is zero", rise_accepted),
+    )
+    number("target-rise", active=rise_text)
+    amount = np.where(mode == "volume", values["volume"], np.where(rise_text, values["target-rise"], np.nan))
+    per_kg = np.zeros(n, dtype=bool)
+    _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg)
+
+    agent_index = _agent_index(formulary, agent_text, active & ~reasons.bad, reasons)
+    unit_code = dose_unit_codes(dose_unit)
+    _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, chunk.order_text, reasons)
+    height_given = given["height"]
+    reasons.add(use_watson & ~height_given, lambda i: str(height_required_error()))
+
+    columns = {**values, "male": male.astype(float)}
+    columns["urea"] = np.where(given["urea"], values["urea"], values["bun"])
+    columns["duration"] = np.where(given["duration"], values["duration"], np.nan)
+    return Converted(
+        reasons=reasons.reasons,
+        columns=columns,
+        agent_text=agent_text,
+        agent_index=agent_index,
+        mode=mode,
+        dose_unit=dose_unit,
+        dose_unit_code=unit_code,
+        dose_amount=amount,
+        dose_per_kg=per_kg,
+        shown=chunk.shown,
+        use_watson=use_watson,
+        line=line,
+    )
+
+
+def _read_doses(
+    chunk: ChunkCells,
+    rows: np.ndarray,
+    reasons: _Reasons,
+    amount: np.ndarray,
+    dose_unit: np.ndarray,
+    per_kg: np.ndarray,
+) -> None:
+    """Dose cells through `parse_dose`: once per distinct unit, or per distinct text when odd."""
+    if not len(rows):
+        return
+    cells = chunk.raw.cells["dose"]
+    if "dose-unit" in chunk.header:
+        codes, distinct = encode([chunk.shown("dose", i) for i in rows.tolist()])
+    else:
+        codes, plain = encode([cells[i] for i in rows.tolist()])
+        unit = chunk.header.columns["dose"].unit
+        distinct = [f"{c} {unit}" if unit and c else c for c in plain]
+    units: dict[str, DoseRequest | InputError] = {}
+    read: list[tuple[float, str, bool] | str] = []
+    for text in distinct:
+        match = _DOSE_SPLIT.fullmatch(text)
+        probe: DoseRequest | InputError
+        if match is not None:
+            unit = match.group(2)
+            if unit not in units:
+                units[unit] = _parse(f"1 {unit}")
+            probe = units[unit]
+            if isinstance(probe, DoseRequest) and float(match.group(1)) > 0:
+                read.append((float(match.group(1)) * probe.amount, probe.unit, probe.per_kg))
+                continue
+        probe = _parse(text)
+        if isinstance(probe, InputError):
+            read.append(str(InputError("dose", text, probe.problem, probe.accepted)))
+        else:
+            read.append((probe.amount, probe.unit, probe.per_kg))
+    if not read:
+        return
+    failed = np.asarray([isinstance(entry, str) for entry in read], dtype=bool)
+    mask = np.zeros(len(amount), dtype=bool)
+    mask[rows[failed[codes]]] = True
+    code_of = dict(zip(rows.tolist(), codes.tolist(), strict=True))
+    reasons.add(mask, lambda i: str(read[code_of[i]]))
+    entries = [(math.nan, "", False) if isinstance(entry, str) else entry for entry in read]
+    amount[rows] = np.asarray([e[0] for e in entries], dtype=float)[codes]
+    dose_unit[rows] = np.asarray([e[1] for e in entries], dtype=dose_unit.dtype)[codes]
+    per_kg[rows] = np.asarray([e[2] for e in entries], dtype=bool)[codes]
+
+
+def _parse(text: str) -> DoseRequest | InputError:
+    try:
+        return parse_dose("", text)
+    except InputError as error:
+        return error
+
+
+def _agent_index(formulary: Formulary, agent_text: np.ndarray, active: np.ndarray, reasons: _Reasons) -> np.ndarray:
+    """Formulary index of each active row's agent; -1 for none.  Unknown ids take check's message."""
+    ids = {agent.id: index for index, agent in enumerate(formulary.agents)}
+    index = np.fromiter((ids.get(a, -1) for a in agent_text.tolist()), dtype=np.int64, count=len(agent_text))
+    index = np.where(active, index, -1)
+
+    def unknown(i: int) -> str:
+        try:
+            formulary.agent(str(agent_text[i]))
+        except InputError as error:
+            return str(error)
+        raise AssertionError("known agent")  # pragma: no cover
+
+    reasons.add(active & (index < 0), unknown)
+    return np.where(reasons.bad, -1, index)
+
+
+def _misfits(
+    formulary: Formulary,
+    agent_index: np.ndarray,
+    mode: np.ndarray,
+    dose_unit: np.ndarray,
+    unit_code: np.ndarray,
+    amount: np.ndarray,
+    per_kg: np.ndarray,
+    text_of: Callable[[int], str],
+    reasons: _Reasons,
+) -> None:
+    """Rows whose dose cannot be had from their agent, by `check.dose_misfit` on each (unit, agent) pair."""
+    table = np.zeros((len(DOSE_UNITS), len(formulary.agents) + 1), dtype=bool)
+    for u, unit in enumerate(DOSE_UNITS[1:], start=1):
+        for a, agent in enumerate(formulary.agents):
+            probe = DoseRequest(agent_id=agent.id, mode="dose", amount=1.0, unit=unit, text="")  # type: ignore[arg-type]
+            table[u, a] = dose_misfit(probe, agent) is not None
+    misfit = table[unit_code, agent_index] & (agent_index >= 0)
+
+    def message(i: int) -> str:
+        agent = formulary.agents[int(agent_index[i])]
+        request = DoseRequest(
+            agent_id=agent.id,
+            mode=str(mode[i]),  # type: ignore[arg-type]
+            amount=float(amount[i]),
+            unit=str(dose_unit[i]),  # type: ignore[arg-type]
+            per_kg=bool(per_kg[i]),
+            text=text_of(i),
+        )
+        return str(dose_misfit(request, agent))
+
+    reasons.add(misfit, message)
+    agent_index[misfit] = -1

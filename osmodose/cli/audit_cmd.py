@@ -1,0 +1,80 @@
+"""`osmodose audit`: every order of a CSV file through the same engine and rules as `check`."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from osmodose.cli.exit_codes import INVALID, OK
+from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+
+HELP = "audit a file of past orders against the formulary's limits, row by row, on whole columns"
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    parser = subparsers.add_parser(
+        "audit",
+        help=HELP,
+        description=HELP + ". Columns and units: see docs/audit.md. Exit status 0 when every row was audited, "
+        "1 when some rows could not be (each is listed with its reason), 2 when the file cannot be read.",
+    )
+    parser.add_argument("orders", metavar="ORDERS.csv", help="the orders file (CSV with a header row)")
+    add_formulary_option(parser)
+    parser.add_argument(
+        "--out", metavar="FILE", help="write one result row per order to FILE (.csv or .json) instead of stdout"
+    )
+    parser.add_argument("--summary", action="store_true", help="print counts and dose-per-kg distributions")
+    parser.add_argument("--json", action="store_true", help="JSON instead of CSV rows or the text summary")
+    parser.add_argument(
+        "--progress", action="store_true", help="show a progress bar on stderr even when it is not a terminal"
+    )
+    parser.set_defaults(handler=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    from osmodose.audit.output import BadRows, CsvResults, JsonResults  # noqa: PLC0415
+    from osmodose.audit.reader import open_orders  # noqa: PLC0415
+    from osmodose.audit.run import Progress, run_audit  # noqa: PLC0415
+    from osmodose.audit.summary import Summary  # noqa: PLC0415
+    from osmodose.errors import InputError  # noqa: PLC0415
+
+    formulary = formulary_from_args(args)
+    path = Path(args.orders)
+    with open_orders(path) as orders:  # a bad header stops here, before any output is made
+        with_order_id = "order-id" in orders.header
+    out_path = Path(args.out) if args.out else None
+    if out_path is not None and out_path.suffix.lower() not in (".csv", ".json"):
+        raise InputError("out", args.out, "has an extension osmodose cannot write", ".csv or .json")
+    summary = Summary(formulary, str(path))
+    bad = BadRows(sys.stderr, path)
+    sinks: list = [summary, bad]
+    handle = None
+    if out_path is not None or not args.summary:
+        as_json = out_path.suffix.lower() == ".json" if out_path is not None else args.json
+        try:
+            handle = open(out_path, "w", encoding="utf-8", newline="") if out_path else sys.stdout  # noqa: SIM115
+        except OSError as error:
+            raise InputError("out", args.out, f"cannot be written ({error.strerror})") from None
+        sinks.append(JsonResults(handle, formulary) if as_json else CsvResults(handle, with_order_id))
+    long_file = path.stat().st_size > 1_000_000
+    progress = Progress(sys.stderr) if args.progress or (long_file and sys.stderr.isatty()) else None
+    try:
+        run_audit(path, formulary, sinks, progress=progress)
+    finally:
+        if handle is not None and handle is not sys.stdout:
+            handle.close()
+    if args.summary:
+        if args.json:
+            import json  # noqa: PLC0415
+
+            print(json.dumps(summary.to_json(), indent=2))
+        else:
+            print(summary.render(), end="")
+    elif out_path is not None:
+        s = summary.to_json()["status"]
+        print(
+            f"{sum(s.values())} rows: ok {s['ok']}, warn {s['warn']}, refuse {s['refuse']}, "
+            f"not audited {s['error']}; results in {out_path}"
+        )
+    return INVALID if bad.count else OK
