@@ -15,7 +15,7 @@ from osmodose import __version__
 from osmodose.engine import Cases, Figures, compute
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary
-from osmodose.inputs import CheckRequest, DoseRequest
+from osmodose.inputs import CheckRequest, DoseRequest, Patient
 from osmodose.presentations import fit_presentations
 from osmodose.ranges import PLAUSIBLE
 from osmodose.results import (
@@ -39,6 +39,8 @@ PROJECTION_NOTE = (
 )
 HIGH_RISK_NOTE = "High risk of osmotic demyelination ({reason}): the usual limit is 8 mmol/L in 24 h."
 NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
+#: Watson total body water outside this share of body weight is refused (common practice).
+WATSON_FRACTION_RANGE = (0.3, 0.8)
 FILTER_NOTE = "Mannitol 20-25 % crystallises when cold: give it through an in-line filter."
 
 
@@ -92,6 +94,11 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         raise height_required_error()
     cases = cases_from_request(request, agent_index, method == "watson")
     figures = compute(cases, formulary.agents, formulary.settings)
+    problem = tbw_error(
+        method == "watson", request.patient, float(figures.tbw_l[0]), formulary.settings.adult_age_years
+    )
+    if problem is not None:
+        raise problem
     if agent is not None and request.dose is not None:
         problem = volume_error(request.dose, agent, request.labs.sodium_mmol_l, float(figures.volume_ml[0]))
         if problem is not None:
@@ -143,6 +150,51 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
 def height_required_error() -> InputError:
     """The Watson formula was asked for without a height."""
     return InputError("height", None, "is required for the Watson formula", "a height in cm, or tbw-method fraction")
+
+
+def tbw_problems(
+    use_watson: np.ndarray, age_years: np.ndarray, weight_kg: np.ndarray, tbw_l: np.ndarray, adult_age: float
+) -> np.ndarray:
+    """Rows whose Watson total body water cannot be used.
+
+    The Watson formula was derived in adults (Watson PE et al. Am J Clin Nutr
+    1980), and outside the body sizes it was fitted on it can give any number,
+    even a negative one (a tiny weight with a short height and old age).  A
+    result outside 30-80 % of body weight is refused rather than used (range
+    common practice, chosen wide: measured adult TBW is about 45-60 %).
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        fraction = tbw_l / weight_kg
+        outside = ~((WATSON_FRACTION_RANGE[0] <= fraction) & (fraction <= WATSON_FRACTION_RANGE[1]))
+    return use_watson & ((age_years < adult_age) | outside)
+
+
+def tbw_error(use_watson: bool, patient: Patient, tbw_l: float, adult_age: float) -> InputError | None:
+    """The error for a Watson total body water that cannot be used, or None."""
+    bad = tbw_problems(
+        np.array([use_watson]),
+        np.array([patient.age_years]),
+        np.array([patient.weight_kg]),
+        np.array([tbw_l]),
+        adult_age,
+    )
+    if not bad[0]:
+        return None
+    if patient.age_years < adult_age:
+        return InputError(
+            "tbw-method",
+            "watson",
+            f"is for adults only (age {patient.age_years:g} is under {adult_age:g})",
+            "fraction for a child",
+        )
+    low, high = WATSON_FRACTION_RANGE
+    return InputError(
+        "tbw-method",
+        "watson",
+        f"gives {tbw_l:.1f} L for {patient.weight_kg:g} kg, {tbw_l / patient.weight_kg:.0%} of body weight, "
+        f"outside {low:.0%}-{high:.0%}: the formula does not fit this height, weight and age",
+        "fraction, or check height, weight and age",
+    )
 
 
 def dose_misfit(dose: DoseRequest, agent: Agent) -> InputError | None:

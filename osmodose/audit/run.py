@@ -22,9 +22,10 @@ import numpy as np
 from osmodose.audit.columns import Header
 from osmodose.audit.convert import Converted, convert
 from osmodose.audit.reader import open_orders
-from osmodose.check import volume_error, volume_problems
+from osmodose.check import tbw_error, tbw_problems, volume_error, volume_problems
 from osmodose.engine import compute
 from osmodose.formulary.model import Formulary
+from osmodose.inputs import Patient
 from osmodose.rules import SEVERITY_NAMES, RuleOutcome, evaluate
 
 #: Rows per chunk: big enough that the engine's fixed cost per call is small
@@ -122,13 +123,20 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
         figures = compute(cases, formulary.agents, formulary.settings)
         outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, converted.line)
         unreachable, implausible = volume_problems(converted.mode, figures.volume_ml)
-    failed = good & (converted.mode != "") & (unreachable | implausible)
+        weight = cases.weight.m_as("kg")
+        bad_tbw = good & tbw_problems(
+            converted.use_watson, cases.age.m_as("year"), weight, figures.tbw_l, formulary.settings.adult_age_years
+        )
+    for i in np.flatnonzero(bad_tbw).tolist():
+        patient = Patient(weight_kg=float(weight[i]), age_years=float(cases.age.m_as("year")[i]), sex="male")
+        reasons[i] = str(tbw_error(True, patient, float(figures.tbw_l[i]), formulary.settings.adult_age_years))
+    failed = good & ~bad_tbw & (converted.mode != "") & (unreachable | implausible)
     for i in np.flatnonzero(failed).tolist():
         agent = formulary.agents[int(converted.agent_index[i])]
         sodium = float(converted.columns["sodium"][i])
         error = volume_error(converted.dose_request(i, formulary), agent, sodium, float(figures.volume_ml[i]))
         reasons[i] = str(error)
-    bad = np.flatnonzero(~good | failed)
+    bad = np.flatnonzero(~good | failed | bad_tbw)
     full = {}
     for name, attribute in FIGURES:
         column = getattr(figures, attribute)
