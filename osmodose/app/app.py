@@ -10,6 +10,7 @@ from textual.binding import Binding, BindingType
 from osmodose.app.screens.formulary import FormularyScreen
 from osmodose.app.screens.help import HelpScreen
 from osmodose.app.screens.main import MainScreen
+from osmodose.app.screens.verify import VerifyScreen
 from osmodose.formulary.model import Formulary
 
 DARK, LIGHT = "textual-dark", "textual-light"
@@ -25,7 +26,8 @@ class OsmodoseApp(App[None]):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("f1", "help", "help"),
         Binding("f2", "formulary", "formulary"),
-        Binding("ctrl+t", "toggle_theme", "light/dark"),
+        Binding("f3", "verify", "verify"),
+        Binding("ctrl+t", "toggle_theme", "theme"),
         Binding("ctrl+q", "quit", "quit"),
     ]
 
@@ -41,13 +43,24 @@ class OsmodoseApp(App[None]):
         if isinstance(self.screen, HelpScreen):
             self.pop_screen()
         else:
-            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS]))
+            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS, VerifyScreen.BINDINGS]))
 
     def action_formulary(self) -> None:
         if isinstance(self.screen, FormularyScreen):
             self.pop_screen()
         else:
             self.push_screen(FormularyScreen(self.formulary))
+
+    def action_verify(self) -> None:
+        """The verification screen over the check; kept (installed) so its order survives a trip back."""
+        if isinstance(self.screen, VerifyScreen):
+            self.pop_screen()
+            return
+        if not self.is_screen_installed("verify"):
+            main = self.screen_stack[0]
+            assert isinstance(main, MainScreen)
+            self.install_screen(VerifyScreen(self.formulary, main.values), "verify")
+        self.push_screen("verify")
 
     def action_toggle_theme(self) -> None:
         self.theme = LIGHT if self.current_theme.dark else DARK
