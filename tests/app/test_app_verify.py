@@ -64,7 +64,10 @@ async def test_ten_fold_mannitol_order_is_refused_and_the_refusal_has_no_accept_
         notes = [str(n.render()) for n in screen.query(".refusal-note").results(Static)]
         assert sorted(notes) == sorted(f"✖ {code}: {NOT_ACCEPTABLE}" for code in refused)
         # Accepting every warning there is leaves a refusal a refusal.
+        box = screen.query_one("#accept-line-not-stated", Checkbox)
+        assert "X" not in str(box.render())  # ticked or not reads without colour
         await tick(pilot, "line-not-stated")
+        assert str(box.render()).startswith("▐X▌ accept line-not-stated")
         await type_into(pilot, "reason-line-not-stated", "central line in place, noted")
         assert screen.verification.record is not None
         assert screen.verification.record.outcome == "refused"

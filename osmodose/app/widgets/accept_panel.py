@@ -11,6 +11,14 @@ from osmodose.app.verify_view import REASON, refusal_note
 REASON_HINT = "reason, 8 characters or more"
 
 
+class AcceptBox(Checkbox):
+    """A tick box whose mark is an X only when ticked, so it reads the same without colour."""
+
+    @property
+    def BUTTON_INNER(self) -> str:  # type: ignore[override]
+        return "X" if self.value else " "
+
+
 class AcceptRow(Vertical):
     """One warning: `accept <code>`, the reason beside it, and why the reason is not taken yet."""
 
@@ -22,7 +30,7 @@ class AcceptRow(Vertical):
         self.message = ""
 
     def compose(self) -> ComposeResult:
-        yield Checkbox(f"accept {self.code}", self.ticked, compact=True, id=f"accept-{self.code}")
+        yield AcceptBox(f"accept {self.code}", self.ticked, compact=True, id=f"accept-{self.code}")
         yield Input(self.reason, placeholder=REASON_HINT, compact=True, id=f"reason-{self.code}")
         yield Static("", classes="field-message", markup=False)
 
