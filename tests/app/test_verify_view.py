@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+import subprocess
+import sys
 from datetime import datetime, timedelta, timezone
+from pathlib import Path
 
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -23,6 +26,7 @@ from osmodose.verify import make_acceptance, parse_order, verify_order
 from osmodose.verify.order import ORDER_FIELDS
 from tests.app.driving import PERIPHERAL_SALINE, TEN_FOLD_MANNITOL, VEIN_REASON, VERIFY_PATIENT
 
+ROOT = Path(__file__).resolve().parents[2]
 NOW = datetime(2026, 12, 2, 8, 30, tzinfo=timezone(timedelta(hours=1)))
 SALINE_OK = Entry(
     VERIFY_PATIENT,
@@ -149,3 +153,10 @@ def test_any_typed_text_gives_a_state_and_a_refusal_is_never_acceptable(
     if first.refusals:
         assert state.outcome == "refused"
     assert decision_text(state)
+
+
+def test_the_verification_logic_imports_no_textual() -> None:
+    # The screen's logic is tested without a terminal: it must not need one.
+    code = "import sys, osmodose.app.verify_view; print(sorted(m for m in sys.modules if m.startswith('textual')))"
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT)
+    assert done.stdout.strip() == "[]"
