@@ -68,6 +68,7 @@ class VerifyScreen(Screen[None]):
         self.verification: VerifyState | None = None
         self.note: SaveNote | None = None
         self.shown: dict[str, str] = {}
+        self.generation = 0
 
     def compose(self) -> ComposeResult:
         agents = tuple((a.id, a.id) for a in self.formulary.agents)
@@ -139,6 +140,12 @@ class VerifyScreen(Screen[None]):
         """Evaluate every box and replace everything shown (or blank it)."""
         entry = self.entry()
         state = evaluate(entry, self.formulary)
+        self.generation += 1
+        generation = self.generation
+        accept = self.query_one(AcceptPanel)
+        await accept.show(state.acceptable, state.refusals, self.ticks, self.reasons)
+        if generation != self.generation:
+            return  # a newer evaluation started while the boxes were rebuilt: it shows everything
         self.verification = state
         status = self._show("verify-status", decision_text(state))
         for name in STATES:
@@ -151,8 +158,6 @@ class VerifyScreen(Screen[None]):
         preview = state.preview
         self._show("discrepancies", self._discrepancies(state))
         self.query_one(ChecksPanel).show(Outcome(preview.result if preview else None, state.error))
-        accept = self.query_one(AcceptPanel)
-        await accept.show(state.acceptable, state.refusals, self.ticks, self.reasons)
         accept.mark(state.field or "", box_message(state, state.field or ""), bad=not state.missing)
         self.query_one("#recomputed", FigurePanel).show(dose_texts(preview.result) if preview else None)
         borders = {
