@@ -12,6 +12,7 @@ from osmodose.app.screens.course import CourseScreen
 from osmodose.app.screens.formulary import FormularyScreen
 from osmodose.app.screens.help import HelpScreen
 from osmodose.app.screens.main import MainScreen
+from osmodose.app.screens.verify import VerifyScreen
 from osmodose.formulary.model import Formulary
 
 DARK, LIGHT = "textual-dark", "textual-light"
@@ -27,8 +28,9 @@ class OsmodoseApp(App[None]):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("f1", "help", "help"),
         Binding("f2", "formulary", "formulary"),
+        Binding("f3", "verify", "verify"),
         Binding("f4", "course", "course"),
-        Binding("ctrl+t", "toggle_theme", "light/dark"),
+        Binding("ctrl+t", "toggle_theme", "dark"),
         Binding("ctrl+q", "quit", "quit"),
     ]
 
@@ -49,13 +51,28 @@ class OsmodoseApp(App[None]):
         if isinstance(self.screen, HelpScreen):
             self.pop_screen()
         else:
-            self.push_screen(HelpScreen(self.formulary, [self.BINDINGS, MainScreen.BINDINGS, CourseScreen.BINDINGS]))
+            self.push_screen(
+                HelpScreen(
+                    self.formulary, [self.BINDINGS, MainScreen.BINDINGS, VerifyScreen.BINDINGS, CourseScreen.BINDINGS]
+                )
+            )
 
     def action_formulary(self) -> None:
         if isinstance(self.screen, FormularyScreen):
             self.pop_screen()
         else:
             self.push_screen(FormularyScreen(self.formulary))
+
+    def action_verify(self) -> None:
+        """The verification screen over the check; kept (installed) so its order survives a trip back."""
+        if isinstance(self.screen, VerifyScreen):
+            self.pop_screen()
+            return
+        if not self.is_screen_installed("verify"):
+            main = self.screen_stack[0]
+            assert isinstance(main, MainScreen)
+            self.install_screen(VerifyScreen(self.formulary, main.values), "verify")
+        self.push_screen("verify")
 
     def action_course(self) -> None:
         if isinstance(self.screen, CourseScreen):

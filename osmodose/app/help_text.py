@@ -32,4 +32,5 @@ FORM_KEYS: tuple[tuple[str, str], ...] = (
     ("tab / shift+tab", "next / previous field, in the order of the paper form: patient, labs, order"),
     ("enter", "in a typed field: go to the next field; on a choice: open the list"),
     ("escape", "close a choice list or this screen"),
+    ("on verify (f3)", "ctrl+s saves the record to the verification log; escape or f3 goes back to the check"),
 )

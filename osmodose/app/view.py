@@ -18,7 +18,7 @@ from osmodose.inputs import DoseMode, parse_check_request
 from osmodose.report import STATUS_WORDS, fmt, signed
 from osmodose.results import CheckResult
 
-Panel = Literal["patient", "labs", "order", "lab", "dose", "reading", "plan"]
+Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
 
 #: The order field whose meaning is chosen by the dose-mode select.
 AMOUNT = "amount"

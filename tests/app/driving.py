@@ -7,12 +7,14 @@ import functools
 from collections.abc import Callable, Coroutine
 from typing import Any
 
+from textual import events
 from textual.pilot import Pilot
 from textual.widgets import Input
 
 from osmodose.app.app import OsmodoseApp
 from osmodose.app.screens.main import MainScreen
 from osmodose.app.view import FIELDS
+from osmodose.app.widgets.form_field import FormField
 from osmodose.formulary import demo_formulary_path, load_formulary
 
 # Invented patients for the app tests (demo data only).
@@ -112,3 +114,65 @@ def sync(test: Callable[..., Coroutine[Any, Any, None]]) -> Callable[..., None]:
         asyncio.run(test(*args, **kwargs))
 
     return run
+
+
+# The verification screen's cases: an invented 70 kg man, the patient typed on the check screen.
+VERIFY_PATIENT = {"weight": "70", "age": "45", "sex": "male", "sodium": "141", "glucose": "6", "urea": "5"}
+VERIFY_PATIENT_ARGS = ["--weight", "70", "--age", "45", "--sex", "male", "--sodium", "141", "--glucose", "6",
+                       "--urea", "5"]  # fmt: skip
+#: Mannitol 20 % 3500 mL written for "1 g/kg" in 70 kg: 70 g is 350 mL, so a 10-fold volume.
+TEN_FOLD_MANNITOL = {"agent": "mannitol-20", "volume": "3500", "stated-dose": "1 g/kg"}
+#: 3 % saline 250 mL over an hour through a peripheral line (a peripheral-osmolarity warning).
+PERIPHERAL_SALINE = {"agent": "nacl-3", "volume": "250", "duration": "60", "line": "peripheral"}
+PERIPHERAL_SALINE_ARGS = ["--agent", "nacl-3", "--volume", "250", "--duration", "60", "--line", "peripheral"]
+VEIN_REASON = "large forearm vein, 1 h only, site checked"
+
+
+PASTE_FROM = 8
+
+
+async def type_into(pilot: Pilot, key: str, text: str) -> None:
+    """Focus a box of the current screen and type `text` key by key (a choice: open, type its start, enter).
+
+    `key` is a form field's key, or the id of a plain typed box (a reason beside an accept box).
+    Text longer than a few characters arrives as a terminal paste (one event), to keep the tests fast.
+    """
+    field = pilot.app.screen.query_one_optional(f"#field-{key}", FormField)
+    control = field.control if field else pilot.app.screen.query_one(f"#{key}", Input)
+    control.focus()
+    await pilot.pause()
+    if isinstance(control, Input) and len(text) > PASTE_FROM:
+        control.post_message(events.Paste(text))
+    elif isinstance(control, Input):
+        await pilot.press(*text)
+    else:
+        await pilot.press("enter", *_shortest_prefix(field.choices, text), "enter")  # type: ignore[union-attr]
+    await pilot.pause()
+    assert control.value == text, f"{key}: typed {text!r}, box holds {control.value!r}"
+
+
+async def tick(pilot: Pilot, code: str) -> None:
+    """Tick the accept box of a warning with the keyboard."""
+    pilot.app.screen.query_one(f"#accept-{code}").focus()
+    await pilot.press("space")
+    await pilot.pause()
+
+
+async def open_verification(
+    pilot: Pilot, patient: dict[str, str], order: dict[str, str], initials: str = "", typed: bool = True
+) -> None:
+    """The patient on the check screen, F3, then the order as written typed into the verification screen.
+
+    With `typed` False each box gets its value at once (the same Changed message typing sends): faster,
+    for tests about something else than typing.
+    """
+    await fill(pilot, patient)
+    await pilot.press("f3")
+    await pilot.pause()
+    boxes = {**order, "initials": initials} if initials else dict(order)
+    for key, text in boxes.items():
+        if typed:
+            await type_into(pilot, key, text)
+        else:
+            pilot.app.screen.query_one(f"#field-{key}", FormField).control.value = text
+    await pilot.pause()

@@ -1,4 +1,6 @@
-"""The main screen at 80x24 in the ok, warn and refuse states (review the SVGs after --snapshot-update).
+"""The main screen at 80x24 in the ok, warn and refuse states, and the verification screen refused.
+
+Review the SVGs after --snapshot-update.
 
 Deterministic: no clock, no random, and the screen names the formulary by name,
 version and short SHA-256 only, never by its path.
@@ -12,7 +14,16 @@ import pytest
 from textual.pilot import Pilot
 from textual.widgets import Input
 
-from tests.app.driving import MANNITOL, REFUSE, SALINE, fill, make_app
+from tests.app.driving import (
+    MANNITOL,
+    REFUSE,
+    SALINE,
+    TEN_FOLD_MANNITOL,
+    VERIFY_PATIENT,
+    fill,
+    make_app,
+    open_verification,
+)
 
 
 def filled(fields: dict[str, str]) -> Callable[[Pilot], object]:
@@ -37,3 +48,16 @@ def filled(fields: dict[str, str]) -> Callable[[Pilot], object]:
 )
 def test_main_screen_snapshot(snap_compare: Callable[..., bool], fields: dict[str, str], theme: str) -> None:
     assert snap_compare(make_app(theme), terminal_size=(80, 24), run_before=filled(fields))
+
+
+async def refused_verification(pilot: Pilot) -> None:
+    await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB", typed=False)
+    for box in pilot.app.screen.query(Input):
+        box.cursor_blink = False
+    pilot.app.screen.query_one("#in-volume").focus()
+    await pilot.pause()
+
+
+def test_verification_screen_snapshot_refused(snap_compare: Callable[..., bool]) -> None:
+    """The 10-fold mannitol order: refused, two refusals with no accept box, one warning with one."""
+    assert snap_compare(make_app(), terminal_size=(80, 24), run_before=refused_verification)

@@ -31,7 +31,7 @@ class MainScreen(Screen[None]):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("ctrl+s", "save", "save"),
         Binding("ctrl+y", "copy", "copy"),
-        Binding("ctrl+n", "new_case", "new case"),
+        Binding("ctrl+n", "new_case", "new"),
     ]
 
     def __init__(self, formulary: Formulary) -> None:

@@ -1,0 +1,243 @@
+"""What the verification screen shows, as plain data: no textual here, so it is tested without a terminal.
+
+The screen's text goes through the core exactly as `osmodose verify` does:
+the patient and labs typed on the check screen through `parse_check_request`,
+the order as written through `parse_order`, each ticked warning and its
+reason through `make_acceptance`, then `verify_order`.  Nothing here
+computes a clinical figure: the rows below are the record's own numbers,
+formatted.
+
+The order is judged twice.  First with no acceptance (the *preview*): that
+gives the warnings a verifier may accept and the refusals no one can, and it
+does not depend on what the verifier has ticked.  Then, once every box reads,
+with the acceptances and initials (the *record*): that is the decision shown
+and what ctrl+s appends to the log.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from datetime import datetime
+from typing import NamedTuple
+
+from osmodose.app.view import FIELDS, SYMBOL, FieldSpec
+from osmodose.errors import InputError
+from osmodose.formulary.model import Formulary
+from osmodose.inputs import parse_check_request
+from osmodose.verify import VerificationRecord, make_acceptance, parse_initials, parse_order, verify_order
+from osmodose.verify.decision import MIN_REASON_LENGTH, NOT_ACCEPTABLE
+from osmodose.verify.discrepancies import Discrepancy
+from osmodose.verify.order import ORDER_FIELDS
+
+#: Keys of the check screen's form that belong to its own order, not to the patient or the labs.
+CHECK_ORDER_KEYS = frozenset(spec.key for spec in FIELDS if spec.panel == "order")
+#: Where an error in the patient or labs is marked: on the check screen, where they are typed.
+PATIENT = "patient"
+#: Initials for the preview only (the order judged with no acceptance); that record is never saved or shown.
+PREVIEW_INITIALS = "XX"
+#: Prefix of the key of a warning's reason box: "reason:<code>".
+REASON = "reason:"
+
+_LINES = (("central", "central"), ("peripheral", "peripheral"))
+ORDER_SPECS: tuple[FieldSpec, ...] = (
+    FieldSpec("agent", "agent", "order", blank="choose"),
+    FieldSpec("volume", "volume", "order", "mL, or 0.35 L"),
+    FieldSpec("duration", "duration", "order", "min, or 2 h"),
+    FieldSpec("rate", "or rate", "order", "mL/h, or 2 mL/min"),
+    FieldSpec("line", "line", "order", choices=_LINES, blank="not stated"),
+    FieldSpec("stated-dose", "stated dose", "order", "1 g/kg, 70 g, 120 mmol"),
+    FieldSpec("stated-sodium", "stated Na", "order", "expected, mmol/L"),
+)
+INITIALS_SPEC = FieldSpec("initials", "initials", "verifier", "e.g. AB")
+assert {spec.key for spec in ORDER_SPECS} == set(ORDER_FIELDS)
+
+#: The decision line: symbol, word and CSS state (ok/warn/refuse colours), so it reads without colour too.
+DECISION_SHOWN: dict[str, tuple[str, str, str]] = {
+    "released": ("✔", "RELEASED: nothing crossed and nothing contradicts the order", "ok"),
+    "released-with-accepted-warnings": ("✔", "RELEASED WITH ACCEPTED WARNINGS: each has a reason", "ok"),
+    "held": ("▲", "HELD: a warning is not accepted; not released until it is, or the order changes", "warn"),
+    "refused": ("✖", "REFUSED: do not give as written; the order must be changed", "refuse"),
+}
+
+
+def patient_fields(check_values: Mapping[str, str]) -> dict[str, str]:
+    """The patient and labs typed on the check screen (its own order fields left out), non-empty only."""
+    return {k: v for k, v in check_values.items() if k not in CHECK_ORDER_KEYS and v.strip()}
+
+
+def patient_summary(patient: Mapping[str, str]) -> str:
+    """The patient and labs as typed, for the read-only box: "weight 70, age 45, ..."."""
+    labels = {spec.key: spec.label for spec in FIELDS}
+    return ", ".join(f"{labels.get(k, k).removeprefix('or ')} {v}" for k, v in patient.items()) or "nothing typed"
+
+
+@dataclass(frozen=True)
+class Entry:
+    """Everything typed on the verification screen (and the patient from the check screen)."""
+
+    patient: dict[str, str]
+    order: dict[str, str]
+    accepted: dict[str, bool] = field(default_factory=dict)
+    """code -> whether its accept box is ticked."""
+    reasons: dict[str, str] = field(default_factory=dict)
+    """code -> the reason typed beside it."""
+    initials: str = ""
+
+    def key(self) -> tuple[object, ...]:
+        """A hashable snapshot: the saved record belongs to exactly this entry."""
+
+        def items(d: Mapping[str, object]) -> tuple[tuple[str, object], ...]:
+            return tuple(sorted(d.items()))
+
+        ticked = {code: self.reasons.get(code, "") for code, on in self.accepted.items() if on}
+        return items(self.patient), items(self.order), items(ticked), self.initials
+
+
+@dataclass(frozen=True)
+class VerifyState:
+    """One evaluation: the preview and the record when they can be made, else the error that stops them."""
+
+    preview: VerificationRecord | None
+    """The order judged with no acceptance: its warnings, refusals and figures."""
+    record: VerificationRecord | None
+    """The complete record (acceptances and initials applied): what is saved."""
+    error: InputError | None = None
+    field: str | None = None
+    """Which box the error belongs to: an order key, "initials", "reason:<code>", or "patient"."""
+    missing: bool = False
+
+    @property
+    def state(self) -> str:
+        """ok, warn, refuse (from the decision), or invalid / incomplete."""
+        outcome = self.outcome
+        if outcome is not None:
+            return DECISION_SHOWN[outcome][2]
+        return "incomplete" if self.missing else "invalid"
+
+    @property
+    def outcome(self) -> str | None:
+        """The decision; a refusal is shown even before the initials, as nothing can change it."""
+        if self.record is not None:
+            return self.record.outcome
+        if self.preview is not None and self.preview.outcome == "refused":
+            return "refused"
+        return None
+
+    @property
+    def acceptable(self) -> list[str]:
+        """Codes of the warnings a verifier may accept (never a code that is also refused)."""
+        return list(self.preview.decision.open_warnings) if self.preview else []
+
+    @property
+    def refusals(self) -> list[str]:
+        """Codes no one can accept."""
+        return list(self.preview.decision.refusals) if self.preview else []
+
+
+def evaluate(entry: Entry, formulary: Formulary, now: datetime | None = None) -> VerifyState:
+    """Run the typed boxes through the core; any InputError becomes a marked box."""
+    try:
+        request = parse_check_request(dict(entry.patient))
+    except InputError as error:
+        return VerifyState(None, None, error, PATIENT, error.value is None)
+    try:
+        order = parse_order(dict(entry.order))
+    except InputError as error:
+        return VerifyState(None, None, error, error.field, error.value is None)
+    try:
+        preview = verify_order(request, order, formulary, (), PREVIEW_INITIALS, now=now)
+    except InputError as error:
+        return VerifyState(None, None, error, error.field, error.value is None)
+    acceptances = []
+    for code in preview.decision.open_warnings:
+        if not entry.accepted.get(code):
+            continue
+        reason = entry.reasons.get(code, "")
+        try:
+            acceptances.append(make_acceptance(code, reason))
+        except InputError as error:
+            return VerifyState(preview, None, error, REASON + code, not reason.strip())
+    try:
+        initials = parse_initials(entry.initials)
+    except InputError as error:
+        return VerifyState(preview, None, error, "initials", error.value is None)
+    record = verify_order(request, order, formulary, acceptances, initials, now=now)
+    return VerifyState(preview, record)
+
+
+def problem_text(state: VerifyState) -> str:
+    """The error in the screen's words: a reason box is named by its warning, not by a CLI option."""
+    error = state.error
+    if error is None:
+        return ""
+    if state.field and state.field.startswith(REASON):
+        code = state.field.removeprefix(REASON)
+        if state.missing:
+            return f"accept {code}: needs a written reason of at least {MIN_REASON_LENGTH} characters"
+        return f"accept {code}: {error.problem}"
+    return str(error)
+
+
+def box_message(state: VerifyState, key: str) -> str:
+    """The text shown under box `key`: why it is wrong or still needed, else nothing."""
+    if state.field != key or state.error is None:
+        return ""
+    return ("… needed: " if state.missing else "✖ ") + problem_text(state)
+
+
+def decision_text(state: VerifyState) -> str:
+    """The decision line: symbol, word, meaning; or why there is no decision yet."""
+    outcome = state.outcome
+    if outcome is None:
+        word = "INCOMPLETE" if state.missing else "NOT VALID"
+        where = " (on the check screen: escape to go back)" if state.field == PATIENT else ""
+        return f"{SYMBOL[state.state]} {word}: {problem_text(state)}{where}"
+    symbol, words, _ = DECISION_SHOWN[outcome]
+    return f"{symbol} {words}"
+
+
+def _number(value: float) -> str:
+    return f"{value:.3g}"
+
+
+def discrepancy_rows(discrepancies: list[Discrepancy]) -> list[tuple[str, str, str, str]]:
+    """(severity, heading, stated vs recomputed, message) per discrepancy, refusals first.
+
+    The middle is empty where there are not two numbers to set side by side
+    (no line named, a part bag): the message says what is wrong.
+    """
+    rows = []
+    for d in discrepancies:
+        unit = f" {d.unit}" if d.unit else ""
+        side = ""
+        if d.stated is not None and d.recomputed is not None:
+            side = f"stated {_number(d.stated)}{unit} · recomputed {_number(d.recomputed)}{unit}"
+        rows.append((d.severity, f"{SYMBOL[d.severity]} {d.severity.upper()} {d.code}", side, d.message))
+    return rows
+
+
+def worst(severities: list[str]) -> str:
+    """refuse, warn or ok: what a panel's border shows for the items in it."""
+    return "refuse" if "refuse" in severities else "warn" if "warn" in severities else "ok"
+
+
+def refusal_note(code: str) -> str:
+    """What stands where a refused code's accept box would be."""
+    return f"✖ {code}: {NOT_ACCEPTABLE}"
+
+
+class SaveNote(NamedTuple):
+    """The last save attempt: shown only while the entry is still the one it was made for."""
+
+    key: tuple[object, ...]
+    text: str
+    saved: bool
+
+
+def saved_text(sequence: int, sha256: str, path: object) -> str:
+    return f"✔ SAVED as record {sequence} in {path}\nsha256 {sha256}"
+
+
+def not_saved_text(problem: object) -> str:
+    return f"✖ NOT SAVED: {problem}. Nothing is verified until the record is in the log."
