@@ -8,8 +8,13 @@ import sys
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, settings
 
 from osmodose.formulary import Formulary, demo_formulary_path, load_formulary
+
+# Property tests judge results, never speed: a busy CI machine must not fail them on time.
+settings.register_profile("osmodose", deadline=None, suppress_health_check=[HealthCheck.too_slow])
+settings.load_profile("osmodose")
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
 
