@@ -58,13 +58,27 @@ class LimitsTable(BaseModel):
     osmolality_refuse: str | None = None
     """Serum osmolality above which an order is refused; default 320 mOsm/kg."""
     osmolar_gap_warn: str | None = None
-    """Osmolar gap above which mannitol is warned; default 20 mOsm/kg."""
+    """Osmolar gap above which mannitol is warned; default 10 mOsm/kg."""
+    osmolar_gap_refuse: str | None = None
+    """Osmolar gap above which mannitol is refused; default 20 mOsm/kg."""
+    osmolar_gap_negative_warn: str | None = None
+    """How far measured osmolality may fall below calculated before a warning; default 10 mOsm/kg."""
     sodium_rise_24h_warn: str | None = None
     """Sodium rise within 24 h above which an order is warned; default 8 mmol/L."""
     sodium_rise_24h_refuse: str | None = None
     """Sodium rise within 24 h above which an order is refused; default 10 mmol/L."""
+    sodium_rise_applies_below: str | None = None
+    """Starting sodium below which the 24 h rise limits apply; default 135 mmol/L."""
+    sodium_rise_24h_high_risk_refuse: str | None = None
+    """Rise within 24 h refused for high risk of osmotic demyelination; default 8 mmol/L."""
     sodium_fall_24h_warn: str | None = None
     """Sodium fall within 24 h above which an order is warned; default 10 mmol/L."""
+    sodium_fall_24h_refuse: str | None = None
+    """Sodium fall within 24 h above which an order is refused; default 12 mmol/L."""
+    sodium_low_warn: str | None = None
+    """Projected sodium below which an order that lowers sodium is warned; default 130 mmol/L."""
+    sodium_low_refuse: str | None = None
+    """Projected sodium below which an order that lowers sodium is refused; default 125 mmol/L."""
     peripheral_osmolarity_warn: str | None = None
     """Infusate osmolarity above which a peripheral line is warned; default 900 mOsm/L."""
     dose_tolerance: str | None = None

@@ -56,9 +56,23 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     "osmolar_gap_warn": LimitSpec(
         "mOsm/kg",
         _OSMOLALITY,
-        20.0,
-        "common practice (sources vary from 10 to 20)",
+        10.0,
+        "McMaster Textbook of Internal Medicine and clinical chemistry reviews: normal below 10",
         "osmolar gap above which mannitol is warned (mannitol accumulating)",
+    ),
+    "osmolar_gap_refuse": LimitSpec(
+        "mOsm/kg",
+        _OSMOLALITY,
+        20.0,
+        "common practice: a gap above about 20 is a common hold threshold (sources vary from 10 to 20)",
+        "osmolar gap above which mannitol is refused",
+    ),
+    "osmolar_gap_negative_warn": LimitSpec(
+        "mOsm/kg",
+        _OSMOLALITY,
+        10.0,
+        "common practice: measured below calculated by more than 10 points to a unit slip or a sample problem",
+        "how far measured osmolality may fall below the calculated one before it is warned",
     ),
     "sodium_rise_24h_warn": LimitSpec(
         "mmol/L",
@@ -75,12 +89,50 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
         "Spasovski G et al. Eur J Endocrinol 2014 (10 in the first 24 h)",
         "projected or measured sodium rise within 24 h above which an order is refused",
     ),
+    "sodium_rise_applies_below": LimitSpec(
+        "mmol/L",
+        _CONC,
+        135.0,
+        "hyponatraemia is serum sodium below 135 mmol/L (Spasovski G et al. Eur J Endocrinol 2014; "
+        "Verbalis JG et al. Am J Med 2013): the 24 h rise limits protect a brain adapted to low sodium",
+        "starting sodium below which the 24 h rise limits apply (osmotherapy from a normal sodium is "
+        "judged by the sodium ceilings)",
+    ),
+    "sodium_rise_24h_high_risk_refuse": LimitSpec(
+        "mmol/L",
+        _CONC,
+        8.0,
+        "Verbalis JG et al. Am J Med 2013: 8 mmol/L in 24 h for high risk of osmotic demyelination",
+        "rise within 24 h above which an order is refused when the risk of osmotic demyelination is high "
+        "(sodium 105 mmol/L or below, or potassium below 3.5 mmol/L)",
+    ),
     "sodium_fall_24h_warn": LimitSpec(
         "mmol/L",
         _CONC,
         10.0,
         "secondary sources: chronic hypernatraemia lowered by at most about 10 mmol/L a day",
         "projected or measured sodium fall within 24 h above which an order is warned",
+    ),
+    "sodium_fall_24h_refuse": LimitSpec(
+        "mmol/L",
+        _CONC,
+        12.0,
+        "common practice: symmetric with the rise limits (no single source)",
+        "projected sodium fall within 24 h above which an order is refused",
+    ),
+    "sodium_low_warn": LimitSpec(
+        "mmol/L",
+        _CONC,
+        130.0,
+        "common practice: below 130 is moderate hyponatraemia (Spasovski G et al. Eur J Endocrinol 2014, from memory)",
+        "projected sodium below which an order that lowers sodium is warned",
+    ),
+    "sodium_low_refuse": LimitSpec(
+        "mmol/L",
+        _CONC,
+        125.0,
+        "common practice: below 125 is profound hyponatraemia (Spasovski G et al. Eur J Endocrinol 2014, from memory)",
+        "projected sodium below which an order that lowers sodium is refused",
     ),
     "peripheral_osmolarity_warn": LimitSpec(
         "mOsm/L",
@@ -145,8 +197,13 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
 ORDERED_PAIRS: tuple[tuple[str, str], ...] = (
     ("sodium_warn", "sodium_refuse"),
     ("osmolality_warn", "osmolality_refuse"),
+    ("osmolar_gap_warn", "osmolar_gap_refuse"),
     ("sodium_rise_24h_warn", "sodium_rise_24h_refuse"),
+    ("sodium_fall_24h_warn", "sodium_fall_24h_refuse"),
 )
+
+#: Lower limits: the warn must not be below the refuse.
+REVERSED_PAIRS: tuple[tuple[str, str], ...] = (("sodium_low_warn", "sodium_low_refuse"),)
 
 
 def display_unit(unit: str) -> str:

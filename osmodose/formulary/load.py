@@ -21,7 +21,7 @@ from osmodose.chemistry import SOLUTES
 from osmodose.errors import FormularyError, FormularyProblems, InputError
 from osmodose.formulary.file_errors import describe, key_path, salvage
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
-from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS
+from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseLimit, Formulary, Limits
 from osmodose.ranges import SOLUTE_STRENGTH
@@ -178,6 +178,10 @@ def _resolve_limits(table: LimitsTable, out: _Collector) -> Limits:
         low, high = values[warn], values[refuse]
         if low is not None and high is not None and low > high:
             out.add(f"limits.{warn}", f"{low:g} {LIMIT_SPECS[warn].unit} is above {refuse} ({high:g})")
+    for warn, refuse in REVERSED_PAIRS:
+        high, low = values[warn], values[refuse]
+        if low is not None and high is not None and high < low:
+            out.add(f"limits.{warn}", f"{high:g} {LIMIT_SPECS[warn].unit} is below {refuse} ({low:g})")
     return Limits(values=values, from_file=frozenset(from_file))
 
 
