@@ -52,13 +52,17 @@ def _past(limit: np.ndarray | float) -> np.ndarray | float:
         return limit + np.abs(limit) * LIMIT_RELATIVE_TOLERANCE
 
 
-def _threshold(value: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
-    """2 above refuse, 1 above warn, else 0; NaN values and limits give 0."""
+def threshold(value: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray | float) -> np.ndarray:
+    """2 above refuse, 1 above warn, else 0; NaN values and limits give 0.
+
+    Public so every judgement against a limit (check, audit, course) treats a
+    figure within rounding of the limit alike: as at the limit, not above it.
+    """
     return _severity(value, _past(warn), _past(refuse))
 
 
 def _severity(value: np.ndarray, warn_past: np.ndarray | float, refuse_past: np.ndarray | float) -> np.ndarray:
-    """`_threshold` with the limits already moved past by the tolerance."""
+    """`threshold` with the limits already moved past by the tolerance."""
     with np.errstate(invalid="ignore"):
         refused = value > refuse_past  # NaN compares False: no finding
         severity = (value > warn_past).astype(np.int8)
@@ -86,7 +90,7 @@ def _threshold_rule(
     refuse: np.ndarray | float,
     applies: np.ndarray,
 ) -> RuleOutcome:
-    severity = np.where(applies, _threshold(value, warn, refuse), NONE).astype(np.int8)
+    severity = np.where(applies, threshold(value, warn, refuse), NONE).astype(np.int8)
     return RuleOutcome(code, severity, value, _limit_of(severity, warn, refuse), unit, _above(what, unit))
 
 
@@ -236,7 +240,7 @@ def _line_rules(agents: Sequence[Agent], index: np.ndarray, line: np.ndarray, li
     refused = np.where(peripheral & central_only, REFUSE, NONE).astype(np.int8)
     osmolarity = _agent_column(agents, index, lambda a: a.osmolarity_mosm_l)
     warn = _num(limits.get("peripheral_osmolarity_warn"))
-    warned = np.where(peripheral & ~central_only, _threshold(osmolarity, warn, np.inf), NONE).astype(np.int8)
+    warned = np.where(peripheral & ~central_only, threshold(osmolarity, warn, np.inf), NONE).astype(np.int8)
 
     def central(value: float, _limit: float, _severity: str) -> str:
         return f"this agent ({value:.0f} mOsm/L) is for a central line only and is ordered peripheral"
