@@ -191,12 +191,28 @@ def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: obj
         # Limits are positive; within 1e-9 (relative) of a limit is at it (rules.LIMIT_RELATIVE_TOLERANCE).
         return np.where(value > refuse * (1 + 1e-9), 2, np.where(value > warn * (1 + 1e-9), 1, 0))
 
+    def below(value: np.ndarray, warn: float, refuse: float) -> np.ndarray:
+        # A lower limit: past it from below (same tolerance, mirrored).
+        return np.where(value < refuse * (1 - 1e-9), 2, np.where(value < warn * (1 - 1e-9), 1, 0))
+
+    with np.errstate(invalid="ignore"):
+        high_risk = (na <= 105) | (a["potassium"] < 3.5)
+    rise_refuse = np.where(
+        high_risk, min(v["sodium_rise_24h_refuse"], v["sodium_rise_24h_high_risk_refuse"]), v["sodium_rise_24h_refuse"]
+    )
     worst = np.where(lowering, 0, sev(na, v["sodium_warn"], v["sodium_refuse"]))
-    worst = np.maximum(worst, np.where(has, sev(projected, v["sodium_warn"], v["sodium_refuse"]), 0))
-    worst = np.maximum(worst, np.where(lowering, 0, sev(osmolality, v["osmolality_warn"], v["osmolality_refuse"])))
-    worst = np.maximum(worst, np.where(mannitol, sev(gap, v["osmolar_gap_warn"], np.inf), 0))
-    worst = np.maximum(worst, sev(rise, v["sodium_rise_24h_warn"], v["sodium_rise_24h_refuse"]))
-    worst = np.maximum(worst, sev(-rise, v["sodium_fall_24h_warn"], np.inf))
+    worst = np.maximum(worst, np.where(has & ~lowering, sev(projected, v["sodium_warn"], v["sodium_refuse"]), 0))
+    worst = np.maximum(
+        worst, np.where(has & lowering, below(projected, v["sodium_low_warn"], v["sodium_low_refuse"]), 0)
+    )
+    osm_judged = mannitol | ~has
+    worst = np.maximum(worst, np.where(osm_judged, sev(osmolality, v["osmolality_warn"], v["osmolality_refuse"]), 0))
+    worst = np.maximum(worst, np.where(mannitol, sev(gap, v["osmolar_gap_warn"], v["osmolar_gap_refuse"]), 0))
+    worst = np.maximum(worst, np.where(gap < -v["osmolar_gap_negative_warn"] * (1 + 1e-9), 1, 0))
+    worst = np.maximum(worst, np.where(mannitol & np.isnan(osmolality), 1, 0))
+    rise_judged = has & (na < v["sodium_rise_applies_below"])
+    worst = np.maximum(worst, np.where(rise_judged, sev(rise, v["sodium_rise_24h_warn"], rise_refuse), 0))
+    worst = np.maximum(worst, np.where(has, sev(-rise, v["sodium_fall_24h_warn"], v["sodium_fall_24h_refuse"]), 0))
     for kind, figure in (("g/kg", "solute_g_per_kg"), ("mL/kg", "volume_ml_per_kg"), ("mmol/kg", "sodium_mmol_per_kg")):
         warn = table([d.value if (d := x.dose_warn) and d.kind == kind else np.inf for x in agents])
         refuse = table([d.value if (d := x.dose_refuse) and d.kind == kind else np.inf for x in agents])

@@ -14,7 +14,7 @@ import numpy as np
 from osmodose import __version__
 from osmodose.engine import Cases, Figures, compute
 from osmodose.errors import InputError
-from osmodose.formulary.model import Agent, Formulary
+from osmodose.formulary.model import Agent, Formulary, Limits
 from osmodose.inputs import CheckRequest, DoseRequest, Patient
 from osmodose.presentations import fit_presentations
 from osmodose.ranges import PLAUSIBLE
@@ -25,19 +25,28 @@ from osmodose.results import (
     FormularyRef,
     PatientFigures,
 )
-from osmodose.rules import SEVERITY_NAMES, evaluate
+from osmodose.rules import HIGH_RISK_POTASSIUM, HIGH_RISK_SODIUM, SEVERITY_NAMES, evaluate
 from osmodose.units import Q_
 
 MANNITOL_NOTE = (
     "No sodium projection for mannitol: it carries no sodium and stays extracellular "
     "(early it lowers measured sodium by drawing water from cells, later raises it through "
-    "osmotic diuresis); the osmolar load and the osmolality checks carry its safety."
+    "osmotic diuresis); its safety rests on the osmolar load, the serum osmolality and the osmolar gap."
+)
+NO_GAP_NOTE = "The osmolar gap needs a measured osmolality: without one, mannitol accumulating cannot be seen."
+RATE_UNCHECKED_NOTE = "No duration given: the rate is not checked against this agent's maximum of {rate:g} mL/h."
+RISE_NOT_JUDGED_NOTE = (
+    "The 24 h rise limits apply from a starting sodium below {below:g} mmol/L (they protect a brain adapted "
+    "to low sodium); from {sodium:g} mmol/L this rise of {rise:+.1f} mmol/L is judged by the sodium ceilings."
 )
 PROJECTION_NOTE = (
     "The projection ignores ongoing losses (urine, osmotic diuresis): real rises can exceed it; "
     "re-measure sodium every 2-6 h during active therapy."
 )
-HIGH_RISK_NOTE = "High risk of osmotic demyelination ({reason}): the usual limit is 8 mmol/L in 24 h."
+HIGH_RISK_NOTE = (
+    "High risk of osmotic demyelination ({reason}): the rise is refused above {limit:g} mmol/L in 24 h. "
+    "Alcohol use, malnutrition and liver disease raise the risk too: judge them at the bedside."
+)
 NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
 #: Watson total body water outside this share of body weight is refused (common practice).
 WATSON_FRACTION_RANGE = (0.3, 0.8)
@@ -122,7 +131,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     return CheckResult(
         status=status,  # type: ignore[arg-type]
         findings=findings,
-        notes=_notes(request, agent, figures),
+        notes=_notes(request, agent, figures, formulary.limits),
         formulary=FormularyRef(
             name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
         ),
@@ -270,24 +279,34 @@ def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures) 
     )
 
 
-def _notes(request: CheckRequest, agent: Agent | None, figures: Figures) -> list[str]:
+def _notes(request: CheckRequest, agent: Agent | None, figures: Figures, limits: Limits) -> list[str]:
     notes = []
     labs = request.labs
     if labs.glucose_mmol_l is None or labs.urea_mmol_l is None:
         notes.append(NO_GLUCOSE_UREA_NOTE)
-    if agent is not None:
-        if agent.projects_sodium:
-            notes.append(PROJECTION_NOTE)
-        else:
-            notes.append(MANNITOL_NOTE)
-        if agent.solute == "mannitol":
-            notes.append(FILTER_NOTE)
-        reasons = []
-        if labs.sodium_mmol_l <= 105:
-            reasons.append("sodium 105 mmol/L or below")
-        if labs.potassium_mmol_l is not None and labs.potassium_mmol_l < 3.5:
-            reasons.append("hypokalaemia")
-        rise = figures.projected_rise[0]
-        if reasons and not math.isnan(rise) and rise > 0:
-            notes.append(HIGH_RISK_NOTE.format(reason=", ".join(reasons)))
+    if agent is None:
+        return notes
+    if agent.projects_sodium:
+        notes.append(PROJECTION_NOTE)
+    else:
+        notes.append(MANNITOL_NOTE)
+    if agent.solute == "mannitol":
+        if labs.osmolality_mosm_kg is None:
+            notes.append(NO_GAP_NOTE)
+        notes.append(FILTER_NOTE)
+    if agent.max_rate_ml_h is not None and request.dose is not None and request.dose.duration_min is None:
+        notes.append(RATE_UNCHECKED_NOTE.format(rate=agent.max_rate_ml_h))
+    rise = float(figures.projected_rise[0])
+    below = limits.get("sodium_rise_applies_below")
+    warn = limits.get("sodium_rise_24h_warn")
+    if below is not None and warn is not None and labs.sodium_mmol_l >= below and rise > warn:
+        notes.append(RISE_NOT_JUDGED_NOTE.format(below=below, sodium=labs.sodium_mmol_l, rise=rise))
+    reasons = []
+    if labs.sodium_mmol_l <= HIGH_RISK_SODIUM:
+        reasons.append(f"sodium {HIGH_RISK_SODIUM:g} mmol/L or below")
+    if labs.potassium_mmol_l is not None and labs.potassium_mmol_l < HIGH_RISK_POTASSIUM:
+        reasons.append("hypokalaemia")
+    limit = limits.get("sodium_rise_24h_high_risk_refuse")
+    if reasons and limit is not None and not math.isnan(rise) and rise > 0:
+        notes.append(HIGH_RISK_NOTE.format(reason=", ".join(reasons), limit=limit))
     return notes

@@ -14,6 +14,17 @@ STATUS_WORDS = {
     "warn": "WARN: a soft limit is crossed; review before giving",
     "refuse": "REFUSE: a hard limit is crossed; do not give as ordered",
 }
+#: The same states for labs with no order: nothing is "given as ordered".
+LABS_ONLY_WORDS = {
+    "ok": "OK: no limit crossed",
+    "warn": "WARN: a soft limit is crossed by these labs",
+    "refuse": "REFUSE: a hard limit is crossed by these labs; hold hyperosmolar therapy",
+}
+
+
+def status_words(result: CheckResult) -> str:
+    """What the status means for this result, with or without an order."""
+    return (STATUS_WORDS if result.dose is not None else LABS_ONLY_WORDS)[result.status]
 
 
 def fmt(value: float | None, unit: str = "", digits: int = 1) -> str:
@@ -34,7 +45,7 @@ def render_text(result: CheckResult) -> str:
     """The readable report, ending with the caution line."""
     p = result.patient
     lines = [
-        f"osmodose check  {STATUS_MARK[result.status]} {STATUS_WORDS[result.status]}",
+        f"osmodose check  {STATUS_MARK[result.status]} {status_words(result)}",
         f"formulary: {result.formulary.name} v{result.formulary.version} sha256 {result.formulary.sha256}",
         "",
         f"patient: {p.weight_kg:.1f} kg, {p.age_years:g} y, {p.sex}"

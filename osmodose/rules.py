@@ -74,11 +74,43 @@ def _limit_of(severity: np.ndarray, warn: np.ndarray | float, refuse: np.ndarray
     return np.asarray(np.where(severity == REFUSE, refuse, warn), dtype=float)
 
 
+def shown(value: float, limit: float) -> str:
+    """`value` to one decimal, or to as many as it takes not to print the limit itself.
+
+    "310.0 is above the limit of 310" reads as a contradiction; "310.04" does not.
+    """
+    for digits in (1, 2, 3, 4):
+        text = f"{value:.{digits}f}"
+        if float(text) != limit:
+            return text
+    return f"{value:.6g}"
+
+
 def _above(what: str, unit: str) -> Callable[[float, float, str], str]:
     def describe(value: float, limit: float, severity: str) -> str:
-        return f"{what} {value:.1f} {unit} is above the {severity} limit of {limit:g} {unit}"
+        return f"{what} {shown(value, limit)} {unit} is above the {severity} limit of {limit:g} {unit}"
 
     return describe
+
+
+def _below(what: str, unit: str) -> Callable[[float, float, str], str]:
+    def describe(value: float, limit: float, severity: str) -> str:
+        return f"{what} {shown(value, limit)} {unit} is below the {severity} limit of {limit:g} {unit}"
+
+    return describe
+
+
+def _negative_gap(value: float, limit: float, _severity: str) -> str:
+    return (
+        f"osmolar gap {shown(value, limit)} mOsm/kg: measured osmolality is more than {-limit:g} below the "
+        "calculated one; check the units of glucose and urea, and the sample"
+    )
+
+
+#: High risk of osmotic demyelination (Verbalis JG et al. Am J Med 2013): sodium
+#: of 105 mmol/L or below, or hypokalaemia (below 3.5 mmol/L, common practice).
+HIGH_RISK_SODIUM = 105.0
+HIGH_RISK_POTASSIUM = 3.5
 
 
 def _threshold_rule(
@@ -92,6 +124,35 @@ def _threshold_rule(
 ) -> RuleOutcome:
     severity = np.where(applies, threshold(value, warn, refuse), NONE).astype(np.int8)
     return RuleOutcome(code, severity, value, _limit_of(severity, warn, refuse), unit, _above(what, unit))
+
+
+def _below_rule(
+    code: str,
+    what: str,
+    unit: str,
+    value: np.ndarray,
+    warn: float,
+    refuse: float,
+    applies: np.ndarray,
+    describe: Callable[[float, float, str], str] | None = None,
+) -> RuleOutcome:
+    """A lower limit: the same threshold on the negated figure."""
+    severity = np.where(applies, threshold(-value, -warn, -refuse), NONE).astype(np.int8)
+    return RuleOutcome(code, severity, value, _limit_of(severity, warn, refuse), unit, describe or _below(what, unit))
+
+
+def _unknown_osmolality_rule(osmolality: np.ndarray, is_mannitol: np.ndarray) -> RuleOutcome:
+    """Mannitol with no osmolality at all: its safety checks cannot run, so say so."""
+    severity = np.where(is_mannitol & np.isnan(osmolality), WARN, NONE).astype(np.int8)
+
+    def describe(_value: float, _limit: float, _severity: str) -> str:
+        return (
+            "mannitol ordered with no serum osmolality (measured, or sodium, glucose and urea to calculate it): "
+            "the osmolality hold cannot be checked"
+        )
+
+    nan = np.full(np.shape(osmolality), np.nan)
+    return RuleOutcome("osmolality-unknown", severity, nan, nan, "mOsm/kg", describe)
 
 
 def _agent_column(agents: Sequence[Agent], index: np.ndarray, pick: Callable[[Agent], float | None]) -> np.ndarray:
@@ -126,6 +187,20 @@ def evaluate(
     measured = cases.osmolality.m_as("mOsm/kg")
     osmolality = np.where(np.isnan(measured), figures.calculated_osmolality, measured)
     is_mannitol = np.asarray([a.solute == "mannitol" for a in agents] + [False])[index]  # -1: the False
+    lowering = has_agent & ~not_lowering
+    # The 24 h rise limits come from correcting chronic hyponatraemia: they protect a
+    # brain adapted to a low sodium. Osmotherapy from a normal sodium is judged by the
+    # sodium ceilings instead.
+    rise_applies = has_agent & (sodium < _num(limits.get("sodium_rise_applies_below")))
+    potassium = cases.potassium.m_as("mmol/L")
+    with np.errstate(invalid="ignore"):
+        high_risk = (sodium <= HIGH_RISK_SODIUM) | (potassium < HIGH_RISK_POTASSIUM)
+    rise_refuse = np.where(
+        high_risk,
+        np.fmin(_num(limits.get("sodium_rise_24h_refuse")), _num(limits.get("sodium_rise_24h_high_risk_refuse"))),
+        _num(limits.get("sodium_rise_24h_refuse")),
+    )
+    gap = figures.osmolar_gap
     outcomes = [
         _threshold_rule(
             "sodium-high",
@@ -145,6 +220,18 @@ def evaluate(
             _num(limits.get("sodium_refuse")),
             has_agent & not_lowering,
         ),
+        _below_rule(
+            "projected-sodium-low",
+            "projected sodium",
+            "mmol/L",
+            figures.projected_sodium,
+            _num(limits.get("sodium_low_warn")),
+            _num(limits.get("sodium_low_refuse")),
+            lowering,
+        ),
+        # Hinson 2013: hold mannitol above 320. For hypertonic saline the sodium
+        # ceilings govern (urea and glucose would otherwise refuse a saline bolus
+        # to a patient inside the 145-160 sodium target).
         _threshold_rule(
             "osmolality-high",
             "serum osmolality",
@@ -152,33 +239,44 @@ def evaluate(
             osmolality,
             _num(limits.get("osmolality_warn")),
             _num(limits.get("osmolality_refuse")),
-            not_lowering,
+            is_mannitol | ~has_agent,
         ),
         _threshold_rule(
             "osmolar-gap-high",
             "osmolar gap",
             "mOsm/kg",
-            figures.osmolar_gap,
+            gap,
             _num(limits.get("osmolar_gap_warn")),
-            np.inf,
+            _num(limits.get("osmolar_gap_refuse")),
             is_mannitol,
         ),
+        _below_rule(
+            "osmolar-gap-negative",
+            "osmolar gap",
+            "mOsm/kg",
+            gap,
+            -_num(limits.get("osmolar_gap_negative_warn")),
+            -np.inf,
+            np.ones_like(has_agent),
+            _negative_gap,
+        ),
+        _unknown_osmolality_rule(osmolality, is_mannitol),
         _threshold_rule(
             "sodium-rise-24h",
-            "projected sodium rise",
+            "projected sodium rise from this order",
             "mmol/L",
             rise,
             _num(limits.get("sodium_rise_24h_warn")),
-            _num(limits.get("sodium_rise_24h_refuse")),
-            has_agent,
+            rise_refuse,
+            rise_applies,
         ),
         _threshold_rule(
             "sodium-fall-24h",
-            "projected sodium fall",
+            "projected sodium fall from this order",
             "mmol/L",
             -rise,
             _num(limits.get("sodium_fall_24h_warn")),
-            np.inf,
+            _num(limits.get("sodium_fall_24h_refuse")),
             has_agent,
         ),
     ]

@@ -139,7 +139,8 @@ def test_a_dose_per_cell_in_the_header_or_in_a_unit_column_reads_the_same(
     tmp_path: Path, capsys: pytest.CaptureFixture[str], header: str, cell: str
 ) -> None:
     # 1 g/kg x 70 kg = 70 g of 20 % mannitol (200 g/L) = 350 mL.
-    path = write(tmp_path, f"weight,age,sex,sodium,agent,{header}\n70,45,male,141,mannitol-20,{cell}\n")
+    # With a measured osmolality (295, inside every limit) so mannitol is judged on its dose alone.
+    path = write(tmp_path, f"weight,age,sex,sodium,osmolality,agent,{header}\n70,45,male,141,295,mannitol-20,{cell}\n")
     code, out, _ = run(capsys, str(path), "--json")
     row = json.loads(out)["rows"][0]
     assert (code, row["status"], row["volume_ml"], row["solute_g_per_kg"]) == (0, "ok", 350.0, 1.0)
@@ -162,15 +163,17 @@ def test_header_units_convert_whole_columns(tmp_path: Path, capsys: pytest.Captu
     assert row["osmolar_gap_mosm_kg"] == pytest.approx(-0.5004, abs=1e-4)
 
 
+# A measured osmolality (295 mOsm/kg, inside every limit) on every row: mannitol with no osmolality at all
+# would be warned (osmolality-unknown), which is not what these rows are about.
 SUMMARY_ORDERS = (
-    "weight,age,sex,sodium,agent,dose,duration\n"
-    "50,40,female,140,mannitol-20,0.5 g/kg,30\n"  # 25 g = 125 mL: ok
-    "50,40,female,140,mannitol-20,1 g/kg,30\n"  # 1 g/kg: at the warn limit, not above: ok
-    "50,40,female,140,mannitol-20,1.2 g/kg,30\n"  # above warn 1 g/kg: warn
-    "50,40,female,140,mannitol-20,2 g/kg,30\n"  # above refuse 1.5 g/kg: refuse
-    "50,40,female,158,mannitol-20,0.5 g/kg,30\n"  # sodium 158 above warn 155: warn
-    "50,40,female,140,bicarb-8.4,1 mmol/kg,30\n"  # 50 mmol = 50 mL of 1000 mmol/L: ok
-    "50,40,female,140,mannitol-20,abc,30\n"  # unreadable dose: bad row
+    "weight,age,sex,sodium,osmolality,agent,dose,duration\n"
+    "50,40,female,140,295,mannitol-20,0.5 g/kg,30\n"  # 25 g = 125 mL: ok
+    "50,40,female,140,295,mannitol-20,1 g/kg,30\n"  # 1 g/kg: at the warn limit, not above: ok
+    "50,40,female,140,295,mannitol-20,1.2 g/kg,30\n"  # above warn 1 g/kg: warn
+    "50,40,female,140,295,mannitol-20,2 g/kg,30\n"  # above refuse 1.5 g/kg: refuse
+    "50,40,female,158,295,mannitol-20,0.5 g/kg,30\n"  # sodium 158 above warn 155: warn
+    "50,40,female,140,295,bicarb-8.4,1 mmol/kg,30\n"  # 50 mmol = 50 mL of 1000 mmol/L: ok
+    "50,40,female,140,295,mannitol-20,abc,30\n"  # unreadable dose: bad row
 )
 
 

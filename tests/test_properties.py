@@ -232,8 +232,14 @@ def test_findings_order_and_status(
     assert ranks == sorted(ranks, reverse=True)
     assert result.status == {0: "ok", 1: "warn", 2: "refuse"}[max(ranks, default=0)]
     for finding in result.findings:
-        # Every finding is over its limit (where the rule has one): nothing fires at or below it.
-        if finding.limit is not None and finding.value is not None and finding.code != "sodium-fall-24h":
+        # Every finding is past its limit (where the rule has one): nothing fires at the limit or inside it.
+        # Lower limits (a projected sodium too low, a measured osmolality too far below the calculated) are
+        # past it from below; the fall is judged as a positive fall against a positive limit.
+        if finding.limit is None or finding.value is None:
+            continue
+        if finding.code in ("projected-sodium-low", "osmolar-gap-negative"):
+            assert finding.value < finding.limit
+        elif finding.code != "sodium-fall-24h":
             assert finding.value > finding.limit
 
 

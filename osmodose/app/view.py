@@ -15,7 +15,7 @@ from osmodose.check import run_check
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.inputs import DoseMode, parse_check_request
-from osmodose.report import STATUS_WORDS, fmt, signed
+from osmodose.report import fmt, signed, status_words
 from osmodose.results import CheckResult
 
 Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
@@ -131,7 +131,7 @@ def banner_text(outcome: Outcome) -> str:
     if outcome.result is None:
         word = "INCOMPLETE" if outcome.missing else "NOT VALID"
         return f"{SYMBOL[state]} {word}: {outcome.error}  (no results shown)"
-    text = f"{SYMBOL[state]} {STATUS_WORDS[state]}"
+    text = f"{SYMBOL[state]} {status_words(outcome.result)}"
     if outcome.result.dose is None:
         text += "  (no order: labs only)"
     return text
