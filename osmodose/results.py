@@ -54,7 +54,7 @@ class PatientFigures(BaseModel):
     sex: Literal["female", "male"]
     height_cm: float | None
     total_body_water_l: float
-    tbw_method: str
+    tbw_method: Literal["fraction", "watson"]
 
 
 class PresentationFit(BaseModel):

@@ -44,15 +44,23 @@ def test_potassium_in_the_infusate_counts_with_sodium() -> None:
 
 @pytest.mark.parametrize(
     ("serum", "infusate", "tbw"),
-    [(110, 513, 42), (168, 0, 34), (125, 154, 30), (140, 4004, 42), (120, 134, 21.5)],
+    [
+        (110, 513, 42),  # 70 kg man, 3 % saline (Adrogue & Madias, N Engl J Med 2000;342:1581-9, worked example)
+        (168, 0, 34),  # 68 kg man of 76, 5 % dextrose (N Engl J Med 2000;342:1493-9, from memory)
+        (125, 154, 30),  # 0.9 % saline (product label Na 154) in a 60 kg woman: arithmetic
+        (140, 4004, 42),  # 23.4 % saline (label 4 mEq/mL) in a 70 kg man: arithmetic
+        (120, 134, 21.5),  # lactated Ringer's (label Na 130 + K 4) in a 43 kg woman: arithmetic
+    ],
 )
 def test_mass_balance_at_one_litre_equals_the_per_litre_formula(serum: float, infusate: float, tbw: float) -> None:
     # Na_new = Na + V (C - Na) / (TBW + V) (Chen S et al. Kidney360 2021;2:365-370) at V = 1 L is
     # (C - Na) / (TBW + 1), the Adrogue-Madias change per litre.
     na, c, w = Q_(serum, "mmol/L"), Q_(infusate, "mmol/L"), Q_(tbw, "L")
     projected = f.projected_sodium(na, c, w, Q_(1000, "mL")).m_as("mmol/L")
-    assert projected - serum == pytest.approx(f.sodium_change_per_litre(na, c, w).m_as("mmol/L"), rel=1e-12)
+    # Against the published per-litre formula written out here, not against our own per-litre function
+    # (which is the projection at 1 L, so comparing the two would prove nothing).
     assert projected - serum == pytest.approx((infusate - serum) / (tbw + 1), rel=1e-12)
+    assert f.sodium_change_per_litre(na, c, w).m_as("mmol/L") == pytest.approx((infusate - serum) / (tbw + 1))
 
 
 def test_two_litres_is_mass_balance_not_twice_one_litre() -> None:
