@@ -6,6 +6,7 @@ latest lab carried through the doses started since) instead of the measured
 one.  The course adds what a single check cannot see: the rise from the
 lowest sodium measured in the last 24 h, mannitol already given in 24 h, and
 the age of the labs at the planned time.
+
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ from osmodose.check import run_check
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
+from osmodose.course.judging import severity_of
 from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
 from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, build_timeline, latest_lab_at
 from osmodose.errors import InputError
@@ -85,9 +87,15 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     findings: list[CourseFinding] = []
     if check.projected_sodium_mmol_l is not None:
         findings += projected_findings(
-            timeline, formulary.limits, projection, check.projected_sodium_mmol_l, "projected sodium after this dose"
+            timeline,
+            formulary.limits,
+            projection,
+            check.projected_sodium_mmol_l,
+            projection.sodium_now,
+            "projected sodium after this dose",
         )
-        findings = [x for x in findings if x.code != "projected-sodium-high"]  # the check judges that one
+        judged_by_check = {"projected-sodium-high", *(x.code for x in check.findings)}
+        findings = [x for x in findings if x.code not in judged_by_check]
     findings += _stale(timeline, formulary, at)
     findings += _mannitol(timeline, formulary, check, at, p.weight_kg)
     findings.sort(key=lambda item: item.severity != "refuse")
@@ -100,7 +108,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
 def _stale(timeline: Timeline, formulary: Formulary, at: datetime) -> list[CourseFinding]:
     limit = formulary.limits.get("lab_max_age")
     age = float(lab_age_h(timeline, np.asarray([at.timestamp()]))[0])
-    if limit is None or not age > limit:
+    if severity_of(age, limit, None) is None:
         return []
     drawn = timeline.labs.times[latest_lab_at(timeline.labs, at.timestamp())]
     message = (
@@ -124,7 +132,7 @@ def _mannitol(
     inside = (doses.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (doses.t <= t_at)
     given = float(np.sum(doses.mannitol_g[inside]))
     total = (given + dose.solute_g) / weight_kg
-    if not total > limit:
+    if severity_of(total, limit, None) is None:
         return []
     message = (
         f"mannitol {total:.2f} g/kg within 24 h with this dose ({given:.0f} g given since "
