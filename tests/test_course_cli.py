@@ -53,7 +53,9 @@ def test_the_worked_episode_shows_the_hand_derived_figures_and_findings(worked: 
     assert (labs[0]["calculated_osmolality_mosm_kg"], labs[0]["osmolar_gap_mosm_kg"]) == (247.0, 3.0)
     # 2 x 131 + 6 + 5 = 273; gap 290 - 273 = 17; rise over the 22 h since 08:00: 131 - 118 = 13.
     assert (labs[2]["calculated_osmolality_mosm_kg"], labs[2]["osmolar_gap_mosm_kg"]) == (273.0, 17.0)
-    assert [x["sodium_rise_24h_mmol_l"] for x in labs] == [0.0, 6.0, 13.0]
+    # The first lab has no earlier lab within 24 h: its rise cannot be computed (null, not 0).
+    assert [x["sodium_rise_24h_mmol_l"] for x in labs] == [None, 6.0, 13.0]
+    assert labs[0]["sodium_fall_24h_mmol_l"] is None
     doses = shown["doses"]
     # 3 % NaCl (label 513 mmol/L), mass balance: 118 + 0.15 x 395 / 42.15 = 119.406, then + 0.15 x 393.594 / 42.15.
     assert doses[0]["projected_sodium_after_mmol_l"] == pytest.approx(119.4057, abs=1e-4)
@@ -65,6 +67,9 @@ def test_the_worked_episode_shows_the_hand_derived_figures_and_findings(worked: 
     assert codes == {
         "sodium-rise-24h": "refuse",  # 13 > 10 (Verbalis 2013; Spasovski 2014)
         "osmolar-gap-rising": "warn",  # 17 - 3 = 14 > 10 across the mannitol dose
+        # the latest gap 17 after mannitol: above 10 (published upper normal, McMaster), not above the
+        # common hold threshold of 20 (common practice)
+        "osmolar-gap-high": "warn",
         "icp-high": "warn",  # 25 > 22 (Carney 2017)
         "cpp-low": "warn",  # 55 < 60 (Carney 2017)
     }

@@ -36,7 +36,9 @@ def test_the_same_13_mmol_rise_over_30_h_is_not_a_finding(demo: Formulary) -> No
     # 118 at 0 h, 124.5 at 15 h, 131 at 30 h: each 24 h window holds at most one 6.5 step.
     ep = episode(labs=[lab(0, 118), lab(15, 124.5), lab(30, 131)])
     assert "sodium-rise-24h" not in findings_of(ep, demo)
-    assert build_timeline(ep, demo).labs.sodium_window.rise.tolist() == [0.0, 6.5, 6.5]
+    # The first lab has no earlier lab to rise from: n/a (NaN), not 0.
+    assert np.isnan(build_timeline(ep, demo).labs.sodium_window.rise[0])
+    assert build_timeline(ep, demo).labs.sodium_window.rise[1:].tolist() == [6.5, 6.5]
 
 
 def test_two_labs_exactly_24_h_apart_are_in_one_window(demo: Formulary) -> None:
@@ -68,9 +70,11 @@ def test_a_fall_over_10_in_24_h_is_warned(demo: Formulary) -> None:
 def test_window_change_is_vectorised_over_any_window() -> None:
     hours = np.asarray([0.0, 6.0, 22.0, 40.0])
     change = window_change(hours * 3600, np.asarray([118.0, 124.0, 131.0, 128.0]))
-    # 40 h looks back to 16 h: only 131 (22 h) and itself: rise 0, fall 3.
-    assert change.rise.tolist() == [0.0, 6.0, 13.0, 0.0]
-    assert change.fall.tolist() == [0.0, 0.0, 0.0, 3.0]
+    # 40 h looks back to 16 h: only 131 (22 h) and itself: rise 0 (a real 0: it fell), fall 3.
+    # The first sample has nothing earlier in its window: NaN, not a rise of 0.
+    assert np.isnan(change.rise[0]) and np.isnan(change.fall[0])
+    assert change.rise[1:].tolist() == [6.0, 13.0, 0.0]
+    assert change.fall[1:].tolist() == [0.0, 0.0, 3.0]
     assert change.low_index.tolist() == [0, 0, 0, 3]
 
 
@@ -125,10 +129,48 @@ def test_a_gap_growing_with_no_mannitol_between_the_labs_is_not_blamed_on_mannit
     assert "osmolar-gap-rising" not in findings_of(ep, demo)
 
 
-def test_a_high_gap_after_mannitol_is_warned(demo: Formulary) -> None:
-    # 313 - 291 = 22 > 20 (common practice; sources vary from 10 to 20).
+def test_a_high_gap_after_mannitol_is_refused_above_the_hold_threshold(demo: Formulary) -> None:
+    # 313 - 291 = 22 > 20, the common hold threshold (common practice; sources vary from 10 to 20).
     ep = episode(labs=[_gap_lab(6, 313)], doses=[dose(1, "mannitol-20", 350)])
-    assert findings_of(ep, demo)["osmolar-gap-high"].value == 22.0
+    found = findings_of(ep, demo)["osmolar-gap-high"]
+    assert (found.value, found.severity, found.limit) == (22.0, "refuse", 20.0)
+    assert found.message == (
+        "osmolar gap 22.0 mOsm/kg at 2026-12-01T14:00+00:00 (the latest), after mannitol, is above the refuse "
+        "limit of 20 mOsm/kg"
+    )
+
+
+# Osmolar gap after mannitol: warn above 10 (published upper normal, McMaster Textbook of Internal Medicine),
+# refuse above 20 (common practice: a common hold threshold).
+
+
+@pytest.mark.parametrize(
+    ("measured", "severity"),
+    [
+        (301.0, None),  # gap 10: at the warn limit
+        (305.0, "warn"),  # gap 14 > 10
+        (311.0, "warn"),  # gap 20: at the refuse limit
+        (313.0, "refuse"),  # gap 22 > 20
+    ],
+)
+def test_the_latest_gap_after_mannitol_is_warned_above_10_and_refused_above_20(
+    demo: Formulary, measured: float, severity: str | None
+) -> None:
+    ep = episode(labs=[_gap_lab(6, measured)], doses=[dose(1, "mannitol-20", 350)])
+    found = findings_of(ep, demo).get("osmolar-gap-high")
+    assert (found.severity if found else None) == severity
+
+
+def test_a_high_gap_that_has_come_down_only_warns(demo: Formulary) -> None:
+    # Gap 22 at 6 h (refuse), then 296 - 291 = 5 at 12 h: the peak stays on record as a warning.
+    ep = episode(labs=[_gap_lab(6, 313), _gap_lab(12, 296)], doses=[dose(1, "mannitol-20", 350)])
+    found = findings_of(ep, demo)
+    assert "osmolar-gap-high" not in found
+    assert found["osmolar-gap-was-high"].severity == "warn"
+    assert found["osmolar-gap-was-high"].message == (
+        "osmolar gap 22.0 mOsm/kg at 2026-12-01T14:00+00:00, after mannitol, was above the refuse limit of "
+        "20 mOsm/kg; the latest is 5.0 at 2026-12-01T20:00+00:00"
+    )
 
 
 def test_cumulative_mannitol_in_24_h_against_the_units_cap(tmp_path, demo: Formulary) -> None:

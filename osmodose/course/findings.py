@@ -2,52 +2,27 @@
 
 Each rule reads whole columns of the timeline and reports its worst instance
 (the largest rise, the highest sodium, the lowest CPP), naming its time, with
-how many entries crossed the limit.  Limits are judged as in a check: a
-figure strictly above (or, for CPP, strictly below) the limit fires.  Every
-default and its source is in `osmodose.formulary.limits`; ICP 22 mmHg and CPP
-60 mmHg come from the Brain Trauma Foundation guidelines, 4th edition (Carney N
-et al. Neurosurgery 2017;80:6-15).  A figure that cannot be computed (NaN)
-never fires: its absence is shown as such.
+how many entries crossed the limit.  Limits are judged as in a check, by
+`osmodose.rules.threshold` (see `course.judging`): a figure strictly above
+(or, for CPP, strictly below) the limit fires, and one within rounding of the
+limit is at it.  Every default and its source is in
+`osmodose.formulary.limits`; ICP 22 mmHg and CPP 60 mmHg come from the Brain
+Trauma Foundation guidelines, 4th edition (Carney N et al. Neurosurgery
+2017;80:6-15).  A figure that cannot be computed (NaN) never fires: its
+absence is shown as such.  The sodium rate rules are in `course.sodium_rules`.
 """
 
 from __future__ import annotations
 
-from datetime import datetime
-
 import numpy as np
 
+from osmodose.course.judging import CourseFinding, count_crossing, limit_crossed, severities, severity_of, when
 from osmodose.course.projection import Projection
-from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, latest_lab_at, mannitol_between
+from osmodose.course.sodium_rules import projected_findings, sodium_window_findings
+from osmodose.course.timeline import SECONDS_PER_HOUR, Timeline, mannitol_between
 from osmodose.formulary.model import Limits
-from osmodose.results import Finding
 
-
-class CourseFinding(Finding):
-    """A finding with the time of the entry it is about."""
-
-    time: datetime | None = None
-
-
-def when(moment: datetime) -> str:
-    """A time as shown everywhere: ISO 8601 to the minute, with its offset."""
-    return moment.isoformat(timespec="minutes")
-
-
-def _severity(value: float, warn: float | None, refuse: float | None) -> str | None:
-    if np.isnan(value):
-        return None
-    if refuse is not None and value > refuse:
-        return "refuse"
-    if warn is not None and value > warn:
-        return "warn"
-    return None
-
-
-def _count(values: np.ndarray, limit: float | None, above: bool = True) -> int:
-    if limit is None:
-        return 0
-    with np.errstate(invalid="ignore"):
-        return int(np.count_nonzero(values > limit if above else values < limit))
+__all__ = ["CourseFinding", "course_findings", "lab_age_h", "projected_findings", "when"]
 
 
 def _of(n: int, total: int, what: str) -> str:
@@ -57,7 +32,7 @@ def _of(n: int, total: int, what: str) -> str:
 def course_findings(timeline: Timeline, limits: Limits, projection: Projection | None = None) -> list[CourseFinding]:
     """Every course finding, refusals first."""
     found = [
-        *_sodium_window(timeline, limits),
+        *sodium_window_findings(timeline, limits),
         *_ceilings(timeline, limits),
         *_osmolar_gap(timeline, limits),
         *_mannitol_24h(timeline, limits),
@@ -65,53 +40,11 @@ def course_findings(timeline: Timeline, limits: Limits, projection: Projection |
         *_stale_labs(timeline, limits),
     ]
     if projection is not None and len(projection.dose_rows):  # without doses since, the measured rules say it all
-        found += projected_findings(timeline, limits, projection, projection.sodium_now, "projected sodium now")
+        found += projected_findings(
+            timeline, limits, projection, projection.sodium_now, projection.lab_sodium, "projected sodium now"
+        )
     found.sort(key=lambda item: item.severity != "refuse")
     return found
-
-
-def _sodium_window(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
-    labs = timeline.labs
-    out: list[CourseFinding] = []
-    if len(labs.t) < 2:
-        return out
-    window = labs.sodium_window
-    for code, change, start_index, verb, warn, refuse in (
-        (
-            "sodium-rise-24h",
-            window.rise,
-            window.low_index,
-            "rose",
-            limits.get("sodium_rise_24h_warn"),
-            limits.get("sodium_rise_24h_refuse"),
-        ),
-        ("sodium-fall-24h", window.fall, window.high_index, "fell", limits.get("sodium_fall_24h_warn"), None),
-    ):
-        j = int(np.argmax(change))
-        value = float(change[j])
-        severity = _severity(value, warn, refuse)
-        if severity is None:
-            continue
-        limit = refuse if severity == "refuse" else warn
-        i = int(start_index[j])
-        crossed = _count(change, warn if warn is not None else refuse)
-        message = (
-            f"measured sodium {verb} {value:.1f} mmol/L within 24 h (from {labs.sodium[i]:.1f} at "
-            f"{when(labs.times[i])} to {labs.sodium[j]:.1f} at {when(labs.times[j])}), above the {severity} "
-            f"limit of {limit:g} mmol/L" + _of(crossed, len(labs.t), "labs")
-        )
-        out.append(
-            CourseFinding(
-                code=code,
-                severity=severity,
-                message=message,
-                value=value,
-                limit=limit,
-                unit="mmol/L",
-                time=labs.times[j],
-            )
-        )
-    return out
 
 
 def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
@@ -134,8 +67,8 @@ def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
 
         latest = int(known[-1])
         peak = int(known[np.argmax(values[known])])
-        crossed = _of(_count(values, warn if warn is not None else refuse), len(labs.t), "labs")
-        severity = _severity(float(values[latest]), warn, refuse)
+        crossed = _of(count_crossing(values, warn if warn is not None else refuse), len(labs.t), "labs")
+        severity = severity_of(float(values[latest]), warn, refuse)
         if severity is not None:
             limit = refuse if severity == "refuse" else warn
             message = (
@@ -144,7 +77,7 @@ def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
             )
             name, found_at, value = code, latest, float(values[latest])
         else:
-            severity = _severity(float(values[peak]), warn, refuse)
+            severity = severity_of(float(values[peak]), warn, refuse)
             if severity is None:
                 continue
             limit = refuse if severity == "refuse" else warn
@@ -181,7 +114,7 @@ def _osmolar_gap(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
         rise = np.where(across, gap[:, None] - gap[None, :], -np.inf)
         j, i = np.unravel_index(int(np.argmax(rise)), rise.shape)
         value = float(rise[j, i])
-        if value > rise_limit:
+        if severity_of(value, rise_limit, None) is not None:
             message = (
                 f"osmolar gap rose {value:.1f} mOsm/kg across mannitol (from {gap[i]:.1f} at "
                 f"{when(labs.times[has_gap[i]])} to {gap[j]:.1f} at {when(labs.times[has_gap[j]])}), above the "
@@ -198,29 +131,57 @@ def _osmolar_gap(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
                     time=labs.times[has_gap[j]],
                 )
             )
-    gap_limit = limits.get("osmolar_gap_warn")
-    first_mannitol = float(np.min(doses.t[doses.agent.is_mannitol]))
-    after = np.flatnonzero(t > first_mannitol)
-    if gap_limit is not None and len(after):
-        k = int(after[np.argmax(gap[after])])
-        value = float(gap[k])
-        if value > gap_limit:
-            message = (
-                f"osmolar gap {value:.1f} mOsm/kg at {when(labs.times[has_gap[k]])}, after mannitol, "
-                f"is above the warn limit of {gap_limit:g} mOsm/kg"
-            )
-            out.append(
-                CourseFinding(
-                    code="osmolar-gap-high",
-                    severity="warn",
-                    message=message,
-                    value=value,
-                    limit=gap_limit,
-                    unit="mOsm/kg",
-                    time=labs.times[has_gap[k]],
-                )
-            )
+    out += _gap_after_mannitol(timeline, limits, has_gap, float(np.min(doses.t[doses.agent.is_mannitol])))
     return out
+
+
+def _gap_after_mannitol(
+    timeline: Timeline, limits: Limits, has_gap: np.ndarray, first_mannitol: float
+) -> list[CourseFinding]:
+    """The latest gap after mannitol against warn/refuse; an earlier high gap, once it has come down, only warns.
+
+    A gap above about 20 mOsm/kg during mannitol is a common hold threshold
+    (common practice; sources vary from 10 to 20); above 10 is above the
+    published upper normal (McMaster Textbook of Internal Medicine).
+    """
+    labs = timeline.labs
+    warn, refuse = limits.get("osmolar_gap_warn"), limits.get("osmolar_gap_refuse")
+    after = has_gap[labs.t[has_gap] > first_mannitol]
+    if not len(after):
+        return []
+    latest, peak = int(after[-1]), int(after[np.argmax(labs.gap[after])])
+    crossed = _of(count_crossing(labs.gap[after], warn if warn is not None else refuse), len(after), "gaps")
+    code = "osmolar-gap-high"
+    severity = severity_of(float(labs.gap[latest]), warn, refuse) if latest == int(has_gap[-1]) else None
+    if severity is not None:
+        limit = limit_crossed(severity, warn, refuse)
+        found_at = latest
+        message = (
+            f"osmolar gap {labs.gap[latest]:.1f} mOsm/kg at {when(labs.times[latest])} (the latest), after "
+            f"mannitol, is above the {severity} limit of {limit:g} mOsm/kg" + crossed
+        )
+    else:
+        severity = severity_of(float(labs.gap[peak]), warn, refuse)
+        if severity is None:
+            return []
+        limit, found_at, code = limit_crossed(severity, warn, refuse), peak, "osmolar-gap-was-high"
+        message = (
+            f"osmolar gap {labs.gap[peak]:.1f} mOsm/kg at {when(labs.times[peak])}, after mannitol, was above the "
+            f"{severity} limit of {limit:g} mOsm/kg; the latest is {labs.gap[has_gap[-1]]:.1f} at "
+            f"{when(labs.times[has_gap[-1]])}"
+        )
+        severity = "warn"
+    return [
+        CourseFinding(
+            code=code,
+            severity=severity,  # type: ignore[arg-type]
+            message=message,
+            value=float(labs.gap[found_at]),
+            limit=limit,
+            unit="mOsm/kg",
+            time=labs.times[found_at],
+        )
+    ]
 
 
 def _mannitol_24h(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
@@ -231,7 +192,7 @@ def _mannitol_24h(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
         return []
     j = int(rows[np.argmax(doses.mannitol_24h_g_per_kg[rows])])
     value = float(doses.mannitol_24h_g_per_kg[j])
-    if not value > limit:
+    if severity_of(value, limit, None) is None:
         return []
     message = (
         f"mannitol {value:.2f} g/kg within the 24 h up to the dose at {when(doses.times[j])} "
@@ -256,11 +217,11 @@ def _pressures(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     if not len(r.t):
         return out
     icp_limit = limits.get("icp_treat_above")
-    if icp_limit is not None and float(np.max(r.icp)) > icp_limit:
+    if severity_of(float(np.max(r.icp)), icp_limit, None) is not None:
         j = int(np.argmax(r.icp))
         message = (
             f"ICP {r.icp[j]:.0f} mmHg at {when(r.times[j])} is above the treatment threshold of {icp_limit:g} mmHg"
-            + _of(_count(r.icp, icp_limit), len(r.t), "readings")
+            + _of(count_crossing(r.icp, icp_limit), len(r.t), "readings")
         )
         out.append(
             CourseFinding(
@@ -274,12 +235,12 @@ def _pressures(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
             )
         )
     cpp_limit = limits.get("cpp_target_min")
-    if cpp_limit is not None and float(np.min(r.cpp)) < cpp_limit:
+    if severity_of(float(np.min(r.cpp)), cpp_limit, None, below=True) is not None:
         j = int(np.argmin(r.cpp))
         message = (
             f"CPP {r.cpp[j]:.0f} mmHg (MAP {r.map[j]:.0f} - ICP {r.icp[j]:.0f}) at {when(r.times[j])} "
             f"is below the target of {cpp_limit:g} mmHg"
-            + _of(_count(r.cpp, cpp_limit, above=False), len(r.t), "readings")
+            + _of(count_crossing(r.cpp, cpp_limit, below=True), len(r.t), "readings")
         )
         out.append(
             CourseFinding(
@@ -309,7 +270,7 @@ def _stale_labs(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     if limit is None or not len(doses.t):
         return []
     age = lab_age_h(timeline, doses.t)
-    stale = np.flatnonzero(age > limit)
+    stale = np.flatnonzero(severities(age, limit, None))
     if not len(stale):
         return []
     j = int(stale[np.argmax(age[stale])])
@@ -331,55 +292,3 @@ def _stale_labs(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
             time=doses.times[j],
         )
     ]
-
-
-def projected_findings(
-    timeline: Timeline, limits: Limits, projection: Projection, sodium: float, what: str
-) -> list[CourseFinding]:
-    """A projected sodium against the ceilings, and its rise from the lowest sodium measured in the 24 h before."""
-    out: list[CourseFinding] = []
-    if np.isnan(sodium):
-        return out
-    labs = timeline.labs
-    at = projection.at
-    severity = _severity(sodium, limits.get("sodium_warn"), limits.get("sodium_refuse"))
-    if severity is not None:
-        limit = limits.get("sodium_refuse" if severity == "refuse" else "sodium_warn")
-        message = f"{what} {sodium:.1f} mmol/L is above the {severity} limit of {limit:g} mmol/L"
-        out.append(
-            CourseFinding(
-                code="projected-sodium-high",
-                severity=severity,
-                message=message,
-                value=sodium,
-                limit=limit,
-                unit="mmol/L",
-                time=at,
-            )
-        )
-    t_at = at.timestamp()
-    inside = np.flatnonzero((labs.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (labs.t <= t_at))
-    if not len(inside):
-        inside = np.asarray([latest_lab_at(labs, t_at)])
-    i = int(inside[np.argmin(labs.sodium[inside])])
-    rise = sodium - float(labs.sodium[i])
-    warn, refuse = limits.get("sodium_rise_24h_warn"), limits.get("sodium_rise_24h_refuse")
-    severity = _severity(rise, warn, refuse)
-    if severity is not None:
-        limit = refuse if severity == "refuse" else warn
-        message = (
-            f"{what} {sodium:.1f} mmol/L is {rise:.1f} above the {labs.sodium[i]:.1f} measured at "
-            f"{when(labs.times[i])}, above the {severity} limit of {limit:g} mmol/L in 24 h"
-        )
-        out.append(
-            CourseFinding(
-                code="projected-rise-24h",
-                severity=severity,
-                message=message,
-                value=rise,
-                limit=limit,
-                unit="mmol/L",
-                time=at,
-            )
-        )
-    return out

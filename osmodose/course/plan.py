@@ -6,6 +6,17 @@ latest lab carried through the doses started since) instead of the measured
 one.  The course adds what a single check cannot see: the rise from the
 lowest sodium measured in the last 24 h, mannitol already given in 24 h, and
 the age of the labs at the planned time.
+
+Once sodium is projected through doses given since the latest lab, that lab's
+measured osmolality predates them: it is not handed to the check as is (the
+check would judge the old value and report a gap against an osmolality
+calculated from the new sodium, an artefact).  The check gets no measured
+osmolality, so it judges the osmolality calculated from the projected sodium
+and shows no gap; the plan also judges the measured osmolality carried
+forward by twice the projected sodium change (each mmol/L of sodium brings
+its anion: 2 mOsm/kg, the factor in 2 Na + glucose + urea), so the larger of
+the two is judged.  Mannitol given since the latest measured osmolality is
+in neither figure: the plan warns to re-measure.
 """
 
 from __future__ import annotations
@@ -20,6 +31,8 @@ from osmodose.check import run_check
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
+from osmodose.course.judging import severity_of
+from osmodose.course.plan_osmolality import carried_osmolality, osmolality_findings
 from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
 from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, build_timeline, latest_lab_at
 from osmodose.errors import InputError
@@ -28,8 +41,8 @@ from osmodose.inputs import parse_check_request
 from osmodose.results import CheckResult
 
 STALE_OSMOLALITY_NOTE = (
-    "The check's osmolality figures use the latest lab's glucose, urea and measured osmolality "
-    "with the projected sodium; re-measure before dosing on them."
+    "The check's osmolality figures use the latest lab's glucose and urea with the projected sodium; "
+    "re-measure before dosing on them."
 )
 ORDER_FIELDS = ("agent", "volume", "dose", "duration", "line")
 
@@ -65,6 +78,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     if projection is None:
         raise InputError("plan", None, f"needs a lab drawn at or before {when(at)}", "osmodose course add-lab FILE ...")
     lab = episode.labs[projection.lab_index]
+    carried = carried_osmolality(lab, projection)  # None: the measured osmolality still holds
     p = episode.patient
     request = parse_check_request(
         {
@@ -77,7 +91,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
             "potassium": lab.potassium_mmol_l,
             "glucose": lab.glucose_mmol_l,
             "urea": lab.urea_mmol_l,
-            "osmolality": lab.osmolality_mosm_kg,
+            "osmolality": lab.osmolality_mosm_kg if carried is None else None,
             **{name: fields.get(name) for name in ORDER_FIELDS},
         }
     )
@@ -85,13 +99,21 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     findings: list[CourseFinding] = []
     if check.projected_sodium_mmol_l is not None:
         findings += projected_findings(
-            timeline, formulary.limits, projection, check.projected_sodium_mmol_l, "projected sodium after this dose"
+            timeline,
+            formulary.limits,
+            projection,
+            check.projected_sodium_mmol_l,
+            projection.sodium_now,
+            "projected sodium after this dose",
         )
-        findings = [x for x in findings if x.code != "projected-sodium-high"]  # the check judges that one
+        judged_by_check = {"projected-sodium-high", *(x.code for x in check.findings)}
+        findings = [x for x in findings if x.code not in judged_by_check]
+    osmolality, osmolality_notes = osmolality_findings(timeline, formulary, check, lab, projection, carried)
+    findings += osmolality
     findings += _stale(timeline, formulary, at)
     findings += _mannitol(timeline, formulary, check, at, p.weight_kg)
     findings.sort(key=lambda item: item.severity != "refuse")
-    notes = tbw_notes(episode, formulary) + projection.notes
+    notes = tbw_notes(episode, formulary) + projection.notes + osmolality_notes
     if len(projection.dose_rows):
         notes.append(STALE_OSMOLALITY_NOTE)
     return Plan(at=at, tbw_l=tbw_l, lab=lab, projection=projection, check=check, findings=findings, notes=notes)
@@ -100,7 +122,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
 def _stale(timeline: Timeline, formulary: Formulary, at: datetime) -> list[CourseFinding]:
     limit = formulary.limits.get("lab_max_age")
     age = float(lab_age_h(timeline, np.asarray([at.timestamp()]))[0])
-    if limit is None or not age > limit:
+    if severity_of(age, limit, None) is None:
         return []
     drawn = timeline.labs.times[latest_lab_at(timeline.labs, at.timestamp())]
     message = (
@@ -124,7 +146,7 @@ def _mannitol(
     inside = (doses.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (doses.t <= t_at)
     given = float(np.sum(doses.mannitol_g[inside]))
     total = (given + dose.solute_g) / weight_kg
-    if not total > limit:
+    if severity_of(total, limit, None) is None:
         return []
     message = (
         f"mannitol {total:.2f} g/kg within 24 h with this dose ({given:.0f} g given since "

@@ -94,8 +94,9 @@ def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
             text += f"  calc {_f(labs.calculated_osmolality[j])}"
         if not np.isnan(labs.gap[j]):
             text += f"  gap {_f(labs.gap[j])}"
-        if j:
-            text += f"  24 h rise {labs.sodium_window.rise[j]:+.1f}"
+        if j:  # the rise is shown whether or not the rise limits apply to it (see course.sodium_rules)
+            rise = labs.sodium_window.rise[j]
+            text += "  24 h rise " + ("n/a" if np.isnan(rise) else f"{rise:+.1f}")
         rows.append((float(labs.t[j]), 0, when(lab.time), "lab", text))
     doses = tl.doses
     for j, dose in enumerate(ep.doses):
@@ -195,8 +196,8 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
             **lab.model_dump(mode="json"),
             "calculated_osmolality_mosm_kg": _num(tl.labs.calculated_osmolality[j]),
             "osmolar_gap_mosm_kg": _num(tl.labs.gap[j]),
-            "sodium_rise_24h_mmol_l": float(tl.labs.sodium_window.rise[j]),
-            "sodium_fall_24h_mmol_l": float(tl.labs.sodium_window.fall[j]),
+            "sodium_rise_24h_mmol_l": _num(tl.labs.sodium_window.rise[j]),
+            "sodium_fall_24h_mmol_l": _num(tl.labs.sodium_window.fall[j]),
         }
         for j, lab in enumerate(ep.labs)
     ]

@@ -23,7 +23,15 @@ from osmodose.formulary.model import Formulary
 from osmodose.units import Q_
 
 WINDOW_H = 24.0
+#: How far back a rise looks for the low sodium that makes the 24 h rise limits apply, and for
+#: the risk factors of osmotic demyelination: two days up to the window's end, so a correction
+#: begun yesterday from a low sodium is still judged today once sodium is back in range.
+LOOKBACK_H = 48.0
 SECONDS_PER_HOUR = 3600.0
+#: High risk of osmotic demyelination: sodium 105 mmol/L or below, or hypokalaemia (potassium
+#: below 3.5 mmol/L) (Verbalis JG et al. Am J Med 2013;126:S1-42).
+HIGH_RISK_SODIUM_AT_MOST = 105.0
+HIGH_RISK_POTASSIUM_BELOW = 3.5
 
 
 def _seconds(times: tuple[datetime, ...] | list[datetime]) -> np.ndarray:
@@ -39,7 +47,8 @@ class WindowChange:
     """For each sample: its change against the lowest and highest sample of the preceding window.
 
     `rise[j]` = x[j] - min(x[i] : t[j] - window <= t[i] <= t[j]); `low_index[j]` is that i.
-    `fall[j]` = max(...) - x[j]; `high_index[j]` its i.  Both are 0 for a lone sample.
+    `fall[j]` = max(...) - x[j]; `high_index[j]` its i.  Both are NaN (cannot be computed, not
+    0) when no earlier sample falls in the window; the index is then j itself.
     """
 
     rise: np.ndarray
@@ -54,13 +63,38 @@ def window_change(t: np.ndarray, x: np.ndarray, hours: float = WINDOW_H) -> Wind
     inside = (dt >= 0) & (dt <= hours * SECONDS_PER_HOUR)
     low = np.where(inside, x[None, :], np.inf)
     high = np.where(inside, x[None, :], -np.inf)
-    low_index = np.argmin(low, axis=1) if len(x) else np.zeros(0, dtype=int)
-    high_index = np.argmax(high, axis=1) if len(x) else np.zeros(0, dtype=int)
+    if not len(x):
+        empty = np.zeros(0, dtype=int)
+        return WindowChange(rise=x, low_index=empty, fall=x, high_index=empty)
+    earlier = np.any(inside & ~np.eye(len(x), dtype=bool), axis=1)
+    low_index = np.argmin(low, axis=1)
+    high_index = np.argmax(high, axis=1)
     return WindowChange(
-        rise=x - x[low_index] if len(x) else x,
+        rise=np.where(earlier, x - x[low_index], np.nan),
         low_index=low_index,
-        fall=x[high_index] - x if len(x) else x,
+        fall=np.where(earlier, x[high_index] - x, np.nan),
         high_index=high_index,
+    )
+
+
+@dataclass(frozen=True)
+class Lookback:
+    """Per window: the lowest measured sodium in it, and whether the risk of osmotic demyelination is high."""
+
+    lowest_sodium: np.ndarray  # inf where the window holds no lab
+    high_risk: np.ndarray
+
+
+def lookback(
+    t: np.ndarray, sodium: np.ndarray, potassium: np.ndarray, t_from: np.ndarray, t_to: np.ndarray
+) -> Lookback:
+    """The labs drawn in each window [t_from, t_to] (inclusive), vectorised over windows."""
+    inside = (t[None, :] >= np.asarray(t_from)[:, None]) & (t[None, :] <= np.asarray(t_to)[:, None])
+    with np.errstate(invalid="ignore"):
+        risky = (sodium <= HIGH_RISK_SODIUM_AT_MOST) | (potassium < HIGH_RISK_POTASSIUM_BELOW)  # NaN K: no
+    return Lookback(
+        lowest_sodium=np.min(np.where(inside, sodium[None, :], np.inf), axis=1, initial=np.inf),
+        high_risk=np.any(inside & risky[None, :], axis=1),
     )
 
 
@@ -77,6 +111,7 @@ class LabColumns:
     osmolality: np.ndarray  # measured, else calculated: what the ceilings judge (as in a check)
     gap: np.ndarray
     sodium_window: WindowChange
+    sodium_lookback: Lookback  # the 48 h up to each lab: does a rise into it fall under the rise limits?
 
 
 @dataclass(frozen=True)
@@ -116,6 +151,7 @@ def lab_columns(episode: Episode) -> LabColumns:
     sodium = _column([lab.sodium_mmol_l for lab in labs])
     glucose = _column([lab.glucose_mmol_l for lab in labs])
     urea = _column([lab.urea_mmol_l for lab in labs])
+    potassium = _column([lab.potassium_mmol_l for lab in labs])
     measured = _column([lab.osmolality_mosm_kg for lab in labs])
     calculated = np.atleast_1d(
         f.calculated_osmolality(Q_(sodium, "mmol/L"), Q_(glucose, "mmol/L"), Q_(urea, "mmol/L")).m_as("mOsm/kg")
@@ -125,7 +161,7 @@ def lab_columns(episode: Episode) -> LabColumns:
         times=times,
         t=t,
         sodium=sodium,
-        potassium=_column([lab.potassium_mmol_l for lab in labs]),
+        potassium=potassium,
         glucose=glucose,
         urea=urea,
         measured_osmolality=measured,
@@ -133,6 +169,7 @@ def lab_columns(episode: Episode) -> LabColumns:
         osmolality=np.where(np.isnan(measured), calculated, measured),
         gap=gap,
         sodium_window=window_change(t, sodium),
+        sodium_lookback=lookback(t, sodium, potassium, t - LOOKBACK_H * SECONDS_PER_HOUR, t),
     )
 
 

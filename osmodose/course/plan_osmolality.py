@@ -1,0 +1,160 @@
+"""Osmolality for a planned dose when the latest measured one predates doses given since.
+
+A measured osmolality is a figure of the moment it was drawn.  Once doses
+have moved sodium since (the projection), judging the old figure would
+understate the osmolality now, and setting it against an osmolality
+calculated from the projected sodium gives an artefactual (often negative)
+gap.  The plan instead judges the larger of the osmolality calculated from the
+projected sodium (the check does that) and the measured one carried forward
+by 2 x the projected sodium change: sodium counts twice in 2 Na + glucose +
+urea (McMaster Textbook of Internal Medicine), for its anion.  The gap is
+then n/a, with a note saying why.  Mannitol given since the latest measured
+osmolality is in neither figure (the calculated osmolality does not see it):
+the plan warns to re-measure before another dose.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from osmodose.course.episode import LabEntry
+from osmodose.course.judging import CourseFinding, limit_crossed, severity_of, when
+from osmodose.course.projection import Projection
+from osmodose.course.timeline import Timeline
+from osmodose.formulary.model import Formulary
+from osmodose.results import CheckResult
+
+#: Each mmol/L of sodium counts twice in the calculated osmolality (2 Na + glucose + urea).
+OSMOLES_PER_SODIUM = 2.0
+
+
+@dataclass(frozen=True)
+class Carried:
+    """The latest measured osmolality carried forward through the projected sodium change."""
+
+    measured: float
+    sodium_change: float
+    value: float
+
+
+def carried_osmolality(lab: LabEntry, projection: Projection) -> Carried | None:
+    """None while the measured osmolality still holds (no sodium projected since it, or none measured)."""
+    change = projection.sodium_now - projection.lab_sodium
+    if lab.osmolality_mosm_kg is None or not len(projection.dose_rows) or change == 0:
+        return None
+    measured = lab.osmolality_mosm_kg
+    return Carried(measured=measured, sodium_change=change, value=measured + OSMOLES_PER_SODIUM * change)
+
+
+def osmolality_findings(
+    timeline: Timeline,
+    formulary: Formulary,
+    check: CheckResult,
+    lab: LabEntry,
+    projection: Projection,
+    carried: Carried | None,
+) -> tuple[list[CourseFinding], list[str]]:
+    """The carried osmolality judged, the latest measured gap for a mannitol order, and mannitol since."""
+    limits = formulary.limits
+    at = projection.at
+    found: list[CourseFinding] = []
+    notes: list[str] = []
+    calculated = check.calculated_osmolality_mosm_kg
+    if carried is not None:
+        n = len(projection.dose_rows)
+        shown = "n/a" if calculated is None else f"{calculated:.1f}"
+        notes.append(
+            f"Osmolar gap n/a: the measured osmolality {carried.measured:g} mOsm/kg ({when(lab.time)}) predates "
+            f"the {n} dose{'s' if n > 1 else ''} since, so it is not set against the osmolality calculated from "
+            f"the projected sodium; osmolality is judged as the larger of the calculated ({shown}) and "
+            f"{carried.measured:g} + 2 x {carried.sodium_change:.1f} = {carried.value:.1f} mOsm/kg. "
+            "Re-measure before dosing on it."
+        )
+        lowers = check.projected_sodium_rise_mmol_l is not None and check.projected_sodium_rise_mmol_l < 0
+        warn, refuse = limits.get("osmolality_warn"), limits.get("osmolality_refuse")
+        severity = severity_of(carried.value, warn, refuse)
+        if not lowers and (calculated is None or carried.value > calculated) and severity is not None:
+            limit = limit_crossed(severity, warn, refuse)
+            found.append(
+                CourseFinding(
+                    code="projected-osmolality-high",
+                    severity=severity,  # type: ignore[arg-type]
+                    message=(
+                        f"osmolality now about {carried.value:.1f} mOsm/kg (measured {carried.measured:g} at "
+                        f"{when(lab.time)} + 2 x {carried.sodium_change:.1f} projected sodium change since) "
+                        f"is above the {severity} limit of {limit:g} mOsm/kg"
+                    ),
+                    value=carried.value,
+                    limit=limit,
+                    unit="mOsm/kg",
+                    time=at,
+                )
+            )
+        found += _measured_gap(timeline, formulary, check, projection)
+    found += _mannitol_since_osmolality(timeline, projection)
+    return found, notes
+
+
+def _measured_gap(
+    timeline: Timeline, formulary: Formulary, check: CheckResult, projection: Projection
+) -> list[CourseFinding]:
+    """For a mannitol order: the gap measured at the latest lab (the check has none to judge)."""
+    dose = check.dose
+    if dose is None or formulary.agent(dose.agent).solute != "mannitol":
+        return []
+    labs = timeline.labs
+    gap = float(labs.gap[projection.lab_index])
+    warn, refuse = formulary.limits.get("osmolar_gap_warn"), formulary.limits.get("osmolar_gap_refuse")
+    severity = severity_of(gap, warn, refuse)
+    if severity is None:
+        return []
+    limit = limit_crossed(severity, warn, refuse)
+    drawn = labs.times[projection.lab_index]
+    return [
+        CourseFinding(
+            code="osmolar-gap-high",
+            severity=severity,  # type: ignore[arg-type]
+            message=f"osmolar gap {gap:.1f} mOsm/kg at the latest lab ({when(drawn)}) is above the {severity} "
+            f"limit of {limit:g} mOsm/kg",
+            value=gap,
+            limit=limit,
+            unit="mOsm/kg",
+            time=drawn,
+        )
+    ]
+
+
+def _mannitol_since_osmolality(timeline: Timeline, projection: Projection) -> list[CourseFinding]:
+    """Mannitol started since the latest measured osmolality (a dose at the lab's minute follows it)."""
+    labs, doses = timeline.labs, timeline.doses
+    t_at = projection.at.timestamp()
+    measured = np.flatnonzero(np.isfinite(labs.measured_osmolality) & (labs.t <= t_at))
+    t_from = float(labs.t[measured[-1]]) if len(measured) else -np.inf
+    rows = np.flatnonzero(doses.agent.is_mannitol & (doses.t >= t_from) & (doses.t <= t_at))
+    if not len(rows):
+        return []
+    last = int(rows[-1])
+    since = (
+        f"since the latest measured osmolality ({labs.measured_osmolality[measured[-1]]:g} mOsm/kg at "
+        f"{when(labs.times[measured[-1]])})"
+        if len(measured)
+        else "and no osmolality has been measured"
+    )
+    n = len(rows)
+    message = (
+        f"{n} mannitol dose{'s' if n > 1 else ''} (the latest at {when(doses.times[last])}) given {since}: "
+        "the osmolality and the osmolar gap do not show it; re-measure osmolality before another dose"
+    )
+    return [
+        CourseFinding(
+            code="osmolality-not-remeasured",
+            severity="warn",
+            message=message,
+            value=None,
+            limit=None,
+            unit="mOsm/kg",
+            time=doses.times[last],
+        )
+    ]
