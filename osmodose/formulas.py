@@ -169,3 +169,9 @@ def volume_for_amount(amount: Quantity, concentration: Quantity) -> Quantity:
 def infusion_rate(volume: Quantity, duration: Quantity) -> Quantity:
     """Constant rate that gives `volume` over `duration`, in mL/h."""
     return (volume / duration).to("mL/h")
+
+
+def cerebral_perfusion_pressure(mean_arterial: Quantity, intracranial: Quantity) -> Quantity:
+    """CPP = MAP - ICP (Carney N et al. Guidelines for the Management of Severe Traumatic Brain Injury,
+    4th ed. Neurosurgery 2017;80:6-15), in mmHg."""
+    return _out(_arr(mean_arterial.m_as("mmHg")) - _arr(intracranial.m_as("mmHg")), "mmHg")

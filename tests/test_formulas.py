@@ -321,3 +321,19 @@ def test_scalars_and_arrays_give_identical_results(name: str) -> None:
         assert isinstance(scalar.magnitude, float)
         assert scalar.units == column.units
         np.testing.assert_array_equal(scalar.magnitude, column.magnitude[i])
+
+
+@pytest.mark.parametrize(
+    ("mean_arterial", "intracranial", "expected"),
+    [
+        (82, 28, 54),  # CPP = MAP - ICP (Carney N et al. Neurosurgery 2017;80:6-15): arithmetic
+        (90, 16, 74),  # inside the 60-70 target band's upper side: arithmetic
+    ],
+)
+def test_cerebral_perfusion_pressure_is_map_minus_icp(
+    mean_arterial: float, intracranial: float, expected: float
+) -> None:
+    assert f.cerebral_perfusion_pressure(Q_(mean_arterial, "mmHg"), Q_(intracranial, "mmHg")).m_as("mmHg") == expected
+    # Whole columns at once, as the course timeline uses it.
+    column = f.cerebral_perfusion_pressure(Q_(np.array([82.0, 90.0]), "mmHg"), Q_(np.array([28.0, 16.0]), "mmHg"))
+    assert column.m_as("mmHg").tolist() == [54.0, 74.0]

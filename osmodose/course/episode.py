@@ -20,7 +20,9 @@ from typing import Annotated, Literal
 
 from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field
 
+from osmodose.formulas import cerebral_perfusion_pressure
 from osmodose.ranges import PLAUSIBLE
+from osmodose.units import Q_
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
 FORMAT_VERSION = 2
@@ -126,8 +128,8 @@ class ReadingEntry(BaseModel):
 
     @property
     def cpp_mmhg(self) -> float:
-        """Cerebral perfusion pressure = MAP - ICP (Carney N et al. Neurosurgery 2017;80:6-15)."""
-        return self.map_mmhg - self.icp_mmhg
+        """Cerebral perfusion pressure, by the one CPP formula in `formulas`."""
+        return float(cerebral_perfusion_pressure(Q_(self.map_mmhg, "mmHg"), Q_(self.icp_mmhg, "mmHg")).magnitude)
 
 
 def _by_time(entries: tuple[object, ...]) -> tuple[object, ...]:

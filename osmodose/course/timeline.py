@@ -20,6 +20,7 @@ from osmodose import formulas as f
 from osmodose.course.episode import Episode
 from osmodose.engine import AgentColumns
 from osmodose.formulary.model import Formulary
+from osmodose.formulas import cerebral_perfusion_pressure
 from osmodose.units import Q_
 
 WINDOW_H = 24.0
@@ -211,7 +212,7 @@ def reading_columns(episode: Episode) -> ReadingColumns:
         t=_seconds([r.time for r in readings]),
         map=map_,
         icp=icp,
-        cpp=map_ - icp,  # CPP = MAP - ICP (Carney N et al. Neurosurgery 2017;80:6-15)
+        cpp=cerebral_perfusion_pressure(Q_(map_, "mmHg"), Q_(icp, "mmHg")).m_as("mmHg"),
     )
 
 
