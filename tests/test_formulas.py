@@ -327,7 +327,7 @@ def test_scalars_and_arrays_give_identical_results(name: str) -> None:
     ("mean_arterial", "intracranial", "expected"),
     [
         (82, 28, 54),  # CPP = MAP - ICP (Carney N et al. Neurosurgery 2017;80:6-15): arithmetic
-        (90, 16, 74),  # inside the 60-70 target band's upper side: arithmetic
+        (90, 16, 74),  # the demo episode's last reading: arithmetic
     ],
 )
 def test_cerebral_perfusion_pressure_is_map_minus_icp(
