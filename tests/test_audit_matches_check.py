@@ -14,7 +14,7 @@ import math
 import tempfile
 from pathlib import Path
 
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from osmodose.audit.columns import check_fields, parse_header
@@ -209,8 +209,15 @@ def _csv_matches_json(text: str, rows: list[dict]) -> None:
         assert line["messages"] == " | ".join(f["message"] for f in row["findings"])
 
 
+#: BUN judged in mg/dL of nitrogen, as check does (1.4 to 280.1 mg/dL), not as urea in mmol/L:
+#: 2000 mmol/L was refused with the urea range's words, and 2000 mg/dL (71.4 mmol/L of urea) accepted.
+BUN_ROWS = [["70", "40", "male", "140", "2000"], ["70", "40", "male", "140", "-5"], ["70", "40", "male", "140", "90"]]
+
+
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(tables())
+@example((["weight", "age", "sex", "sodium", "bun[mmol/L]"], BUN_ROWS, {"bun": "mmol/L"}))
+@example((["weight", "age", "sex", "sodium", "bun"], BUN_ROWS, {"bun": ""}))
 def test_every_audited_row_equals_a_single_check_of_it(table) -> None:
     header, rows, _ = table
     audited = audit_rows(header, rows)
