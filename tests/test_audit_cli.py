@@ -292,3 +292,24 @@ def test_an_orders_file_unreadable_partway_leaves_no_results_file(
     assert run(capsys, str(path), "--out", str(target), "--force")[0] == 2
     assert old.read_text(encoding="utf-8") == "last month's results\n"  # an older file stays as it was
     assert sorted(p.name for p in tmp_path.iterdir()) == sorted(["orders.csv", name])
+
+
+def test_an_infinite_cell_is_not_a_finite_number_as_in_check(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # float() reads "1e999" as infinity; check refuses it in these words, and so does the audit.
+    path = write(
+        tmp_path,
+        "weight,age,sex,sodium,volume[L],agent,dose\n"
+        "1e999,40,male,140,,mannitol-20,1 g/kg\n"
+        "70,40,male,140,-1e999,nacl-3,\n"
+        "70,40,male,140,,mannitol-20,1e999 g/kg\n",
+    )
+    code, _, err = run(capsys, str(path), "--summary")
+    assert code == 1
+    assert err.splitlines() == [
+        f"osmodose: {path} row 2: weight: 1e999 is not a finite number (accepted: a number in kg)",
+        f"osmodose: {path} row 3: volume: -1e999 L is not a finite number (accepted: a number in mL)",
+        f"osmodose: {path} row 4: dose: 1e999 g/kg is not a finite number (accepted: a number in g or mL or mmol "
+        "or mOsm or g/kg or mL/kg or mmol/kg or mOsm/kg)",
+    ]

@@ -288,8 +288,10 @@ def _read_doses(
             if unit not in units:
                 units[unit] = _parse(f"1 {unit}")
             probe = units[unit]
-            if isinstance(probe, DoseRequest) and float(match.group(1)) > 0:
-                read.append((float(match.group(1)) * probe.amount, probe.unit, probe.per_kg))
+            number = float(match.group(1))
+            # Not 0, negative or "1e999" (infinite): parse_dose gives those check's own words.
+            if isinstance(probe, DoseRequest) and 0 < number < math.inf:
+                read.append((number * probe.amount, probe.unit, probe.per_kg))
                 continue
         probe = _parse(text)
         if isinstance(probe, InputError):
