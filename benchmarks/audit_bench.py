@@ -36,6 +36,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+from osmodose import formulas  # noqa: E402
 from osmodose.audit.columns import check_fields  # noqa: E402
 from osmodose.audit.convert import convert  # noqa: E402
 from osmodose.audit.output import CsvResults  # noqa: E402
@@ -128,6 +129,24 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
         writer.writerows(zip(*columns, strict=True))
 
 
+def floor_tbw(
+    w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, settings: object
+) -> np.ndarray:
+    """Total body water in plain numpy, with the fractions and Watson coefficients of `osmodose.formulas`."""
+    elderly = age >= settings.elderly_age_years
+    man = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_MAN, formulas.TBW_FRACTION_MAN)
+    woman = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_WOMAN, formulas.TBW_FRACTION_WOMAN)
+    fraction = np.where(age < settings.adult_age_years, formulas.TBW_FRACTION_CHILD, np.where(male, man, woman))
+    men = (
+        formulas.WATSON_MAN_INTERCEPT
+        - formulas.WATSON_MAN_AGE * age
+        + formulas.WATSON_MAN_HEIGHT * h
+        + formulas.WATSON_MAN_WEIGHT * w
+    )
+    women = formulas.WATSON_WOMAN_INTERCEPT + formulas.WATSON_WOMAN_HEIGHT * h + formulas.WATSON_WOMAN_WEIGHT * w
+    return np.where(use_watson, np.where(male, men, women), w * fraction)
+
+
 def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: object) -> dict[str, np.ndarray]:
     """The engine's formulas and the rules' thresholds in plain numpy: the speed floor."""
     idx = a["agent_index"]
@@ -144,11 +163,7 @@ def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: obj
     mannitol = table([1.0 if x.solute == "mannitol" else 0.0 for x in agents]) == 1
     central = table([1.0 if x.route == "central" else 0.0 for x in agents]) == 1
     w, age, h, male, na = a["weight"], a["age"], a["height"], a["male"] == 1, a["sodium"]
-    elderly = age >= settings.elderly_age_years
-    fraction = np.where(male, np.where(elderly, 0.5, 0.6), np.where(elderly, 0.45, 0.5))
-    fraction = np.where(age < settings.adult_age_years, 0.6, fraction)
-    watson = np.where(male, 2.447 - 0.09516 * age + 0.1074 * h + 0.3362 * w, -2.097 + 0.1069 * h + 0.2466 * w)
-    tbw = np.where(a["use_watson"], watson, w * fraction)
+    tbw = floor_tbw(w, age, h, male, a["use_watson"], settings)
     calc = 2 * na + a["glucose"] + a["urea"] + np.nan_to_num(a["ethanol"])
     gap = a["osmolality"] - calc
     amount = np.where(a["per_kg"], a["amount"] * w, a["amount"])

@@ -252,7 +252,7 @@ def volume_error(dose: DoseRequest, agent: Agent, serum_sodium_mmol_l: float, vo
         return InputError(
             dose.mode,
             dose.text,
-            f"comes to {volume_ml:.0f} mL of {agent.id}, outside the plausible range",
+            f"comes to {volume_ml:.5g} mL of {agent.id}, outside the plausible range",
             PLAUSIBLE["volume"].describe(),
         )
     return None

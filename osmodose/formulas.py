@@ -35,6 +35,16 @@ TBW_FRACTION_ELDERLY_MAN = 0.5
 TBW_FRACTION_WOMAN = 0.5
 TBW_FRACTION_ELDERLY_WOMAN = 0.45
 
+#: Watson formula coefficients (Watson PE et al. Am J Clin Nutr 1980;33:27-39), litres from
+#: years, cm and kg; the age coefficient is subtracted, and women's formula has no age term.
+WATSON_MAN_INTERCEPT = 2.447
+WATSON_MAN_AGE = 0.09516
+WATSON_MAN_HEIGHT = 0.1074
+WATSON_MAN_WEIGHT = 0.3362
+WATSON_WOMAN_INTERCEPT = -2.097
+WATSON_WOMAN_HEIGHT = 0.1069
+WATSON_WOMAN_WEIGHT = 0.2466
+
 
 def _arr(value: ArrayLike) -> np.ndarray:
     return np.asarray(value, dtype=float)
@@ -78,8 +88,8 @@ def tbw_watson(age: Quantity, height: Quantity, weight: Quantity, male: ArrayLik
     a = _arr(age.m_as("year"))
     h = _arr(height.m_as("cm"))
     w = _arr(weight.m_as("kg"))
-    men = 2.447 - 0.09516 * a + 0.1074 * h + 0.3362 * w
-    women = -2.097 + 0.1069 * h + 0.2466 * w
+    men = WATSON_MAN_INTERCEPT - WATSON_MAN_AGE * a + WATSON_MAN_HEIGHT * h + WATSON_MAN_WEIGHT * w
+    women = WATSON_WOMAN_INTERCEPT + WATSON_WOMAN_HEIGHT * h + WATSON_WOMAN_WEIGHT * w
     return _out(np.where(np.asarray(male, dtype=bool), men, women), "L")
 
 

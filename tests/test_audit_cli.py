@@ -244,3 +244,72 @@ def test_progress_bar_only_when_asked_or_on_a_terminal(tmp_path: Path, capsys: p
     assert quiet == ""
     _, _, shown = run(capsys, str(path), "--summary", "--progress")
     assert shown.startswith("\raudit [") and shown.endswith("100% 7 rows\n")
+
+
+def test_out_that_is_the_orders_file_is_refused_and_the_orders_are_kept(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    path = write(tmp_path, SUMMARY_ORDERS)
+    for out in (str(path), str(tmp_path / "." / "orders.csv")):  # the same file, however it is written
+        for force in ((), ("--force",)):
+            assert run(capsys, str(path), "--out", out, *force) == (
+                2,
+                "",
+                f"osmodose: out: {out} is the orders file: the results would overwrite it (accepted: another file)\n",
+            )
+    assert path.read_text(encoding="utf-8") == SUMMARY_ORDERS
+
+
+def test_out_over_an_existing_file_needs_force(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    path = write(tmp_path, SUMMARY_ORDERS)
+    target = write(tmp_path, "last month's results\n", "results.csv")
+    assert run(capsys, str(path), "--out", str(target)) == (
+        2,
+        "",
+        f"osmodose: out: {target} already exists: choose another file or add --force to overwrite it\n",
+    )
+    assert target.read_text(encoding="utf-8") == "last month's results\n"
+    code, out, _ = run(capsys, str(path), "--out", str(target), "--force")
+    assert (code, out) == (1, f"7 rows: ok 3, warn 2, refuse 1, not audited 1; results in {target}\n")
+    assert target.read_text(encoding="utf-8").startswith("row,status,reason,agent,")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["orders.csv", "results.csv"]
+
+
+@pytest.mark.parametrize("name", ["results.csv", "results.json"])
+def test_an_orders_file_unreadable_partway_leaves_no_results_file(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], name: str
+) -> None:
+    # Row 2 is fine; the cell of row 3 is longer than the csv module reads (131072 characters).
+    path = write(tmp_path, "weight,age,sex,sodium\n70,40,male,140\n70,40,male," + "1" * 200_000 + "\n")
+    target = tmp_path / name
+    assert run(capsys, str(path), "--out", str(target)) == (
+        2,
+        "",
+        f"osmodose: orders {path}: line 3 cannot be read as CSV (field larger than field limit (131072))\n",
+    )
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["orders.csv"]  # nothing half-written, no leftovers
+    old = write(tmp_path, "last month's results\n", name)
+    assert run(capsys, str(path), "--out", str(target), "--force")[0] == 2
+    assert old.read_text(encoding="utf-8") == "last month's results\n"  # an older file stays as it was
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(["orders.csv", name])
+
+
+def test_an_infinite_cell_is_not_a_finite_number_as_in_check(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # float() reads "1e999" as infinity; check refuses it in these words, and so does the audit.
+    path = write(
+        tmp_path,
+        "weight,age,sex,sodium,volume[L],agent,dose\n"
+        "1e999,40,male,140,,mannitol-20,1 g/kg\n"
+        "70,40,male,140,-1e999,nacl-3,\n"
+        "70,40,male,140,,mannitol-20,1e999 g/kg\n",
+    )
+    code, _, err = run(capsys, str(path), "--summary")
+    assert code == 1
+    assert err.splitlines() == [
+        f"osmodose: {path} row 2: weight: 1e999 is not a finite number (accepted: a number in kg)",
+        f"osmodose: {path} row 3: volume: -1e999 L is not a finite number (accepted: a number in mL)",
+        f"osmodose: {path} row 4: dose: 1e999 g/kg is not a finite number (accepted: a number in g or mL or mmol "
+        "or mOsm or g/kg or mL/kg or mmol/kg or mOsm/kg)",
+    ]

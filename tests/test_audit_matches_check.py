@@ -14,7 +14,7 @@ import math
 import tempfile
 from pathlib import Path
 
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from osmodose.audit.columns import check_fields, parse_header
@@ -72,13 +72,24 @@ TO_HEADER_UNIT = {
     ("bun", "mmol/L"): 0.36,
 }
 DOSE_TEXTS = ["1 g/kg", "0.5 g/kg", "2g/kg", "5 mL/kg", "3 mL/kg", "2 mmol/kg", "50 g", "250 mL", "0.25 L"]
-DOSE_TEXTS += ["120 mmol", "300 mOsm", "500 mg/kg", "0 g/kg", "1.5", "2 furlongs", "-1 g", "1 g/kg/h", "30mL"]
+DOSE_TEXTS += [
+    "120 mmol",
+    "300 mOsm",
+    "500 mg/kg",
+    "0 g/kg",
+    "1.5",
+    "2 furlongs",
+    "-1 g",
+    "1 g/kg/h",
+    "30mL",
+    "1e999 g/kg",
+]
 
 
 def _number(draw: st.DrawFn, column: str, unit: str, spoil: bool) -> str:
     low, high = RANGES[column]
     if spoil:  # outside the range, unreadable, or a unit in the cell
-        return draw(st.sampled_from([f"{high * 20:g}", "-5", "abc", "1_0", "nan", "1,5", "70kg", "3 mmol/L"]))
+        return draw(st.sampled_from([f"{high * 20:g}", "-5", "abc", "1_0", "nan", "1,5", "70kg", "3 mmol/L", "1e999"]))
     value = draw(st.floats(low, high))
     value *= TO_HEADER_UNIT.get((column, unit), 1.0)
     return draw(st.sampled_from([f"{value:.1f}", f"{value:.4g}", repr(value)]))
@@ -209,8 +220,27 @@ def _csv_matches_json(text: str, rows: list[dict]) -> None:
         assert line["messages"] == " | ".join(f["message"] for f in row["findings"])
 
 
+#: BUN judged in mg/dL of nitrogen, as check does (1.4 to 280.1 mg/dL), not as urea in mmol/L:
+#: 2000 mmol/L was refused with the urea range's words, and 2000 mg/dL (71.4 mmol/L of urea) accepted.
+BUN_ROWS = [["70", "40", "male", "140", "2000"], ["70", "40", "male", "140", "-5"], ["70", "40", "male", "140", "90"]]
+
+
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(tables())
+@example((["weight", "age", "sex", "sodium", "bun[mmol/L]"], BUN_ROWS, {"bun": "mmol/L"}))
+@example((["weight", "age", "sex", "sodium", "bun"], BUN_ROWS, {"bun": ""}))
+@example(
+    (
+        ["weight", "age[year]", "sex", "sodium", "agent", "dose"],
+        # Plain to float() but infinite: check refuses each as not a finite number.
+        [
+            ["1e999", "40", "male", "140", "mannitol-20", "1 g/kg"],
+            ["70", "-1e999", "male", "140", "nacl-3", "2 mL/kg"],
+            ["70", "40", "male", "140", "mannitol-20", "1e999 g/kg"],
+        ],
+        {"age": "year"},
+    )
+)
 def test_every_audited_row_equals_a_single_check_of_it(table) -> None:
     header, rows, _ = table
     audited = audit_rows(header, rows)

@@ -25,6 +25,16 @@ BASE = {"weight": "70", "age": "40", "sex": "male", "sodium": "140"}
             {"agent": "mannitol-20", "dose": "10g/kg", "weight": "400"},
             "dose: 10g/kg comes to 20000 mL of mannitol-20, outside the plausible range (accepted: 0.1 to 5000 mL)",
         ),
+        # 1e300 mL: shown in at most 5 significant digits, not as a 301-digit number.
+        (
+            {"agent": "nacl-3", "dose": "1e300mL"},
+            "dose: 1e300mL comes to 1e+300 mL of nacl-3, outside the plausible range (accepted: 0.1 to 5000 mL)",
+        ),
+        # 0.0001 g/kg x 70 kg = 0.007 g; 0.007 g / 200 g/L = 0.035 mL, below 0.1 mL (once shown as "0 mL").
+        (
+            {"agent": "mannitol-20", "dose": "0.0001g/kg"},
+            "dose: 0.0001g/kg comes to 0.035 mL of mannitol-20, outside the plausible range (accepted: 0.1 to 5000 mL)",
+        ),
         (
             {"agent": "lactated-ringers", "dose": "10g"},
             "dose: 10g is in grams, but lactated-ringers is a mixed fluid (accepted: mL, mmol or mOsm)",

@@ -92,7 +92,8 @@ class ChunkCells:
             plain = False
         if plain:
             given = ~np.isnan(values)
-            odd = np.zeros(self.n, dtype=bool)
+            # "1e999" is a plain number to float() but infinite: check refuses it as not finite.
+            odd = np.isinf(values)
         else:
             text = self.text(name)
             given = np.strings.str_len(text) > 0

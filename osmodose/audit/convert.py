@@ -22,6 +22,7 @@ from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
 from osmodose.check import dose_misfit, height_required_error
+from osmodose.chemistry import molar_mass
 from osmodose.engine import DOSE_UNITS, Cases, dose_unit_codes
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
@@ -117,12 +118,18 @@ def _error(field: str, value: object, problem: str, accepted: str | None = None)
     return str(InputError(field, value, problem, accepted))
 
 
-def _implausible(field: str, value: float, shown: str, range_key: str | None = None) -> str:
+def _implausible(field: str, value: float, shown: str) -> str:
     try:
-        check_plausible(field, value, shown, range_key)
+        check_plausible(field, value, shown)
     except InputError as error:
         return str(error)
     raise AssertionError(f"{field} {value} is inside its range")  # pragma: no cover
+
+
+def _bun_mg_dl(urea_mmol_l: np.ndarray) -> np.ndarray:
+    """Urea (mmol/L) as BUN in mg/dL of nitrogen: check judges a BUN in the unit a bare BUN is read in."""
+    with np.errstate(invalid="ignore"):
+        return np.asarray((Q_(urea_mmol_l, "mmol/L") * molar_mass("urea nitrogen")).m_as("mg/dL"), dtype=float)
 
 
 def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
@@ -133,8 +140,12 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     given: dict[str, np.ndarray] = {}
 
     def number(
-        name: str, required: bool = False, range_key: str | None = None, active: np.ndarray | None = None
+        name: str,
+        required: bool = False,
+        active: np.ndarray | None = None,
+        judged: Callable[[np.ndarray], np.ndarray] | None = None,
     ) -> None:
+        """Read a number column; `judged` turns its canonical values into those its range is in."""
         v, g, unreadable = chunk.number(name)
         if active is not None:
             g = g & active
@@ -146,10 +157,11 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         failed[list(unreadable)] = True
         reasons.add(failed, unreadable.__getitem__)
         g = g & ~failed
-        bounds = PLAUSIBLE[range_key or name]
+        bounds = PLAUSIBLE[name]
+        w = v if judged is None else judged(v)
         with np.errstate(invalid="ignore"):
-            inside = (bounds.low <= v) & (v <= bounds.high)
-        reasons.add(g & ~inside, lambda i: _implausible(name, v[i], chunk.shown(name, i), range_key))
+            inside = (bounds.low <= w) & (w <= bounds.high)
+        reasons.add(g & ~inside, lambda i: _implausible(name, w[i], chunk.shown(name, i)))
 
     def choice(name: str, accepted: tuple[str, ...], problem: str, required: bool = False) -> np.ndarray:
         codes, distinct = encode(raw.cells[name]) if name in header else (np.zeros(n, np.int64), [""])
@@ -171,7 +183,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     both = "cannot be given together with urea"
     reasons.add(bun_given & urea_given, lambda i: _error("bun", chunk.shown("bun", i), both, "urea or bun, not both"))
     number("urea")
-    number("bun", range_key="urea")
+    number("bun", judged=_bun_mg_dl)
     number("osmolality")
     number("potassium")
     number("glucose")
@@ -276,8 +288,10 @@ def _read_doses(
             if unit not in units:
                 units[unit] = _parse(f"1 {unit}")
             probe = units[unit]
-            if isinstance(probe, DoseRequest) and float(match.group(1)) > 0:
-                read.append((float(match.group(1)) * probe.amount, probe.unit, probe.per_kg))
+            number = float(match.group(1))
+            # Not 0, negative or "1e999" (infinite): parse_dose gives those check's own words.
+            if isinstance(probe, DoseRequest) and 0 < number < math.inf:
+                read.append((number * probe.amount, probe.unit, probe.per_kg))
                 continue
         probe = _parse(text)
         if isinstance(probe, InputError):

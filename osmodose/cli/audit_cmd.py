@@ -3,11 +3,17 @@
 from __future__ import annotations
 
 import argparse
+import os
+import secrets
 import sys
+from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
+from typing import TextIO
 
 from osmodose.cli.exit_codes import INVALID, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.errors import InputError
 
 HELP = "audit a file of past orders against the formulary's limits, row by row, on whole columns"
 
@@ -24,6 +30,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser.add_argument(
         "--out", metavar="FILE", help="write one result row per order to FILE (.csv or .json) instead of stdout"
     )
+    parser.add_argument("--force", action="store_true", help="overwrite the --out file if it exists")
     parser.add_argument("--summary", action="store_true", help="print counts and dose-per-kg distributions")
     parser.add_argument("--json", action="store_true", help="JSON instead of CSV rows or the text summary")
     parser.add_argument(
@@ -37,33 +44,24 @@ def run(args: argparse.Namespace) -> int:
     from osmodose.audit.reader import open_orders  # noqa: PLC0415
     from osmodose.audit.run import Progress, run_audit  # noqa: PLC0415
     from osmodose.audit.summary import Summary  # noqa: PLC0415
-    from osmodose.errors import InputError  # noqa: PLC0415
 
     formulary = formulary_from_args(args)
     path = Path(args.orders)
     with open_orders(path) as orders:  # a bad header stops here, before any output is made
         with_order_id = "order-id" in orders.header
     out_path = Path(args.out) if args.out else None
-    if out_path is not None and out_path.suffix.lower() not in (".csv", ".json"):
-        raise InputError("out", args.out, "has an extension osmodose cannot write", ".csv or .json")
+    if out_path is not None:
+        _check_out(out_path, path, args.out, args.force)
     summary = Summary(formulary, str(path))
     bad = BadRows(sys.stderr, path)
     sinks: list = [summary, bad]
-    handle = None
-    if out_path is not None or not args.summary:
-        as_json = out_path.suffix.lower() == ".json" if out_path is not None else args.json
-        try:
-            handle = open(out_path, "w", encoding="utf-8", newline="") if out_path else sys.stdout  # noqa: SIM115
-        except OSError as error:
-            raise InputError("out", args.out, f"cannot be written ({error.strerror})") from None
-        sinks.append(JsonResults(handle, formulary) if as_json else CsvResults(handle, with_order_id))
     long_file = path.stat().st_size > 1_000_000
     progress = Progress(sys.stderr) if args.progress or (long_file and sys.stderr.isatty()) else None
-    try:
+    with _results(out_path, args.out, to_stdout=not args.summary) as handle:
+        if handle is not None:
+            as_json = out_path.suffix.lower() == ".json" if out_path is not None else args.json
+            sinks.append(JsonResults(handle, formulary) if as_json else CsvResults(handle, with_order_id))
         run_audit(path, formulary, sinks, progress=progress)
-    finally:
-        if handle is not None and handle is not sys.stdout:
-            handle.close()
     if args.summary:
         if args.json:
             import json  # noqa: PLC0415
@@ -78,3 +76,42 @@ def run(args: argparse.Namespace) -> int:
             f"not audited {s['error']}; results in {out_path}"
         )
     return INVALID if bad.count else OK
+
+
+def _check_out(out_path: Path, orders: Path, written: str, force: bool) -> None:
+    """Refuse an --out that would destroy a file: the orders themselves, or any file without --force."""
+    if out_path.suffix.lower() not in (".csv", ".json"):
+        raise InputError("out", written, "has an extension osmodose cannot write", ".csv or .json")
+    if out_path.exists() and os.path.samefile(out_path, orders):
+        raise InputError("out", written, "is the orders file: the results would overwrite it", "another file")
+    if out_path.exists() and not force:
+        raise InputError("out", written, "already exists: choose another file or add --force to overwrite it")
+
+
+@contextmanager
+def _results(out_path: Path | None, written: str | None, to_stdout: bool) -> Iterator[TextIO | None]:
+    """Where the result rows go: --out, stdout, or nowhere (a summary alone).
+
+    --out is written to a new file beside it, renamed into place only when the
+    whole audit succeeds: an orders file that turns out unreadable partway
+    leaves no half-written results (and an older results file untouched).  The
+    new file is opened with mode "x", so it gets the usual permissions of a new
+    file and can never be another file already there.
+    """
+    if out_path is None:
+        yield sys.stdout if to_stdout else None
+        return
+    partial = out_path.with_name(f".{out_path.name}.{secrets.token_hex(4)}.partial")
+    try:
+        handle = open(partial, "x", encoding="utf-8", newline="")  # noqa: SIM115
+    except OSError as error:
+        raise InputError("out", written, f"cannot be written ({error.strerror})") from None
+    try:
+        with handle:
+            yield handle
+        try:
+            os.replace(partial, out_path)
+        except OSError as error:
+            raise InputError("out", written, f"cannot be written ({error.strerror})") from None
+    finally:
+        partial.unlink(missing_ok=True)
