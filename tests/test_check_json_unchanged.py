@@ -1,0 +1,57 @@
+"""`check --json` says what it said before the package was reorganised.
+
+`tests/data/check_json_before_refactor.json` holds 42 outputs of `osmodose check --json`
+recorded from version 0.1 before its modules were regrouped and its engine moved to plain
+floats.  The refactor may add keys (new figures) but must not change a figure, a message, a
+status or an exit code.  The recorded cases are regression data, not clinical check values:
+those live beside their sources in the formula and rule tests.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import json
+import math
+from pathlib import Path
+from typing import Any
+
+import pytest
+
+from osmodose.cli.main import main
+
+RECORDED = json.loads((Path(__file__).parent / "data" / "check_json_before_refactor.json").read_text())
+#: Keys whose value is expected to differ from the recording.
+NOT_COMPARED = {"program_version", "path"}
+
+
+def _same(before: Any, after: Any, where: str) -> list[str]:
+    if isinstance(before, dict):
+        if not isinstance(after, dict):
+            return [f"{where}: {after!r} is no longer an object"]
+        problems = []
+        for key, value in before.items():
+            if key in NOT_COMPARED:
+                continue
+            if key not in after:
+                problems.append(f"{where}.{key}: missing")
+                continue
+            problems += _same(value, after[key], f"{where}.{key}")
+        return problems
+    if isinstance(before, list):
+        if not isinstance(after, list) or len(after) != len(before):
+            return [f"{where}: {after!r} != {before!r}"]
+        return [p for i, (b, a) in enumerate(zip(before, after, strict=True)) for p in _same(b, a, f"{where}[{i}]")]
+    if isinstance(before, float) and isinstance(after, (int, float)):
+        close = math.isclose(before, after, rel_tol=1e-12, abs_tol=1e-12)
+        return [] if close else [f"{where}: {after!r} != {before!r}"]
+    return [] if before == after else [f"{where}: {after!r} != {before!r}"]
+
+
+@pytest.mark.parametrize("case", RECORDED, ids=lambda case: " ".join(case["args"][6:12]))
+def test_check_json_is_unchanged_by_the_refactor(case: dict[str, Any]) -> None:
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        code = main(["check", *case["args"], "--json"])
+    assert code == case["exit"]
+    assert _same(case["json"], json.loads(out.getvalue()), "check") == []
