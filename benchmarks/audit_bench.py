@@ -36,19 +36,19 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from osmodose import formulas  # noqa: E402
 from osmodose.audit.columns import check_fields  # noqa: E402
 from osmodose.audit.convert import convert  # noqa: E402
 from osmodose.audit.output import CsvResults  # noqa: E402
 from osmodose.audit.reader import open_orders  # noqa: E402
 from osmodose.audit.run import run_audit  # noqa: E402
 from osmodose.audit.summary import Summary  # noqa: E402
-from osmodose.check import run_check  # noqa: E402
-from osmodose.engine import compute  # noqa: E402
+from osmodose.case.inputs import parse_check_request  # noqa: E402
+from osmodose.check.engine import compute  # noqa: E402
+from osmodose.check.rules import evaluate  # noqa: E402
+from osmodose.check.run import run_check  # noqa: E402
 from osmodose.errors import InputError  # noqa: E402
 from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
-from osmodose.inputs import parse_check_request  # noqa: E402
-from osmodose.rules import evaluate  # noqa: E402
+from osmodose.science import formulas  # noqa: E402
 
 HEADER = [
     "order-id",
@@ -132,7 +132,7 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
 def floor_tbw(
     w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, settings: object
 ) -> np.ndarray:
-    """Total body water in plain numpy, with the fractions and Watson coefficients of `osmodose.formulas`."""
+    """Total body water in plain numpy, with the fractions and Watson coefficients of `osmodose.science.formulas`."""
     elderly = age >= settings.elderly_age_years
     man = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_MAN, formulas.TBW_FRACTION_MAN)
     woman = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_WOMAN, formulas.TBW_FRACTION_WOMAN)

@@ -8,9 +8,9 @@ from types import ModuleType
 import numpy as np
 import pytest
 
-from osmodose import formulas
 from osmodose.formulary import demo_formulary_path, load_formulary
-from osmodose.units import Q_
+from osmodose.science import formulas
+from osmodose.science.units import Q_
 from tests.conftest import REPO_ROOT
 
 

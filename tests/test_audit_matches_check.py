@@ -20,10 +20,10 @@ from hypothesis import strategies as st
 from osmodose.audit.columns import check_fields, parse_header
 from osmodose.audit.output import CsvResults, row_dicts
 from osmodose.audit.run import FIGURES, run_audit
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary import demo_formulary_path, load_formulary
-from osmodose.inputs import parse_check_request
 
 DEMO = load_formulary(demo_formulary_path())
 AGENTS = [a.id for a in DEMO.agents]

@@ -15,10 +15,10 @@ from typing import Any
 
 import pytest
 
-from osmodose.check import MANNITOL_NOTE, PROJECTION_NOTE
+from osmodose.check.results import CAUTION
+from osmodose.check.run import MANNITOL_NOTE, PROJECTION_NOTE
 from osmodose.cli.main import main
 from osmodose.formulary import Formulary, demo_formulary_path
-from osmodose.results import CAUTION
 from tests.conftest import run_cli
 
 MAN = ["--weight", "70", "--age", "40", "--sex", "male"]

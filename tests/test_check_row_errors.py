@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import pytest
 
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 from osmodose.errors import InputError
-from osmodose.inputs import parse_check_request
 
 BASE = {"weight": "70", "age": "40", "sex": "male", "sodium": "140"}
 

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from osmodose.chemistry import MOLAR_MASS_G_PER_MOL, SOLUTES, molar_mass
 from osmodose.formulary import Formulary, load_formulary
+from osmodose.science.chemistry import MOLAR_MASS_G_PER_MOL, SOLUTES, molar_mass
 
 # Conventional atomic weights, IUPAC Commission on Isotopic Abundances and Atomic Weights (CIAAW).
 ATOMIC_WEIGHT = {"Na": 22.990, "Cl": 35.45, "C": 12.011, "H": 1.008, "O": 15.999, "N": 14.007}

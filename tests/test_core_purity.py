@@ -15,10 +15,10 @@ HEAVY = ("textual", "matplotlib", "plotext", "textual_plotext")
 
 PROBE = """
 import contextlib, io, json, sys
-import osmodose, osmodose.check, osmodose.cli.main
-from osmodose.check import run_check
+import osmodose, osmodose.check.run, osmodose.cli.main
+from osmodose.check.run import run_check
 from osmodose.formulary import demo_formulary_path, load_formulary
-from osmodose.inputs import parse_check_request
+from osmodose.case.inputs import parse_check_request
 fields = {"weight": "70", "age": "40", "sex": "male", "sodium": "140", "agent": "mannitol-20", "dose": "1g/kg"}
 run_check(parse_check_request(fields), load_formulary(demo_formulary_path()))
 with contextlib.redirect_stdout(io.StringIO()):

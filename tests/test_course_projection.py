@@ -6,13 +6,13 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 from osmodose.course.plan import plan_dose
 from osmodose.course.projection import episode_tbw_l, project_now, projected_path
 from osmodose.course.timeline import build_timeline
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
-from osmodose.inputs import parse_check_request
 from tests.course_build import at, dose, episode, formulary_with_limits, lab
 
 # 3 % NaCl: sodium 513 mmol/L as on the product label (the demo formulary states it).

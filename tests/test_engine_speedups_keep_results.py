@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from osmodose.engine import DOSE_UNITS, dose_unit_codes
+from osmodose.check.engine import DOSE_UNITS, dose_unit_codes
 from osmodose.errors import InputError
-from osmodose.units import Q_, parse_quantity
+from osmodose.science.units import Q_, parse_quantity
 
 
 def test_dose_units_as_strings_or_codes_are_the_same_codes() -> None:

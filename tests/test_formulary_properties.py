@@ -8,11 +8,11 @@ from pathlib import Path
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from osmodose.chemistry import MOLAR_MASS_G_PER_MOL
 from osmodose.formulary import load_formulary
 from osmodose.formulary.diff import diff_formularies
 from osmodose.formulary.validate import validate_formulary
-from osmodose.ranges import SOLUTE_STRENGTH
+from osmodose.science.chemistry import MOLAR_MASS_G_PER_MOL
+from osmodose.science.ranges import SOLUTE_STRENGTH
 from tests.formulary_files import NO_COMPOSITION_LINES, edited
 
 NACL = SOLUTE_STRENGTH["sodium chloride"]
@@ -49,7 +49,7 @@ def test_a_sodium_chloride_strength_loads_exactly_when_it_is_in_the_range(percen
 
 
 def test_every_solute_with_a_molar_mass_has_a_plausible_strength() -> None:
-    from osmodose.chemistry import SOLUTES
+    from osmodose.science.chemistry import SOLUTES
 
     with_mass = {name for name, solute in SOLUTES.items() if solute.molar_mass_g_per_mol is not None}
     assert set(SOLUTE_STRENGTH) == with_mass

@@ -198,7 +198,7 @@ def test_each_problem_is_reported_with_its_line(
     assert lines == [f"{path}:{line}" for line in expected] + [f"{path}: not valid: {count}"]
 
 
-# The per-solute plausible strengths (osmodose.ranges.SOLUTE_STRENGTH, sources there).
+# The per-solute plausible strengths (osmodose.science.ranges.SOLUTE_STRENGTH, sources there).
 STRENGTH_CASES = {
     "sodium chloride 35 %, above saturation": ("sodium chloride", "35% w/v", "35", "0.1 to 30"),
     "sodium chloride 0.05 %, a slipped decimal": ("sodium chloride", "0.05% w/v", "0.05", "0.1 to 30"),

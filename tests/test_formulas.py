@@ -8,12 +8,12 @@ import numpy as np
 import pint
 import pytest
 
-from osmodose import formulas as f
-from osmodose.check import run_check
-from osmodose.chemistry import molar_mass
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 from osmodose.formulary import Formulary, load_formulary
-from osmodose.inputs import parse_check_request
-from osmodose.units import Q_
+from osmodose.science import formulas as f
+from osmodose.science.chemistry import molar_mass
+from osmodose.science.units import Q_
 
 # --- Adrogue-Madias and the mass-balance projection --------------------------------------------
 

@@ -9,12 +9,12 @@ import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
-from osmodose import formulas as f
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
-from osmodose.inputs import parse_check_request
-from osmodose.units import Q_
+from osmodose.science import formulas as f
+from osmodose.science.units import Q_
 
 PROFILE = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 

@@ -17,10 +17,10 @@ from pathlib import Path
 
 import pytest
 
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.results import CheckResult, Finding
+from osmodose.check.run import run_check
 from osmodose.formulary import Formulary, load_formulary
-from osmodose.inputs import parse_check_request
-from osmodose.results import CheckResult, Finding
 
 MAN = {"weight": "70", "age": "40", "sex": "male"}
 
@@ -415,10 +415,10 @@ BATCH = [
 def test_rules_over_a_batch_give_each_row_the_findings_of_its_own_check(demo: Formulary) -> None:
     import numpy as np
 
-    from osmodose.check import cases_from_request
-    from osmodose.engine import Cases, compute
-    from osmodose.rules import REFUSE, WARN, evaluate
-    from osmodose.units import Q_
+    from osmodose.check.engine import Cases, compute
+    from osmodose.check.rules import REFUSE, WARN, evaluate
+    from osmodose.check.run import cases_from_request
+    from osmodose.science.units import Q_
 
     requests = [parse_check_request({**MAN, **row}) for row in BATCH]
     singles = [

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from osmodose.check import run_check
-from osmodose.inputs import parse_check_request
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 
 
 @pytest.mark.parametrize(

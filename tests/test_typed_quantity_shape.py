@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import pytest
 
+from osmodose.case.inputs import parse_check_request
 from osmodose.errors import InputError
-from osmodose.inputs import parse_check_request
-from osmodose.units import parse_quantity
+from osmodose.science.units import parse_quantity
 
 BASE = {"age": "45", "sex": "male", "sodium": "141"}
 

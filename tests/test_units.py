@@ -8,9 +8,9 @@ from pathlib import Path
 import pint
 import pytest
 
-from osmodose import chemistry, formulas
 from osmodose.errors import InputError
-from osmodose.units import Q_, is_per_mass, parse_quantity, ureg
+from osmodose.science import chemistry, formulas
+from osmodose.science.units import Q_, is_per_mass, parse_quantity, ureg
 
 PACKAGE = Path(__file__).resolve().parent.parent / "osmodose"
 
@@ -126,7 +126,7 @@ def test_only_the_units_module_builds_a_registry() -> None:
         for path in PACKAGE.rglob("*.py")
         if re.search(r"UnitRegistry\s*\(", path.read_text(encoding="utf-8"))
     ]
-    assert builders == ["units.py"]
+    assert builders == ["science/units.py"]
 
 
 def test_the_trades_units_are_defined() -> None:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from osmodose.errors import InputError
-from osmodose.units import parse_quantity
+from osmodose.science.units import parse_quantity
 
 
 @pytest.mark.parametrize(

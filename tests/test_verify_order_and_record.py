@@ -7,8 +7,8 @@ from datetime import datetime
 
 import pytest
 
+from osmodose.case.inputs import parse_check_request
 from osmodose.errors import InputError
-from osmodose.inputs import parse_check_request
 from osmodose.verify import VerificationRecord, parse_order, verify_order
 from tests.verify_helpers import MAN_70, verify
 

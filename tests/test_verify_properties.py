@@ -9,9 +9,9 @@ import json
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
+from osmodose.case.inputs import parse_check_request
 from osmodose.cli.main import main
 from osmodose.errors import InputError
-from osmodose.inputs import parse_check_request
 from osmodose.verify import make_acceptance, parse_acceptance, parse_order, verify_order
 from osmodose.verify.decision import decide
 from osmodose.verify.discrepancies import CODES, Discrepancy

@@ -11,11 +11,11 @@ from pathlib import Path
 
 import pytest
 
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.run import run_check
 from osmodose.cli.main import main
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
-from osmodose.inputs import parse_check_request
 
 BASE = {"age": "55", "sex": "male", "sodium": "140", "tbw-method": "watson"}
 

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from datetime import datetime, timedelta, timezone
 
+from osmodose.case.inputs import parse_check_request
 from osmodose.formulary import Formulary
-from osmodose.inputs import parse_check_request
 from osmodose.verify import VerificationRecord, make_acceptance, parse_order, verify_order
 
 #: A fixed clock (UTC+01:00) so records are reproducible.

@@ -2,6 +2,6 @@
 
 `launch.launch` loads the formulary first (a bad file stops here, before any
 dosing) and only then imports textual.  The app parses typed text with
-`osmodose.inputs`, runs `osmodose.check.run_check` and shows the result: it
+`osmodose.case.inputs`, runs `osmodose.check.run_check` and shows the result: it
 holds no arithmetic of its own.
 """

@@ -1,6 +1,6 @@
 """One line per shown figure: what it is and the formula the core uses for it.
 
-The formulas themselves live once in `osmodose.formulas` and `osmodose.engine`;
+The formulas themselves live once in `osmodose.science.formulas` and `osmodose.check.engine`;
 this is their description for the help screen, with the published source.
 """
 

@@ -22,9 +22,9 @@ from datetime import datetime
 from typing import NamedTuple
 
 from osmodose.app.view import FIELDS, SYMBOL, FieldSpec
+from osmodose.case.inputs import parse_check_request
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import parse_check_request
 from osmodose.verify import VerificationRecord, make_acceptance, parse_initials, parse_order, verify_order
 from osmodose.verify.decision import MIN_REASON_LENGTH, NOT_ACCEPTABLE
 from osmodose.verify.discrepancies import Discrepancy

@@ -11,12 +11,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
-from osmodose.check import run_check
+from osmodose.case.inputs import DoseMode, parse_check_request
+from osmodose.check.report import fmt, signed, status_words
+from osmodose.check.results import CheckResult
+from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import DoseMode, parse_check_request
-from osmodose.report import fmt, signed, status_words
-from osmodose.results import CheckResult
 
 Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
 

@@ -15,9 +15,9 @@ import numpy as np
 
 from osmodose.audit.columns import ORDER_COLUMNS, Column, Header
 from osmodose.audit.reader import RawChunk
-from osmodose.chemistry import molar_mass
 from osmodose.errors import InputError
-from osmodose.units import Q_, Quantity, parse_quantity
+from osmodose.science.chemistry import molar_mass
+from osmodose.science.units import Q_, Quantity, parse_quantity
 
 #: Characters float() accepts that a plain number never has ("1_000", "nan", "inf", "Infinity").
 _NOT_PLAIN = ("_", "n", "N", "i", "I")

@@ -8,7 +8,7 @@ The dose column alone may carry its unit in each cell ("1 g/kg"), as
 `check --dose` does, or in a `dose-unit` column.  Names ignore case, and `_`
 and `-` are the same (`target_rise` is `target-rise`).
 
-Everything here mirrors `osmodose.inputs`: the same default units, the same
+Everything here mirrors `osmodose.case.inputs`: the same default units, the same
 accepted dimensions and the same molar masses, so a row reads as the check
 with the same typed text would read it.  `check_fields` gives that text.
 """
@@ -20,9 +20,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
+from osmodose.case.inputs import parse_dose
 from osmodose.errors import InputError, OrdersFileError
-from osmodose.inputs import parse_dose
-from osmodose.units import parse_quantity
+from osmodose.science.units import parse_quantity
 
 Kind = Literal["number", "text", "dose"]
 

@@ -4,8 +4,8 @@ This is `parse_check_request` and the checks `run_check` makes before the
 engine, run on whole columns.  The stages come in the order those functions
 meet them, and each bad row keeps the first reason it meets, so a row is
 reported with the words a check of the same typed text would print.  Ranges
-come from `osmodose.ranges`, units from the header (see `columns`), molar
-masses from `osmodose.chemistry`; doses are read by `inputs.parse_dose` once
+come from `osmodose.science.ranges`, units from the header (see `columns`), molar
+masses from `osmodose.science.chemistry`; doses are read by `inputs.parse_dose` once
 per distinct unit.  Messages are only built for the rows that fail.
 """
 
@@ -21,14 +21,14 @@ import numpy as np
 from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
-from osmodose.check import dose_misfit, height_required_error
-from osmodose.chemistry import molar_mass
-from osmodose.engine import DOSE_UNITS, Cases, dose_unit_codes
+from osmodose.case.inputs import DoseRequest, parse_dose
+from osmodose.check.engine import DOSE_UNITS, Cases, dose_unit_codes
+from osmodose.check.run import dose_misfit, height_required_error
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import DoseRequest, parse_dose
-from osmodose.ranges import PLAUSIBLE, check_plausible
-from osmodose.units import Q_
+from osmodose.science.chemistry import molar_mass
+from osmodose.science.ranges import PLAUSIBLE, check_plausible
+from osmodose.science.units import Q_
 
 #: A dose cell "number unit" whose unit is letters and slashes reads as number x (1 unit);
 #: anything else is handed whole to `parse_dose`.

@@ -16,9 +16,9 @@ from typing import TextIO
 import numpy as np
 
 from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
+from osmodose.check.results import CAUTION
+from osmodose.check.rules import SEVERITY_NAMES
 from osmodose.formulary.model import Formulary
-from osmodose.results import CAUTION
-from osmodose.rules import SEVERITY_NAMES
 
 FINDING_SEPARATOR = ";"
 MESSAGE_SEPARATOR = " | "

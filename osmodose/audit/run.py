@@ -22,11 +22,11 @@ import numpy as np
 from osmodose.audit.columns import Header
 from osmodose.audit.convert import Converted, convert
 from osmodose.audit.reader import open_orders
-from osmodose.check import tbw_error, tbw_problems, volume_error, volume_problems
-from osmodose.engine import compute
+from osmodose.case.inputs import Patient
+from osmodose.check.engine import compute
+from osmodose.check.rules import SEVERITY_NAMES, RuleOutcome, evaluate
+from osmodose.check.run import tbw_error, tbw_problems, volume_error, volume_problems
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import Patient
-from osmodose.rules import SEVERITY_NAMES, RuleOutcome, evaluate
 
 #: Rows per chunk: big enough that the engine's fixed cost per call is small
 #: beside the arithmetic, small enough that a chunk's text stays a few tens of MB.

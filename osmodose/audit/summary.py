@@ -13,8 +13,8 @@ import numpy as np
 
 from osmodose.audit.output import formulary_ref
 from osmodose.audit.run import ChunkResult
+from osmodose.check.results import CAUTION
 from osmodose.formulary.model import Formulary
-from osmodose.results import CAUTION
 
 #: Per-kg figures summarised per agent: (unit, output figure name).
 DOSE_MEASURES: tuple[tuple[str, str], ...] = (

@@ -5,12 +5,12 @@ from __future__ import annotations
 import argparse
 import json
 
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.report import render_text
+from osmodose.check.run import run_check
 from osmodose.cli.exit_codes import BY_STATUS
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
-from osmodose.inputs import parse_check_request
-from osmodose.report import render_text
 
 HELP = "compute osmolality, total body water, a dose and its sodium projection, and check the limits"
 

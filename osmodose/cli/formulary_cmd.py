@@ -16,6 +16,7 @@ from collections.abc import Sequence
 from dataclasses import asdict
 from pathlib import Path
 
+from osmodose.check.results import CAUTION
 from osmodose.cli.exit_codes import INVALID, OK
 from osmodose.errors import FormularyError
 from osmodose.formulary import demo_formulary_path, load_formulary
@@ -24,7 +25,6 @@ from osmodose.formulary.schema import formulary_schema
 from osmodose.formulary.summary import AGENT_COLUMNS, LIMIT_COLUMNS, agent_cells, agent_rows, limit_cells, limit_rows
 from osmodose.formulary.template import formulary_template
 from osmodose.formulary.validate import validate_formulary
-from osmodose.results import CAUTION
 
 #: The agents table is printed as two tables keyed by id, to fit a terminal.
 _FIGURE_COLUMNS = ("id", "concentration", "Na mmol/L", "Na mmol/mL", "mOsm/L", "g/mL", "route")

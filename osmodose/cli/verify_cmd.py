@@ -67,7 +67,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from osmodose.inputs import parse_check_request  # noqa: PLC0415 (kept out of start-up)
+    from osmodose.case.inputs import parse_check_request  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify.order import ORDER_FIELDS  # noqa: PLC0415 (kept out of start-up)
 

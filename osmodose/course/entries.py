@@ -1,6 +1,6 @@
 """Typed text to episode entries, shared by the command line and the app.
 
-Lab values go through `osmodose.inputs.parse_check_request`, so a lab typed
+Lab values go through `osmodose.case.inputs.parse_check_request`, so a lab typed
 into a course is read exactly as the same lab typed into a check: default
 units, mg/dL converted with the molar masses, BUN or urea, plausibility.
 
@@ -15,12 +15,12 @@ from __future__ import annotations
 from collections.abc import Mapping
 from datetime import datetime
 
+from osmodose.case.inputs import parse_check_request
 from osmodose.course.episode import DoseEntry, Episode, EpisodePatient, LabEntry, ReadingEntry
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import parse_check_request
-from osmodose.ranges import check_plausible
-from osmodose.units import parse_quantity
+from osmodose.science.ranges import check_plausible
+from osmodose.science.units import parse_quantity
 
 TIME_ACCEPTED = "ISO 8601 such as 2026-12-01T08:30+00:00 (no offset = this computer's local time), or now"
 LAB_FIELDS = ("sodium", "potassium", "glucose", "urea", "bun", "osmolality")

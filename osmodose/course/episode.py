@@ -20,9 +20,9 @@ from typing import Annotated, Literal
 
 from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field
 
-from osmodose.formulas import cerebral_perfusion_pressure
-from osmodose.ranges import PLAUSIBLE
-from osmodose.units import Q_
+from osmodose.science.formulas import cerebral_perfusion_pressure
+from osmodose.science.ranges import PLAUSIBLE
+from osmodose.science.units import Q_
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
 FORMAT_VERSION = 2

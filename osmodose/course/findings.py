@@ -3,7 +3,7 @@
 Each rule reads whole columns of the timeline and reports its worst instance
 (the largest rise, the highest sodium, the lowest CPP), naming its time, with
 how many entries crossed the limit.  Limits are judged as in a check, by
-`osmodose.rules.threshold` (see `course.judging`): a figure strictly above
+`osmodose.check.rules.threshold` (see `course.judging`): a figure strictly above
 (or, for CPP, strictly below) the limit fires, and one within rounding of the
 limit is at it.  Every default and its source is in
 `osmodose.formulary.limits`; ICP 22 mmHg and CPP 60 mmHg come from the Brain

@@ -1,6 +1,6 @@
 """How a course figure is judged against a limit, shared by every course rule.
 
-Every comparison goes through `osmodose.rules.threshold`, the one a check
+Every comparison goes through `osmodose.check.rules.threshold`, the one a check
 uses, so a figure within rounding of a limit (1e-9 relative) is at the limit
 in a course review exactly as in `osmodose check`.  A figure that cannot be
 computed (NaN) and a limit the unit does not set (None) never fire.
@@ -12,8 +12,8 @@ from datetime import datetime
 
 import numpy as np
 
-from osmodose.results import Finding
-from osmodose.rules import SEVERITY_NAMES, threshold
+from osmodose.check.results import Finding
+from osmodose.check.rules import SEVERITY_NAMES, threshold
 
 
 class CourseFinding(Finding):

@@ -27,7 +27,9 @@ from datetime import datetime
 
 import numpy as np
 
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.results import CheckResult
+from osmodose.check.run import run_check
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
@@ -37,8 +39,6 @@ from osmodose.course.projection import Projection, episode_tbw_l, project_now, t
 from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, build_timeline, latest_lab_at
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import parse_check_request
-from osmodose.results import CheckResult
 
 STALE_OSMOLALITY_NOTE = (
     "The check's osmolality figures use the latest lab's glucose and urea with the projected sodium; "

@@ -19,12 +19,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from osmodose.check.results import CheckResult
 from osmodose.course.episode import LabEntry
 from osmodose.course.judging import CourseFinding, limit_crossed, severity_of, when
 from osmodose.course.projection import Projection
 from osmodose.course.timeline import Timeline
 from osmodose.formulary.model import Formulary
-from osmodose.results import CheckResult
 
 #: Each mmol/L of sodium counts twice in the calculated osmolality (2 Na + glucose + urea).
 OSMOLES_PER_SODIUM = 2.0

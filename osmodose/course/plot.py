@@ -12,9 +12,9 @@ from __future__ import annotations
 from datetime import timedelta
 from pathlib import Path
 
+from osmodose.check.results import CAUTION
 from osmodose.course.series import CourseSeries
 from osmodose.errors import InputError
-from osmodose.results import CAUTION
 
 FORMATS = {".png": "png", ".svg": "svg"}
 

@@ -21,14 +21,14 @@ from datetime import datetime
 
 import numpy as np
 
-from osmodose import formulas as f
-from osmodose.check import cases_from_request
+from osmodose.case.inputs import CheckRequest, Labs, Patient
+from osmodose.check.engine import total_body_water
+from osmodose.check.run import cases_from_request
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.timeline import DoseColumns, Timeline, latest_lab_at
-from osmodose.engine import total_body_water
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import CheckRequest, Labs, Patient
-from osmodose.units import Q_
+from osmodose.science import formulas as f
+from osmodose.science.units import Q_
 
 SKIPPED_NOTE = (
     "{n} mannitol dose{s} since the latest lab: not in the sodium projection "

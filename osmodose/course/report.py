@@ -13,6 +13,8 @@ from typing import Any
 
 import numpy as np
 
+from osmodose.check.report import STATUS_MARK, STATUS_WORDS, render_text
+from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.course.episode import Episode
 from osmodose.course.findings import CourseFinding, course_findings, when
 from osmodose.course.plan import Plan
@@ -20,8 +22,6 @@ from osmodose.course.projection import ProjectedPath, Projection, episode_tbw_l,
 from osmodose.course.projection import tbw_method as method_of
 from osmodose.course.timeline import Timeline, build_timeline
 from osmodose.formulary.model import Formulary
-from osmodose.report import STATUS_MARK, STATUS_WORDS, render_text
-from osmodose.results import CAUTION, FormularyRef
 
 #: A review looks back over doses already given, so its words differ from a check's.
 COURSE_STATUS_WORDS = {

@@ -21,11 +21,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from osmodose.check.rules import SEVERITY_NAMES
 from osmodose.course.judging import CourseFinding, limit_crossed, severities, severity_of, when, worst
 from osmodose.course.projection import Projection
 from osmodose.course.timeline import LOOKBACK_H, SECONDS_PER_HOUR, WINDOW_H, Timeline, latest_lab_at, lookback
 from osmodose.formulary.model import Limits
-from osmodose.rules import SEVERITY_NAMES
 
 HIGH_RISK_WORDS = (
     "high risk of osmotic demyelination: sodium 105 mmol/L or below, or potassium below 3.5 mmol/L, within 48 h"

@@ -25,8 +25,8 @@ from pydantic import ValidationError
 
 from osmodose.course.episode import FORMAT_VERSION, Episode
 from osmodose.course.migrations import MIGRATIONS, MigrationError, migrate
-from osmodose.durable import fsync_directory
 from osmodose.errors import EpisodeFileError
+from osmodose.storage.durable import fsync_directory
 
 UNCHANGED = "the file was not changed"
 

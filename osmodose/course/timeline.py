@@ -16,12 +16,12 @@ from datetime import datetime
 
 import numpy as np
 
-from osmodose import formulas as f
+from osmodose.check.engine import AgentColumns
 from osmodose.course.episode import Episode
-from osmodose.engine import AgentColumns
 from osmodose.formulary.model import Formulary
-from osmodose.formulas import cerebral_perfusion_pressure
-from osmodose.units import Q_
+from osmodose.science import formulas as f
+from osmodose.science.formulas import cerebral_perfusion_pressure
+from osmodose.science.units import Q_
 
 WINDOW_H = 24.0
 #: How far back a rise looks for the low sodium that makes the 24 h rise limits apply, and for

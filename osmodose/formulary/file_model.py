@@ -13,7 +13,7 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from osmodose.chemistry import SoluteName
+from osmodose.science.chemistry import SoluteName
 
 _STRICT = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 

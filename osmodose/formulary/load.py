@@ -17,15 +17,15 @@ from typing import Any
 
 from pydantic import ValidationError
 
-from osmodose.chemistry import SOLUTES
 from osmodose.errors import FormularyError, FormularyProblems, InputError
 from osmodose.formulary.file_errors import describe, key_path, salvage
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseLimit, Formulary, Limits
-from osmodose.ranges import SOLUTE_STRENGTH
-from osmodose.units import is_per_mass, parse_quantity, ureg
+from osmodose.science.chemistry import SOLUTES
+from osmodose.science.ranges import SOLUTE_STRENGTH
+from osmodose.science.units import is_per_mass, parse_quantity, ureg
 
 #: An explicit sodium or osmolarity may differ from the one derived from the
 #: concentration by this fraction (label rounding) before the file is rejected.

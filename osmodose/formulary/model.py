@@ -11,10 +11,10 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict
 
-from osmodose.chemistry import SOLUTES, SoluteName
 from osmodose.errors import InputError
 from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.limits import LIMIT_SPECS
+from osmodose.science.chemistry import SOLUTES, SoluteName
 
 _FROZEN = ConfigDict(frozen=True)
 

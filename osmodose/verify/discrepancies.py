@@ -28,12 +28,12 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.check.presentations import matches_presentation
+from osmodose.check.results import CheckResult, DoseFigures, Severity
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Limits
-from osmodose.formulas import infusion_rate
-from osmodose.presentations import matches_presentation
-from osmodose.results import CheckResult, DoseFigures, Severity
-from osmodose.units import Q_
+from osmodose.science.formulas import infusion_rate
+from osmodose.science.units import Q_
 from osmodose.verify.order import Order
 
 #: A stated figure this many times off (or this fraction of) the recomputed one is refused.

@@ -29,8 +29,8 @@ from pathlib import Path
 
 from pydantic import BaseModel, ConfigDict, ValidationError
 
-from osmodose.durable import fsync_directory
 from osmodose.errors import LogError
+from osmodose.storage.durable import fsync_directory
 from osmodose.verify.record import VerificationRecord
 
 try:  # POSIX; elsewhere a second concurrent writer is not excluded.

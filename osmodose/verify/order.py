@@ -11,10 +11,10 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict, Field
 
+from osmodose.case.inputs import DoseUnit, Line, parse_dose
 from osmodose.errors import InputError
-from osmodose.inputs import DoseUnit, Line, parse_dose
-from osmodose.ranges import PLAUSIBLE, check_plausible
-from osmodose.units import Q_, parse_quantity
+from osmodose.science.ranges import PLAUSIBLE, check_plausible
+from osmodose.science.units import Q_, parse_quantity
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 

@@ -19,11 +19,11 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict
 
 from osmodose import __version__
-from osmodose.check import run_check
+from osmodose.case.inputs import CheckRequest, DoseRequest
+from osmodose.check.report import render_text as render_check
+from osmodose.check.results import CAUTION, CheckResult, FormularyRef
+from osmodose.check.run import run_check
 from osmodose.formulary.model import Formulary
-from osmodose.inputs import CheckRequest, DoseRequest
-from osmodose.report import render_text as render_check
-from osmodose.results import CAUTION, CheckResult, FormularyRef
 from osmodose.verify.decision import Acceptance, Decision, Outcome, decide, parse_initials
 from osmodose.verify.discrepancies import Discrepancy, find_discrepancies
 from osmodose.verify.order import Order

@@ -15,11 +15,11 @@ from osmodose.app.screens.help import HelpScreen
 from osmodose.app.screens.main import MainScreen
 from osmodose.app.screens.save import SaveScreen
 from osmodose.app.view import DOSE_FIGURES, PATIENT_FIGURES
-from osmodose.check import run_check
+from osmodose.case.inputs import parse_check_request
+from osmodose.check.report import render_text
+from osmodose.check.run import run_check
 from osmodose.formulary import Formulary
 from osmodose.formulary.summary import agent_rows, limit_rows
-from osmodose.inputs import parse_check_request
-from osmodose.report import render_text
 from tests.app.driving import MANNITOL, MANNITOL_ARGS, fill, main_screen, make_app, sync
 
 SIZE = (80, 24)

@@ -68,7 +68,7 @@ def test_no_formulary_opens_the_app_on_the_demo(never_run: list[str], capsys: py
 
 def test_engine_and_command_line_do_not_import_textual() -> None:
     code = (
-        "import sys, osmodose.check, osmodose.engine, osmodose.report, osmodose.formulary.summary, "
+        "import sys, osmodose.check.run, osmodose.check.engine, osmodose.check.report, osmodose.formulary.summary, "
         "osmodose.cli.main, osmodose.app.launch, osmodose.app.view\n"
         "from osmodose.cli.main import build_parser\n"
         "build_parser()\n"

@@ -20,8 +20,8 @@ from osmodose.app.verify_view import (
     patient_fields,
     patient_summary,
 )
+from osmodose.case.inputs import parse_check_request
 from osmodose.formulary import Formulary
-from osmodose.inputs import parse_check_request
 from osmodose.verify import make_acceptance, parse_order, verify_order
 from osmodose.verify.order import ORDER_FIELDS
 from tests.app.driving import PERIPHERAL_SALINE, TEN_FOLD_MANNITOL, VEIN_REASON, VERIFY_PATIENT

@@ -38,9 +38,9 @@ from osmodose.app.plot_view import pressure_panel, sodium_panel
 from osmodose.app.screens.entry import EntryScreen
 from osmodose.app.widgets.course_plot import CoursePlot, PlotLegend
 from osmodose.app.widgets.formulary_bar import formulary_line
+from osmodose.check.results import CAUTION
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
-from osmodose.results import CAUTION
 
 TIMELINE_COLUMNS = ("time", "entry", "details")
 _STYLE = {"ok": "bold $text-success", "warn": "bold $text-warning", "refuse": "bold $text-error"}

@@ -12,8 +12,8 @@ from textual.widgets import Footer, Label, Static
 
 from osmodose.app.help_text import FIGURE_HELP, FORM_KEYS
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.check.results import CAUTION
 from osmodose.formulary.model import Formulary
-from osmodose.results import CAUTION
 
 
 def key_rows(key_lists: list[list[BindingType]]) -> list[tuple[str, str]]:

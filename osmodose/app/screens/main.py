@@ -18,9 +18,9 @@ from osmodose.app.widgets.findings import ChecksPanel, NotesPanel
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.app.widgets.status_banner import StatusBanner
+from osmodose.check.report import render_text
+from osmodose.check.results import CAUTION
 from osmodose.formulary.model import Formulary
-from osmodose.report import render_text
-from osmodose.results import CAUTION
 
 PANELS = ("patient", "labs", "order")
 

@@ -41,9 +41,9 @@ from osmodose.app.widgets.figures import FigurePanel
 from osmodose.app.widgets.findings import ChecksPanel
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.check.results import CAUTION
 from osmodose.errors import LogError
 from osmodose.formulary.model import Formulary
-from osmodose.results import CAUTION
 from osmodose.verify import append_record, log_path
 
 STATES = ("ok", "warn", "refuse", "invalid", "incomplete")

@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 
-from osmodose.results import PresentationFit
+from osmodose.check.results import PresentationFit
 
 #: A volume this close above a whole number of containers still counts as that
 #: number (0.5 mL: below what a bag is graduated in).

@@ -14,10 +14,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from osmodose import formulas as f
 from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.model import Agent
-from osmodose.units import Q_, Quantity
+from osmodose.science import formulas as f
+from osmodose.science.units import Q_, Quantity
 
 #: Codes of the dose units in `Cases.dose_unit`.
 DOSE_UNITS: tuple[str, ...] = ("", "g", "mL", "mmol", "mOsm", "mmol/L")

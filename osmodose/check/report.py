@@ -6,7 +6,7 @@ printout say the same thing in the same words.
 
 from __future__ import annotations
 
-from osmodose.results import CheckResult
+from osmodose.check.results import CheckResult
 
 STATUS_MARK = {"ok": "[OK]", "warn": "[WARN]", "refuse": "[REFUSE]"}
 STATUS_WORDS = {

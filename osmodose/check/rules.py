@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from osmodose.engine import Cases, Figures
+from osmodose.check.engine import Cases, Figures
 from osmodose.formulary.model import Agent, Limits
 
 NONE, WARN, REFUSE = 0, 1, 2

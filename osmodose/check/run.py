@@ -12,21 +12,21 @@ import math
 import numpy as np
 
 from osmodose import __version__
-from osmodose.engine import Cases, Figures, compute
-from osmodose.errors import InputError
-from osmodose.formulary.model import Agent, Formulary, Limits
-from osmodose.inputs import CheckRequest, DoseRequest, Patient
-from osmodose.presentations import fit_presentations
-from osmodose.ranges import PLAUSIBLE
-from osmodose.results import (
+from osmodose.case.inputs import CheckRequest, DoseRequest, Patient
+from osmodose.check.engine import Cases, Figures, compute
+from osmodose.check.presentations import fit_presentations
+from osmodose.check.results import (
     CheckResult,
     DoseFigures,
     Finding,
     FormularyRef,
     PatientFigures,
 )
-from osmodose.rules import HIGH_RISK_POTASSIUM, HIGH_RISK_SODIUM, SEVERITY_NAMES, evaluate
-from osmodose.units import Q_
+from osmodose.check.rules import HIGH_RISK_POTASSIUM, HIGH_RISK_SODIUM, SEVERITY_NAMES, evaluate
+from osmodose.errors import InputError
+from osmodose.formulary.model import Agent, Formulary, Limits
+from osmodose.science.ranges import PLAUSIBLE
+from osmodose.science.units import Q_
 
 MANNITOL_NOTE = (
     "No sodium projection for mannitol: it carries no sodium and stays extracellular "

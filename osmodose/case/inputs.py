@@ -13,10 +13,10 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from osmodose.chemistry import molar_mass
 from osmodose.errors import InputError
-from osmodose.ranges import check_plausible
-from osmodose.units import Q_, Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
+from osmodose.science.chemistry import molar_mass
+from osmodose.science.ranges import check_plausible
+from osmodose.science.units import Q_, Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
-from osmodose.units import Q_, Quantity
+from osmodose.science.units import Q_, Quantity
 
 MOLAR_MASS_SOURCE = "IUPAC/CIAAW conventional atomic weights"
 

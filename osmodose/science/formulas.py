@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike
 
-from osmodose.units import Q_, Quantity
+from osmodose.science.units import Q_, Quantity
 
 #: Serum sodium counts twice: each Na+ brings an anion (Cl-, HCO3-) with it.
 SODIUM_OSMOLES_PER_MOLE = 2.0

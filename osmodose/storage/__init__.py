@@ -1,0 +1,1 @@
+"""Storage: durable, atomic writes for every file osmodose keeps or produces."""
