@@ -44,7 +44,7 @@ from osmodose.audit.run import run_audit  # noqa: E402
 from osmodose.audit.summary import Summary  # noqa: E402
 from osmodose.case.inputs import parse_check_request  # noqa: E402
 from osmodose.check.engine import compute  # noqa: E402
-from osmodose.check.rules import evaluate  # noqa: E402
+from osmodose.check.rules import apply_rules  # noqa: E402
 from osmodose.check.run import run_check  # noqa: E402
 from osmodose.errors import InputError  # noqa: E402
 from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
@@ -306,7 +306,7 @@ def measure(orders: Path, n: int, check_sample: int) -> dict[str, float]:
 
             def engine() -> list:
                 figures = compute(whole_cases, formulary.agents, formulary.settings)
-                return [figures, evaluate(whole_cases, figures, formulary.agents, formulary.limits, line)]
+                return [figures, apply_rules(whole_cases, figures, formulary.agents, formulary.limits, line)]
 
             best_engine = min(_timed(engine))
             figures, outcomes = engine()

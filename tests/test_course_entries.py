@@ -7,7 +7,7 @@ from datetime import UTC, datetime, timedelta, timezone
 
 import pytest
 
-from osmodose.course.entries import parse_dose, parse_lab, parse_patient, parse_reading, parse_time
+from osmodose.course.entries import parse_dose_entry, parse_lab, parse_patient, parse_reading, parse_time
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
 from tests.course_build import episode
@@ -60,9 +60,7 @@ def test_an_unreadable_time_names_the_accepted_forms() -> None:
 
 
 def test_labs_typed_with_units_are_read_as_a_check_reads_them() -> None:
-    entry = parse_lab(
-        episode(), {"time": "2026-12-01T08:00Z", "sodium": "131 mEq/L", "glucose": "108 mg/dL", "bun": "14"}
-    )
+    entry = parse_lab({"time": "2026-12-01T08:00Z", "sodium": "131 mEq/L", "glucose": "108 mg/dL", "bun": "14"})
     # Glucose 108 mg/dL / 180.16 g/mol = 5.995 mmol/L; BUN 14 mg/dL / 28.01 g/mol (N2) = 4.998 mmol/L urea.
     assert entry.sodium_mmol_l == 131.0
     assert entry.glucose_mmol_l == pytest.approx(5.995, abs=1e-3)
@@ -72,24 +70,26 @@ def test_labs_typed_with_units_are_read_as_a_check_reads_them() -> None:
 
 def test_a_lab_needs_sodium() -> None:
     with pytest.raises(InputError) as caught:
-        parse_lab(episode(), {"time": "2026-12-01T08:00Z", "glucose": "6"})
+        parse_lab({"time": "2026-12-01T08:00Z", "glucose": "6"})
     assert str(caught.value) == "sodium: is required"
 
 
 def test_an_implausible_lab_is_rejected_with_the_checks_words() -> None:
     with pytest.raises(InputError) as caught:
-        parse_lab(episode(), {"time": "2026-12-01T08:00Z", "sodium": "1400"})
+        parse_lab({"time": "2026-12-01T08:00Z", "sodium": "1400"})
     assert str(caught.value) == "sodium: 1400 is outside the plausible range (accepted: 90 to 200 mmol/L)"
 
 
 def test_a_dose_is_read_in_ml_and_minutes(demo: Formulary) -> None:
-    entry = parse_dose(demo, {"time": "2026-12-01T08:00Z", "agent": "nacl-3", "volume": "0.25 L", "duration": "1h"})
+    entry = parse_dose_entry(
+        demo, {"time": "2026-12-01T08:00Z", "agent": "nacl-3", "volume": "0.25 L", "duration": "1h"}
+    )
     assert (entry.agent_id, entry.volume_ml, entry.duration_min) == ("nacl-3", 250.0, 60.0)
 
 
 def test_a_dose_of_an_unknown_agent_lists_the_formularys_agents(demo: Formulary) -> None:
     with pytest.raises(InputError) as caught:
-        parse_dose(demo, {"time": "2026-12-01T08:00Z", "agent": "nacl-5", "volume": "100"})
+        parse_dose_entry(demo, {"time": "2026-12-01T08:00Z", "agent": "nacl-5", "volume": "100"})
     assert str(caught.value) == (
         "agent: nacl-5 is not an agent of this formulary (accepted: one of: nacl-0.9, nacl-3, nacl-7.5, nacl-23.4, "
         "mannitol-20, bicarb-8.4, glucose-5, lactated-ringers)"
@@ -113,3 +113,20 @@ def test_the_watson_method_needs_a_height() -> None:
     with pytest.raises(InputError) as caught:
         parse_patient({"weight": "70", "age": "45", "sex": "male", "tbw-method": "watson"})
     assert str(caught.value) == "height: is required for the Watson formula (accepted: a height in cm, or fraction)"
+
+
+def test_ethanol_is_kept_with_the_labs_and_counts_in_the_course_osmolality(demo: Formulary) -> None:
+    # A course lab takes --ethanol as a check does: 92 mg/dL / 46.07 g/mol = 19.97 mmol/L (molar
+    # factor, Nguyen MK et al. Front Med 2020), so the timeline's calculated osmolality is
+    # 2 x 140 + 5 + 5 + 19.97 = 309.97 mOsm/kg, the figure `check` gives for the same labs.
+    from osmodose.case.inputs import parse_check_request
+    from osmodose.check.run import run_check
+    from osmodose.course.timeline import build_timeline
+
+    typed = {"sodium": "140", "glucose": "5", "urea": "5", "ethanol": "92 mg/dL"}
+    entry = parse_lab({"time": "2026-12-01T08:00Z", **typed})
+    assert entry.ethanol_mmol_l == pytest.approx(920 / 46.07)
+    timeline = build_timeline(episode().with_entry(entry), demo)
+    check = run_check(parse_check_request({"weight": "70", "age": "45", "sex": "male", **typed}), demo)
+    assert timeline.labs.calculated_osmolality[0] == pytest.approx(280 + 10 + 920 / 46.07)
+    assert timeline.labs.calculated_osmolality[0] == check.calculated_osmolality_mosm_kg

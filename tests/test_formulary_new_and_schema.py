@@ -127,11 +127,13 @@ def test_schema_rejects_a_broken_file(breaks: object, where: list[object], messa
     assert [(list(e.absolute_path), e.message) for e in errors] == [(where, message)]
 
 
-def test_schema_descriptions_are_the_field_docstrings() -> None:
+def test_schema_descriptions_are_the_field_docstrings_and_the_limit_specs() -> None:
     schema = formulary_schema()
     limits = schema["$defs"]["LimitsTable"]["properties"]
     assert limits["sodium_refuse"]["description"] == LimitsTable.model_fields["sodium_refuse"].description
-    assert limits["sodium_refuse"]["description"].startswith("Serum sodium (current or projected) above which")
+    assert limits["sodium_refuse"]["description"] == (
+        "Serum sodium, current or projected, above which an order is refused; default 160 mmol/L."
+    )
     agent = schema["$defs"]["AgentEntry"]
     assert agent["additionalProperties"] is False
     assert agent["properties"]["route"]["description"].startswith('"central" = central line only')

@@ -14,7 +14,6 @@ from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
 from osmodose.science import formulas as f
-from osmodose.science.units import Q_
 
 PROFILE = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 
@@ -33,8 +32,8 @@ def test_projection_is_monotonic_in_volume_and_never_passes_the_infusate(
     na: float, c: float, w: float, v1: float, v2: float
 ) -> None:
     small, large = sorted((v1, v2))
-    first = f.projected_sodium(Q_(na, "mmol/L"), Q_(c, "mmol/L"), Q_(w, "L"), Q_(small, "L")).m_as("mmol/L")
-    second = f.projected_sodium(Q_(na, "mmol/L"), Q_(c, "mmol/L"), Q_(w, "L"), Q_(large, "L")).m_as("mmol/L")
+    first = f.projected_sodium(na, c, w, small)
+    second = f.projected_sodium(na, c, w, large)
     tolerance = 1e-9 * max(na, c)
     if c >= na:
         assert na - tolerance <= first <= second + tolerance
@@ -47,19 +46,19 @@ def test_projection_is_monotonic_in_volume_and_never_passes_the_infusate(
 @PROFILE
 @given(sodium, cations, tbw, volume)
 def test_projection_at_one_litre_is_the_adrogue_madias_change(na: float, c: float, w: float, v: float) -> None:
-    per_litre = f.sodium_change_per_litre(Q_(na, "mmol/L"), Q_(c, "mmol/L"), Q_(w, "L")).m_as("mmol/L")
+    per_litre = f.sodium_change_per_litre(na, c, w)
     assert per_litre == pytest.approx((c - na) / (w + 1), rel=1e-9, abs=1e-9)
 
 
 @PROFILE
 @given(sodium, cations, tbw, st.floats(-30, 30).filter(lambda r: abs(r) > 1e-3))
 def test_the_volume_for_a_change_projects_back_to_that_change(na: float, c: float, w: float, r: float) -> None:
-    v = f.volume_for_sodium_change(Q_(na, "mmol/L"), Q_(c, "mmol/L"), Q_(w, "L"), Q_(r, "mmol/L")).m_as("L")
+    v = f.volume_for_sodium_change(na, c, w, r)
     reachable = (c - na) * r > 0 and abs(c - na) > abs(r)
     assert math.isnan(v) is not reachable
     if reachable:
         assert v > 0
-        back = f.projected_sodium(Q_(na, "mmol/L"), Q_(c, "mmol/L"), Q_(w, "L"), Q_(v, "L")).m_as("mmol/L")
+        back = f.projected_sodium(na, c, w, v)
         assert back - na == pytest.approx(r, rel=1e-6, abs=1e-9)
 
 

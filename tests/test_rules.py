@@ -416,9 +416,9 @@ def test_rules_over_a_batch_give_each_row_the_findings_of_its_own_check(demo: Fo
     import numpy as np
 
     from osmodose.check.engine import Cases, compute
-    from osmodose.check.rules import REFUSE, WARN, evaluate
+    from osmodose.check.judging import REFUSE, WARN
+    from osmodose.check.rules import apply_rules
     from osmodose.check.run import cases_from_request
-    from osmodose.science.units import Q_
 
     requests = [parse_check_request({**MAN, **row}) for row in BATCH]
     singles = [
@@ -427,13 +427,13 @@ def test_rules_over_a_batch_give_each_row_the_findings_of_its_own_check(demo: Fo
 
     def column(name: str) -> object:
         values = [getattr(case, name) for case in singles]
-        if hasattr(values[0], "units"):
-            return Q_(np.concatenate([v.m_as(values[0].units) for v in values]), values[0].units)
+        if isinstance(values[0], dict):
+            return {key: np.concatenate([v[key] for v in values]) for key in values[0]}
         return np.concatenate(values)
 
     batch = Cases(**{name: column(name) for name in Cases.__dataclass_fields__})
     figures = compute(batch, demo.agents, demo.settings)
-    outcomes = evaluate(batch, figures, demo.agents, demo.limits, np.array([r.line or "" for r in requests]))
+    outcomes = apply_rules(batch, figures, demo.agents, demo.limits, np.array([r.line or "" for r in requests]))
     severity = {WARN: "warn", REFUSE: "refuse"}
     for row, request in enumerate(requests):
         in_batch = sorted((o.code, severity[int(o.severity[row])]) for o in outcomes if o.severity[row] > 0)

@@ -15,8 +15,10 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
-from osmodose.app.view import SYMBOL, FieldSpec
-from osmodose.course.entries import parse_dose, parse_lab, parse_reading
+from osmodose.app.view import SYMBOL, FieldSpec, spec_of
+from osmodose.case.fields import FIELDS as CASE_FIELDS
+from osmodose.case.fields import LAB_KEYS
+from osmodose.course.entries import parse_dose_entry, parse_lab, parse_reading
 from osmodose.course.episode import DoseEntry, Episode, LabEntry, ReadingEntry
 from osmodose.course.plan import plan_dose
 from osmodose.course.report import (
@@ -35,31 +37,22 @@ from osmodose.formulary.model import Formulary
 
 EntryKind = Literal["lab", "dose", "reading"]
 
-TIME_HINT = "2026-12-01T08:30+00:00, or now"
-_TIME = FieldSpec("time", "time", "lab", TIME_HINT)
-LINE_CHOICES = (("central", "central"), ("peripheral", "peripheral"))
+TIME_HINT = CASE_FIELDS["time"].hint
+_TIME = spec_of("time", "lab")
 
 #: The fields of each entry form, with the same keys as the command line's options.
 ENTRY_FIELDS: dict[EntryKind, tuple[FieldSpec, ...]] = {
-    "lab": (
-        _TIME,
-        FieldSpec("sodium", "sodium", "lab", "mmol/L (required)"),
-        FieldSpec("potassium", "potassium", "lab", "mmol/L"),
-        FieldSpec("glucose", "glucose", "lab", "mmol/L or mg/dL"),
-        FieldSpec("urea", "urea", "lab", "mmol/L"),
-        FieldSpec("bun", "or BUN", "lab", "mg/dL"),
-        FieldSpec("osmolality", "osmolality", "lab", "measured, mOsm/kg"),
-    ),
+    "lab": (_TIME, *(spec_of(key, "lab") for key in LAB_KEYS)),
     "dose": (
-        FieldSpec("time", "start", "dose", TIME_HINT),
-        FieldSpec("agent", "agent", "dose", blank="choose"),
-        FieldSpec("volume", "volume", "dose", "mL, or 0.25 L"),
-        FieldSpec("duration", "duration", "dose", "min, or 2 h"),
+        spec_of("time", "dose", label="start"),
+        spec_of("agent", "dose", blank="choose"),
+        spec_of("volume", "dose"),
+        spec_of("duration", "dose"),
     ),
     "reading": (
         _TIME,
-        FieldSpec("map", "MAP", "reading", "mmHg, or 12 kPa"),
-        FieldSpec("icp", "ICP", "reading", "mmHg (CPP = MAP - ICP)"),
+        spec_of("map", "reading", hint="mmHg, or 12 kPa"),
+        spec_of("icp", "reading", hint="mmHg (CPP = MAP - ICP)"),
     ),
 }
 ENTRY_TITLES: dict[EntryKind, str] = {
@@ -68,12 +61,13 @@ ENTRY_TITLES: dict[EntryKind, str] = {
     "reading": "add a bedside reading (CPP is computed, never typed)",
 }
 PLAN_FIELDS: tuple[FieldSpec, ...] = (
-    FieldSpec("agent", "agent", "plan", blank="choose"),
-    FieldSpec("volume", "volume", "plan", "mL, or 0.25 L"),
-    FieldSpec("dose", "or dose", "plan", "1 g/kg, or 50 g"),
-    FieldSpec("duration", "duration", "plan", "min, or 2 h"),
-    FieldSpec("line", "line", "plan", choices=LINE_CHOICES, blank="not stated"),
-    FieldSpec("time", "at", "plan", "blank = now; " + TIME_HINT),
+    spec_of("agent", "plan", blank="choose"),
+    spec_of("volume", "plan"),
+    spec_of("dose", "plan", label="or dose", hint="1 g/kg, or 50 g"),
+    spec_of("target-rise", "plan", label="or Na change"),
+    spec_of("duration", "plan"),
+    spec_of("line", "plan"),
+    spec_of("time", "plan", label="at", hint="blank = now; " + TIME_HINT),
 )
 
 
@@ -127,9 +121,9 @@ def parse_entry(
 ) -> LabEntry | DoseEntry | ReadingEntry:
     """Typed form text to an entry, by the command line's own parsers (InputError names the field)."""
     if kind == "lab":
-        return parse_lab(episode, values)
+        return parse_lab(values)
     if kind == "dose":
-        return parse_dose(formulary, values)
+        return parse_dose_entry(formulary, values)
     return parse_reading(values)
 
 

@@ -21,14 +21,14 @@ from dataclasses import dataclass, field
 from datetime import datetime
 from typing import NamedTuple
 
-from osmodose.app.view import FIELDS, SYMBOL, FieldSpec
+from osmodose.app.view import FIELDS, SYMBOL, FieldSpec, spec_of
+from osmodose.case.fields import WRITTEN_ORDER_KEYS
 from osmodose.case.inputs import parse_check_request
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.verify import VerificationRecord, make_acceptance, parse_initials, parse_order, verify_order
 from osmodose.verify.decision import MIN_REASON_LENGTH, NOT_ACCEPTABLE
 from osmodose.verify.discrepancies import Discrepancy
-from osmodose.verify.order import ORDER_FIELDS
 
 #: Keys of the check screen's form that belong to its own order, not to the patient or the labs.
 CHECK_ORDER_KEYS = frozenset(spec.key for spec in FIELDS if spec.panel == "order")
@@ -39,18 +39,17 @@ PREVIEW_INITIALS = "XX"
 #: Prefix of the key of a warning's reason box: "reason:<code>".
 REASON = "reason:"
 
-_LINES = (("central", "central"), ("peripheral", "peripheral"))
 ORDER_SPECS: tuple[FieldSpec, ...] = (
-    FieldSpec("agent", "agent", "order", blank="choose"),
-    FieldSpec("volume", "volume", "order", "mL, or 0.35 L"),
-    FieldSpec("duration", "duration", "order", "min, or 2 h"),
-    FieldSpec("rate", "or rate", "order", "mL/h, or 2 mL/min"),
-    FieldSpec("line", "line", "order", choices=_LINES, blank="not stated"),
-    FieldSpec("stated-dose", "stated dose", "order", "1 g/kg, 70 g, 120 mmol"),
-    FieldSpec("stated-sodium", "stated Na", "order", "expected, mmol/L"),
+    spec_of("agent", blank="choose"),
+    spec_of("volume", hint="mL, or 0.35 L"),
+    spec_of("duration"),
+    spec_of("rate", "order", label="or rate", hint="mL/h, or 2 mL/min"),
+    spec_of("line"),
+    spec_of("stated-dose", "order", hint="1 g/kg, 70 g, 120 mmol"),
+    spec_of("stated-sodium", "order", label="stated Na", hint="expected, mmol/L"),
 )
 INITIALS_SPEC = FieldSpec("initials", "initials", "verifier", "e.g. AB")
-assert {spec.key for spec in ORDER_SPECS} == set(ORDER_FIELDS)
+assert {spec.key for spec in ORDER_SPECS} == set(WRITTEN_ORDER_KEYS)
 
 #: The decision line: symbol, word and CSS state (ok/warn/refuse colours), so it reads without colour too.
 DECISION_SHOWN: dict[str, tuple[str, str, str]] = {

@@ -8,9 +8,12 @@ summary round alike.  Nothing here computes a clinical figure.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Literal
 
+from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
+from osmodose.case.fields import FIELDS as CASE_FIELDS
+from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
 from osmodose.check.report import fmt, signed, status_words
 from osmodose.check.results import CheckResult
@@ -23,16 +26,11 @@ Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading"
 #: The order field whose meaning is chosen by the dose-mode select.
 AMOUNT = "amount"
 DOSE_MODE = "dose-mode"
-DOSE_MODES: tuple[tuple[str, DoseMode], ...] = (
-    ("dose", "dose"),
-    ("volume", "volume"),
-    ("target Na change", "target-rise"),
+DOSE_MODES: tuple[tuple[str, DoseMode], ...] = tuple(
+    (DOSE_CHOICE.label(mode), mode)
+    for mode in DOSE_CHOICE.values  # type: ignore[misc]
 )
-AMOUNT_HINT: dict[str, str] = {
-    "dose": "1 g/kg, 5 mL/kg, 50 g",
-    "volume": "mL, or 0.25 L",
-    "target-rise": "mmol/L, e.g. 6 or -4",
-}
+AMOUNT_HINT: dict[str, str] = {mode: CASE_FIELDS[mode].hint for mode in DOSE_CHOICE.values}
 
 #: Banner symbols: each status has its own word, colour and symbol.
 SYMBOL = {"ok": "✔", "warn": "▲", "refuse": "✖", "invalid": "?", "incomplete": "…"}
@@ -52,32 +50,21 @@ class FieldSpec:
     """For a select that may stay empty: what the empty choice says."""
 
 
+def spec_of(key: str, panel: Panel | None = None, **override: str) -> FieldSpec:
+    """The form box of a field of the field table (`osmodose.case.fields`), its words overridable."""
+    field = CASE_FIELDS[key]
+    choices = tuple((field.choice.label(v), v) for v in field.choice.values) if field.choice else ()
+    spec = FieldSpec(key, field.label, panel or field.group, field.hint, choices, field.empty)  # type: ignore[arg-type]
+    return replace(spec, **override) if override else spec
+
+
 FIELDS: tuple[FieldSpec, ...] = (
-    FieldSpec("weight", "weight", "patient", "kg, or 176 lb"),
-    FieldSpec("age", "age", "patient", "years"),
-    FieldSpec("sex", "sex", "patient", choices=(("female", "female"), ("male", "male")), blank="choose"),
-    FieldSpec("height", "height", "patient", "cm (for Watson)"),
-    FieldSpec(
-        "tbw-method",
-        "TBW method",
-        "patient",
-        choices=(("fraction of weight", "fraction"), ("Watson", "watson")),
-        blank="default",
-    ),
-    FieldSpec("sodium", "sodium", "labs", "mmol/L"),
-    FieldSpec("potassium", "potassium", "labs", "mmol/L"),
-    FieldSpec("glucose", "glucose", "labs", "mmol/L or mg/dL"),
-    FieldSpec("urea", "urea", "labs", "mmol/L"),
-    FieldSpec("bun", "or BUN", "labs", "mg/dL"),
-    FieldSpec("ethanol", "ethanol", "labs", "mmol/L or mg/dL"),
-    FieldSpec("osmolality", "osmolality", "labs", "measured, mOsm/kg"),
-    FieldSpec("agent", "agent", "order", blank="no order"),
-    FieldSpec(DOSE_MODE, "asked as", "order", choices=tuple((shown, value) for shown, value in DOSE_MODES)),
+    *(spec_of(key) for key in keys("patient", "labs")),
+    spec_of("agent"),
+    FieldSpec(DOSE_MODE, "asked as", "order", choices=DOSE_MODES),
     FieldSpec(AMOUNT, "amount", "order", AMOUNT_HINT["dose"]),
-    FieldSpec("duration", "duration", "order", "min, or 2 h"),
-    FieldSpec(
-        "line", "line", "order", choices=(("central", "central"), ("peripheral", "peripheral")), blank="not stated"
-    ),
+    spec_of("duration"),
+    spec_of("line"),
 )
 
 

@@ -10,14 +10,15 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 import numpy as np
 
-from osmodose.audit.columns import ORDER_COLUMNS, Column, Header
+from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
+from osmodose.case.fields import FIELDS, conversion
 from osmodose.errors import InputError
-from osmodose.science.chemistry import molar_mass
-from osmodose.science.units import Q_, Quantity, parse_quantity
+from osmodose.science.units import parse_quantity
 
 #: Characters float() accepts that a plain number never has ("1_000", "nan", "inf", "Infinity").
 _NOT_PLAIN = ("_", "n", "N", "i", "I")
@@ -35,7 +36,7 @@ class ChunkCells:
 
     def __init__(self, header: Header, raw: RawChunk) -> None:
         self.header, self.raw, self.n = header, raw, len(raw)
-        self._numbers: dict[str, tuple[np.ndarray, np.ndarray, dict[int, str]]] = {}
+        self._numbers: dict[str, Number] = {}
 
     def text(self, name: str) -> np.ndarray:
         cells = self.raw.cells.get(name)
@@ -66,13 +67,13 @@ class ChunkCells:
                 return self.shown(name, row)
         return ""
 
-    def number(self, name: str) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
-        """(canonical values, given, reason of each unreadable cell) of a number column, read once."""
+    def number(self, name: str) -> Number:
+        """A number column read once: engine values, values in the range's unit, given, unreadable cells."""
         if name not in self._numbers:
             self._numbers[name] = self._read_number(name)
         return self._numbers[name]
 
-    def _read_number(self, name: str) -> tuple[np.ndarray, np.ndarray, dict[int, str]]:
+    def _read_number(self, name: str) -> Number:
         """Read a number column.
 
         Plain numbers are read as one array.  Any other cell ("70kg", "1,5",
@@ -80,8 +81,10 @@ class ChunkCells:
         text, so it is accepted, or refused with check's words, the same way.
         """
         column = self.header.get(name)
+        field = FIELDS[name]
         if column is None:
-            return np.full(self.n, np.nan), np.zeros(self.n, dtype=bool), {}
+            nothing = np.full(self.n, np.nan)
+            return Number(nothing, nothing, np.zeros(self.n, dtype=bool), {})
         cells = self.raw.cells[name]
         try:
             # The common case, every cell a number or empty: Python's float() in one pass.
@@ -100,28 +103,35 @@ class ChunkCells:
             values = np.fromiter((_float(t) for t in text.tolist()), dtype=float, count=self.n)
             # float() also reads "1_000", "nan" and "inf", which check does not take for numbers.
             odd = given & (~np.isfinite(values) | (np.strings.find(text, "_") >= 0))
-        values = _canonical(column, Q_(values, column.unit_in_force))
+        unit = column.unit_in_force or field.unit
+        engine = values * conversion(name, unit, field.engine_unit)
+        judged = values * conversion(name, unit, field.unit)
         unreadable: dict[int, str] = {}
-        spec = column.spec
         for i in np.flatnonzero(odd).tolist():
             try:
-                quantity = parse_quantity(name, self.shown(name, i), spec.default_unit or "", spec.accepted)
+                quantity = parse_quantity(name, self.shown(name, i), field.unit, field.examples)
             except InputError as error:
                 unreadable[i] = str(error)
-                values[i] = np.nan
+                engine[i] = judged[i] = np.nan
             else:
-                values[i] = _canonical(column, Q_(np.array([float(quantity.magnitude)]), quantity.units))[0]
-        return values, given, unreadable
+                number, written = float(quantity.magnitude), str(quantity.units)
+                engine[i] = number * conversion(name, written, field.engine_unit)
+                judged[i] = number * conversion(name, written, field.unit)
+        return Number(engine, judged, given, unreadable)
 
 
-def _canonical(column: Column, quantity: Quantity) -> np.ndarray:
-    """A column in the engine's unit, converted as `parse_check_request` converts one value."""
-    spec = column.spec
-    if spec.substance is not None and quantity.check("[mass]/[volume]"):
-        quantity = quantity / molar_mass(spec.substance)
-    if spec.name == "osmolality" and quantity.check("[substance]/[mass]"):
-        quantity = Q_(quantity.m_as("mmol/kg"), "mOsm/kg")  # SI labs write mmol/kg for mOsm/kg
-    return np.array(quantity.m_as(spec.canonical or ""), dtype=float)
+@dataclass(frozen=True)
+class Number:
+    """A number column of a chunk, converted by the factors `osmodose check` uses for the same text.
+
+    `engine` is in the engine's unit, `judged` in the unit its plausible range is
+    written in (they differ for BUN: read into urea mmol/L, judged in mg/dL).
+    """
+
+    engine: np.ndarray
+    judged: np.ndarray
+    given: np.ndarray
+    unreadable: dict[int, str]
 
 
 def _float(text: str) -> float:

@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
+from osmodose.case.fields import FIELDS, CaseField, keys
 from osmodose.case.inputs import parse_dose
 from osmodose.errors import InputError, OrdersFileError
 from osmodose.science.units import parse_quantity
@@ -44,37 +45,27 @@ class ColumnSpec:
     required: bool = False
 
 
-def _number(
-    name: str, unit: str, accepted: tuple[str, ...] = (), canonical: str | None = None, substance: str | None = None
-) -> ColumnSpec:
-    return ColumnSpec(name, "number", unit, accepted or (unit,), canonical or unit, substance)
-
-
-COLUMNS: dict[str, ColumnSpec] = {
-    spec.name: spec
-    for spec in (
-        ColumnSpec("order-id", "text"),
-        ColumnSpec("weight", "number", "kg", ("kg",), "kg", required=True),
-        ColumnSpec("age", "number", "year", ("year",), "year", required=True),
-        ColumnSpec("sex", "text", required=True),
-        _number("height", "cm"),
-        ColumnSpec("sodium", "number", "mmol/L", ("mmol/L",), "mmol/L", required=True),
-        _number("potassium", "mmol/L"),
-        _number("glucose", "mmol/L", ("mmol/L", "mg/dL"), substance="glucose"),
-        _number("urea", "mmol/L", ("mmol/L", "mg/dL"), substance="urea"),
-        _number("bun", "mg/dL", ("mg/dL", "mmol/L"), "mmol/L", substance="urea nitrogen"),
-        _number("ethanol", "mmol/L", ("mmol/L", "mg/dL"), substance="ethanol"),
-        _number("osmolality", "mOsm/kg", ("mOsm/kg", "mmol/kg")),
-        ColumnSpec("agent", "text"),
-        ColumnSpec("dose", "dose"),
-        ColumnSpec("dose-unit", "text"),
-        _number("volume", "mL"),
-        _number("target-rise", "mmol/L"),
-        _number("duration", "min"),
-        ColumnSpec("line", "text"),
-        ColumnSpec("tbw-method", "text"),
+def _column(field: CaseField) -> ColumnSpec:
+    """The column of a field of the field table: same default unit, accepted dimensions and molar mass."""
+    kind: Kind = "number" if field.kind == "quantity" else ("dose" if field.kind == "dose" else "text")
+    if kind != "number":
+        return ColumnSpec(field.key, kind, required=field.required)
+    return ColumnSpec(
+        field.key, kind, field.unit, field.examples, field.engine_unit, field.substance, required=field.required
     )
-}
+
+
+def _columns() -> dict[str, ColumnSpec]:
+    columns = {"order-id": ColumnSpec("order-id", "text")}
+    for key in keys("patient", "labs", "order"):
+        columns[key] = _column(FIELDS[key])
+        if key == "dose":
+            columns["dose-unit"] = ColumnSpec("dose-unit", "text")
+    return columns
+
+
+#: Every column an orders file may have: an order id, the case fields of `osmodose check`, a dose unit.
+COLUMNS: dict[str, ColumnSpec] = _columns()
 
 #: The columns that say how much of the agent was ordered (at most one per row).
 ORDER_COLUMNS: tuple[str, ...] = ("dose", "volume", "target-rise")

@@ -21,19 +21,20 @@ import numpy as np
 from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
+from osmodose.case.fields import FIELDS, LAB_FIELDS
 from osmodose.case.inputs import DoseRequest, parse_dose
 from osmodose.check.engine import DOSE_UNITS, Cases, dose_unit_codes
 from osmodose.check.run import dose_misfit, height_required_error
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
-from osmodose.science.chemistry import molar_mass
-from osmodose.science.ranges import PLAUSIBLE, check_plausible
-from osmodose.science.units import Q_
 
 #: A dose cell "number unit" whose unit is letters and slashes reads as number x (1 unit);
 #: anything else is handed whole to `parse_dose`.
 _DOSE_SPLIT = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ][A-Za-zµμ/ ]*?)\s*")
 _ONE_ORDER = "exactly one of dose, volume or target-rise"
+OUTSIDE = "is outside the plausible range"
+#: Every lab column a row may have, including those read into another (BUN into urea), in table order.
+LAB_FIELDS_TYPED = tuple(f for f in FIELDS.values() if f.group == "labs")
 
 
 @dataclass(frozen=True)
@@ -64,16 +65,11 @@ class Converted:
         take = slice(None) if rows is None else rows
         c = {name: values[take] for name, values in self.columns.items()}
         return Cases(
-            weight=Q_(c["weight"], "kg"),
-            age=Q_(c["age"], "year"),
+            weight_kg=c["weight"],
+            age_years=c["age"],
             male=c["male"].astype(bool),
-            height=Q_(c["height"], "cm"),
-            sodium=Q_(c["sodium"], "mmol/L"),
-            potassium=Q_(c["potassium"], "mmol/L"),
-            glucose=Q_(c["glucose"], "mmol/L"),
-            urea=Q_(c["urea"], "mmol/L"),
-            ethanol=Q_(c["ethanol"], "mmol/L"),
-            osmolality=Q_(c["osmolality"], "mOsm/kg"),
+            height_cm=c["height"],
+            labs={field.key: c[field.key] for field in LAB_FIELDS},
             agent_index=self.agent_index[take],
             dose_unit=self.dose_unit_code[take],
             dose_amount=self.dose_amount[take],
@@ -118,20 +114,6 @@ def _error(field: str, value: object, problem: str, accepted: str | None = None)
     return str(InputError(field, value, problem, accepted))
 
 
-def _implausible(field: str, value: float, shown: str) -> str:
-    try:
-        check_plausible(field, value, shown)
-    except InputError as error:
-        return str(error)
-    raise AssertionError(f"{field} {value} is inside its range")  # pragma: no cover
-
-
-def _bun_mg_dl(urea_mmol_l: np.ndarray) -> np.ndarray:
-    """Urea (mmol/L) as BUN in mg/dL of nitrogen: check judges a BUN in the unit a bare BUN is read in."""
-    with np.errstate(invalid="ignore"):
-        return np.asarray((Q_(urea_mmol_l, "mmol/L") * molar_mass("urea nitrogen")).m_as("mg/dL"), dtype=float)
-
-
 def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     """Read one chunk the way `parse_check_request` + `run_check` read one request."""
     chunk, n = ChunkCells(header, raw), len(raw)
@@ -139,57 +121,57 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     values: dict[str, np.ndarray] = {}
     given: dict[str, np.ndarray] = {}
 
-    def number(
-        name: str,
-        required: bool = False,
-        active: np.ndarray | None = None,
-        judged: Callable[[np.ndarray], np.ndarray] | None = None,
-    ) -> None:
-        """Read a number column; `judged` turns its canonical values into those its range is in."""
-        v, g, unreadable = chunk.number(name)
+    def number(name: str, required: bool = False, active: np.ndarray | None = None) -> None:
+        """Read a number column, judging its plausible range in the unit the range is written in."""
+        read = chunk.number(name)
+        g, unreadable = read.given, read.unreadable
         if active is not None:
             g = g & active
             unreadable = {i: reason for i, reason in unreadable.items() if active[i]}
-        values[name], given[name] = v, g
+        values[name], given[name] = read.engine, g
         if required:
             reasons.add(~g, lambda i: _error(name, None, "is required"))
         failed = np.zeros(n, dtype=bool)
         failed[list(unreadable)] = True
         reasons.add(failed, unreadable.__getitem__)
         g = g & ~failed
-        bounds = PLAUSIBLE[name]
-        w = v if judged is None else judged(v)
+        bounds = FIELDS[name].plausible
+        assert bounds is not None
+        w = read.judged
         with np.errstate(invalid="ignore"):
             inside = (bounds.low <= w) & (w <= bounds.high)
-        reasons.add(g & ~inside, lambda i: _implausible(name, w[i], chunk.shown(name, i)))
+        reasons.add(g & ~inside, lambda i: _error(name, chunk.shown(name, i), OUTSIDE, bounds.describe()))
 
-    def choice(name: str, accepted: tuple[str, ...], problem: str, required: bool = False) -> np.ndarray:
+    def choice(name: str) -> np.ndarray:
+        field = FIELDS[name]
+        assert field.choice is not None
+        accepted = field.choice.values
         codes, distinct = encode(raw.cells[name]) if name in header else (np.zeros(n, np.int64), [""])
         lowered = np.asarray([d.lower() for d in distinct], dtype=str)
         text = lowered[codes]
-        if required:
+        if field.required:
             reasons.add(text == "", lambda i: _error(name, None, "is required"))
         bad = (text != "") & ~np.isin(text, accepted)
-        reasons.add(bad, lambda i: _error(name, raw.cells[name][i].strip(), problem, " or ".join(accepted)))
+        problem = f"is not a {field.choice.noun} osmodose knows"
+        reasons.add(bad, lambda i: _error(name, raw.cells[name][i].strip(), problem, field.choice.accepted()))  # type: ignore[union-attr]
         return text
 
+    # The patient, then the labs, in the field table's order: the order `parse_check_request` reads them.
     number("weight", required=True)
     number("age", required=True)
-    male = choice("sex", ("female", "male"), "is not a sex osmodose knows", required=True) == "male"
+    male = choice("sex") == "male"
     number("height")
-    number("sodium", required=True)
-    _, bun_given, _ = chunk.number("bun")
-    _, urea_given, _ = chunk.number("urea")
-    both = "cannot be given together with urea"
-    reasons.add(bun_given & urea_given, lambda i: _error("bun", chunk.shown("bun", i), both, "urea or bun, not both"))
-    number("urea")
-    number("bun", judged=_bun_mg_dl)
-    number("osmolality")
-    number("potassium")
-    number("glucose")
-    number("ethanol")
-    line = choice("line", ("central", "peripheral"), "is not a line osmodose knows")
-    method = choice("tbw-method", ("fraction", "watson"), "is not a method osmodose knows")
+    for field in LAB_FIELDS_TYPED:
+        if field.into is not None:
+            both = f"cannot be given together with {field.into}"
+            together = f"{field.into} or {field.key}, not both"
+            reasons.add(
+                chunk.number(field.key).given & chunk.number(field.into).given,
+                lambda i, f=field, b=both, t=together: _error(f.key, chunk.shown(f.key, i), b, t),
+            )
+        number(field.key, required=field.required)
+    line = choice("line")
+    method = choice("tbw-method")
     use_watson = np.where(method == "", formulary.settings.tbw_method, method) == "watson"
 
     agent_codes, agent_ids = encode(raw.cells["agent"]) if "agent" in header else (np.zeros(n, np.int64), [""])
@@ -223,7 +205,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     dose_unit = np.where(mode == "volume", "mL", np.where(mode == "target-rise", "mmol/L", "")).astype("U6")
     number("volume", active=mode == "volume")
     rise_text = mode == "target-rise"
-    rise_values, _, _ = chunk.number("target-rise")  # unreadable cells are NaN, never zero
+    rise_values = chunk.number("target-rise").engine  # unreadable cells are NaN, never zero
     zero = rise_text & (rise_values == 0)
     rise_accepted = "a change from -30 to 30 mmol/L, not 0"
     reasons.add(
@@ -242,7 +224,9 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     reasons.add(use_watson & ~height_given, lambda i: str(height_required_error()))
 
     columns = {**values, "male": male.astype(float)}
-    columns["urea"] = np.where(given["urea"], values["urea"], values["bun"])
+    for field in LAB_FIELDS_TYPED:
+        if field.into is not None:
+            columns[field.into] = np.where(given[field.into], values[field.into], values[field.key])
     columns["duration"] = np.where(given["duration"], values["duration"], np.nan)
     return Converted(
         reasons=reasons.reasons,

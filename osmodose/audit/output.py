@@ -16,8 +16,8 @@ from typing import TextIO
 import numpy as np
 
 from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
+from osmodose.check.judging import SEVERITY_NAMES
 from osmodose.check.results import CAUTION
-from osmodose.check.rules import SEVERITY_NAMES
 from osmodose.formulary.model import Formulary
 
 FINDING_SEPARATOR = ";"

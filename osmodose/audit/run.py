@@ -2,7 +2,7 @@
 
 Each chunk goes through exactly what `run_check` runs, on whole columns:
 `convert` (the request checks), `engine.compute`, `check.volume_problems`
-(the orders whose worked-out volume cannot be given) and `rules.evaluate`.
+(the orders whose worked-out volume cannot be given) and `rules.apply_rules`.
 Memory is the chunk's plus what the sinks keep, so it grows with the file
 only as far as the summary's dose distributions do (8 bytes a figure).
 """
@@ -24,7 +24,8 @@ from osmodose.audit.convert import Converted, convert
 from osmodose.audit.reader import open_orders
 from osmodose.case.inputs import Patient
 from osmodose.check.engine import compute
-from osmodose.check.rules import SEVERITY_NAMES, RuleOutcome, evaluate
+from osmodose.check.judging import SEVERITY_NAMES
+from osmodose.check.rules import RuleOutcome, apply_rules
 from osmodose.check.run import tbw_error, tbw_problems, volume_error, volume_problems
 from osmodose.formulary.model import Formulary
 
@@ -121,14 +122,14 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     cases = converted.cases()
     with np.errstate(all="ignore"):
         figures = compute(cases, formulary.agents, formulary.settings)
-        outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, converted.line)
+        outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, converted.line)
         unreachable, implausible = volume_problems(converted.mode, figures.volume_ml)
-        weight = cases.weight.m_as("kg")
+        weight = cases.weight_kg
         bad_tbw = good & tbw_problems(
-            converted.use_watson, cases.age.m_as("year"), weight, figures.tbw_l, formulary.settings.adult_age_years
+            converted.use_watson, cases.age_years, weight, figures.tbw_l, formulary.settings.adult_age_years
         )
     for i in np.flatnonzero(bad_tbw).tolist():
-        patient = Patient(weight_kg=float(weight[i]), age_years=float(cases.age.m_as("year")[i]), sex="male")
+        patient = Patient(weight_kg=float(weight[i]), age_years=float(cases.age_years[i]), sex="male")
         reasons[i] = str(tbw_error(True, patient, float(figures.tbw_l[i]), formulary.settings.adult_age_years))
     failed = good & ~bad_tbw & (converted.mode != "") & (unreachable | implausible)
     for i in np.flatnonzero(failed).tolist():

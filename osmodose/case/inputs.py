@@ -1,30 +1,46 @@
 """What a check is asked for: validated, frozen, in canonical units.
 
 Front ends (command line, app, verify, course) hand the text a user typed to
-`parse_check_request`; it applies the field's default unit, converts lab
-units with the molar masses and rejects implausible values, so every front end
-reads input the same way.  The models keep the text as entered beside the
-normalised value, for records.
+`parse_check_request`; every field is read by `fields.read` (its default unit,
+molar mass and plausible range from the field table), so every front end reads
+input the same way.  The models keep the text as entered beside the normalised
+value, for records.  The serum labs model (`Labs`) is made from the field
+table: a new lab is one line there.
 """
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import TYPE_CHECKING, Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import BaseModel, ConfigDict, Field, create_model
 
+from osmodose.case.choices import DoseMode, Line, Sex, TbwMethod
+from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read, read_choice
 from osmodose.errors import InputError
-from osmodose.science.chemistry import molar_mass
-from osmodose.science.ranges import check_plausible
-from osmodose.science.units import Q_, Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
+from osmodose.science.units import Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 
-Sex = Literal["female", "male"]
-Line = Literal["central", "peripheral"]
-TbwMethod = Literal["fraction", "watson"]
-DoseMode = Literal["dose", "volume", "target-rise"]
 DoseUnit = Literal["g", "mL", "mmol", "mOsm", "mmol/L"]
+
+__all__ = [
+    "CheckRequest",
+    "DoseMode",
+    "DoseRequest",
+    "DoseUnit",
+    "LabValues",
+    "Labs",
+    "Line",
+    "Patient",
+    "Sex",
+    "TbwMethod",
+    "given_fields",
+    "lab_fields",
+    "need",
+    "parse_check_request",
+    "parse_dose",
+    "parse_labs",
+]
 
 
 class Patient(BaseModel):
@@ -42,23 +58,44 @@ class Patient(BaseModel):
     """Height, needed for the Watson formula only."""
 
 
-class Labs(BaseModel):
-    """Serum labs in SI units (mmol/L; osmolality mOsm/kg)."""
+class LabValues(BaseModel):
+    """Base of every model holding serum labs by the field table (`Labs`, an episode's lab entry).
+
+    The lab attributes (`sodium_mmol_l`, ...) are made from `fields.LAB_FIELDS`;
+    `value(key)` reads one by its field key.
+    """
 
     model_config = _FROZEN
 
-    sodium_mmol_l: float
-    """Serum sodium."""
-    potassium_mmol_l: float | None = None
-    """Serum potassium."""
-    glucose_mmol_l: float | None = None
-    """Serum glucose."""
-    urea_mmol_l: float | None = None
-    """Serum urea (from urea or from BUN)."""
-    ethanol_mmol_l: float | None = None
-    """Serum ethanol."""
-    osmolality_mosm_kg: float | None = None
-    """Measured serum osmolality."""
+    if TYPE_CHECKING:  # the generated lab attributes, for the type checker
+
+        def __getattr__(self, name: str) -> Any: ...
+
+    def value(self, key: str) -> float | None:
+        """The lab called `key` in the field table ("sodium"), in its canonical unit; None if not measured."""
+        result: float | None = getattr(self, FIELDS[key].attr)
+        return result
+
+    def lab_values(self) -> dict[str, float | None]:
+        """Every lab by field key."""
+        return {f.key: self.value(f.key) for f in LAB_FIELDS}
+
+
+def lab_fields() -> dict[str, Any]:
+    """The lab attributes for `create_model`: sodium required, the rest optional, described by the table."""
+    return {
+        f.attr: (float, Field(description=f.help)) if f.required else (float | None, Field(None, description=f.help))
+        for f in LAB_FIELDS
+    }
+
+
+if TYPE_CHECKING:
+
+    class Labs(LabValues):
+        """Serum labs in SI units (mmol/L; osmolality mOsm/kg), made from the field table."""
+
+else:
+    Labs = create_model("Labs", __base__=LabValues, __doc__="Serum labs in SI units, from the fields.", **lab_fields())
 
 
 class DoseRequest(BaseModel):
@@ -98,91 +135,34 @@ class CheckRequest(BaseModel):
     """Each field as the user typed it."""
 
 
-def _concentration(field: str, raw: object, substance: str, default_unit: str = "mmol/L") -> float:
-    """A lab concentration in mmol/L, from mmol/L, mEq/L or a mass unit (mg/dL)."""
-    quantity = parse_quantity(field, raw, default_unit, ("mmol/L", "mg/dL"))
-    if quantity.check("[mass]/[volume]"):
-        quantity = quantity / molar_mass(substance)
-    return float(quantity.m_as("mmol/L"))
+def given_fields(fields: dict[str, object]) -> dict[str, object]:
+    """The fields a user filled in: None and blank text are "not given"."""
+    return {k: v for k, v in fields.items() if v is not None and not (isinstance(v, str) and not v.strip())}
 
 
-def _plain(field: str, raw: object, unit: str) -> float:
-    return float(parse_quantity(field, raw, unit).m_as(unit))
+def need(given: dict[str, object], name: str) -> object:
+    """The given value of a required field, or the InputError saying it is required."""
+    if name not in given:
+        raise InputError(name, None, "is required")
+    return given[name]
 
 
-def parse_check_request(
-    fields: dict[str, object],
-    dose_mode: DoseMode | None = None,
-) -> CheckRequest:
+def parse_check_request(fields: dict[str, object], dose_mode: DoseMode | None = None) -> CheckRequest:
     """Build a CheckRequest from typed text; raises InputError on the first bad field.
 
-    Keys of `fields`: weight, age, sex, height, sodium, potassium, glucose, urea,
-    bun, ethanol, osmolality, agent, dose, volume, target-rise, duration, line,
-    tbw-method.  Empty or None values are "not given".
+    Keys of `fields` are the field table's (`fields.FIELDS`): the patient, the
+    labs and the order.  Empty or None values are "not given".
     """
-    given = {k: v for k, v in fields.items() if v is not None and not (isinstance(v, str) and not v.strip())}
+    given = given_fields(fields)
     entered = {k: str(v) for k, v in given.items()}
-
-    def need(name: str) -> object:
-        if name not in given:
-            raise InputError(name, None, "is required")
-        return given[name]
-
-    weight = check_plausible("weight", _plain("weight", need("weight"), "kg"), given["weight"])
-    age = check_plausible("age", _plain("age", need("age"), "year"), given["age"])
-    sex = str(need("sex")).strip().lower()
-    if sex not in ("female", "male"):
-        raise InputError("sex", given["sex"], "is not a sex osmodose knows", "female or male")
-    height = None
-    if "height" in given:
-        height = check_plausible("height", _plain("height", given["height"], "cm"), given["height"])
+    weight = read("weight", need(given, "weight"))
+    age = read("age", need(given, "age"))
+    sex = read_choice("sex", need(given, "sex"))
+    height = read("height", given["height"]) if "height" in given else None
     patient = Patient(weight_kg=weight, age_years=age, sex=sex, height_cm=height)  # type: ignore[arg-type]
-
-    def lab(name: str, substance: str | None = None) -> float | None:
-        if name not in given:
-            return None
-        if substance is None:
-            value = _plain(name, given[name], "mmol/L")
-        else:
-            value = _concentration(name, given[name], substance)
-        return check_plausible(name, value, given[name])
-
-    sodium = check_plausible("sodium", _plain("sodium", need("sodium"), "mmol/L"), given["sodium"])
-    if "urea" in given and "bun" in given:
-        raise InputError("bun", given["bun"], "cannot be given together with urea", "urea or bun, not both")
-    urea = lab("urea", "urea")
-    if "bun" in given:
-        bun = parse_quantity("bun", given["bun"], "mg/dL", ("mg/dL", "mmol/L"))
-        if bun.check("[mass]/[volume]"):
-            bun = bun / molar_mass("urea nitrogen")
-        urea = float(bun.m_as("mmol/L"))
-        # Judged as urea, but described in mg/dL of nitrogen, the unit a bare BUN is read in.
-        in_mg_dl = float((Q_(urea, "mmol/L") * molar_mass("urea nitrogen")).m_as("mg/dL"))
-        check_plausible("bun", in_mg_dl, given["bun"])
-    osmolality = None
-    if "osmolality" in given:
-        measured = parse_quantity("osmolality", given["osmolality"], "mOsm/kg", ("mOsm/kg", "mmol/kg"))
-        if measured.check("[substance]/[mass]"):
-            measured = Q_(measured.m_as("mmol/kg"), "mOsm/kg")  # SI labs write mmol/kg for mOsm/kg
-        osmolality = check_plausible("osmolality", float(measured.m_as("mOsm/kg")), given["osmolality"])
-    labs = Labs(
-        sodium_mmol_l=sodium,
-        potassium_mmol_l=lab("potassium"),
-        glucose_mmol_l=lab("glucose", "glucose"),
-        urea_mmol_l=urea,
-        ethanol_mmol_l=lab("ethanol", "ethanol"),
-        osmolality_mosm_kg=osmolality,
-    )
-    line = None
-    if "line" in given:
-        line = str(given["line"]).strip().lower()
-        if line not in ("central", "peripheral"):
-            raise InputError("line", given["line"], "is not a line osmodose knows", "central or peripheral")
-    tbw_method = None
-    if "tbw-method" in given:
-        tbw_method = str(given["tbw-method"]).strip().lower()
-        if tbw_method not in ("fraction", "watson"):
-            raise InputError("tbw-method", given["tbw-method"], "is not a method osmodose knows", "fraction or watson")
+    labs = parse_labs(given)
+    line = read_choice("line", given["line"]) if "line" in given else None
+    tbw_method = read_choice("tbw-method", given["tbw-method"]) if "tbw-method" in given else None
     return CheckRequest(
         patient=patient,
         labs=labs,
@@ -193,8 +173,30 @@ def parse_check_request(
     )
 
 
+def parse_labs(fields: dict[str, object]) -> Labs:
+    """The serum labs among typed `fields`, each read by the field table; sodium is required.
+
+    A lab typed in another form (BUN for urea) is read into its lab, and may not
+    be given together with it.
+    """
+    given = given_fields(fields)
+    need(given, "sodium")
+    values: dict[str, float | None] = {}
+    for field in FIELDS.values():
+        if field.group != "labs" or field.key not in given:
+            continue
+        if field.into is not None and field.into in given:
+            together = f"{field.into} or {field.key}, not both"
+            raise InputError(field.key, given[field.key], f"cannot be given together with {field.into}", together)
+        values[FIELDS[field.into or field.key].attr] = read(field.key, given[field.key])
+    return Labs(**values)
+
+
+_ONE_ORDER = "exactly one of dose, volume or target-rise"
+
+
 def _dose_request(given: dict[str, object], dose_mode: DoseMode | None) -> DoseRequest | None:
-    modes = [m for m in ("dose", "volume", "target-rise") if m in given]
+    modes = [m for m in DOSE_MODES if m in given]
     if dose_mode is not None:
         # A form that keeps all three boxes says which one is meant; the others are ignored.
         modes = [m for m in modes if m == dose_mode]
@@ -204,29 +206,21 @@ def _dose_request(given: dict[str, object], dose_mode: DoseMode | None) -> DoseR
         return None
     agent_id = str(given["agent"]).strip()
     if not modes:
-        raise InputError("agent", agent_id, "needs a dose", "exactly one of dose, volume or target-rise")
+        raise InputError("agent", agent_id, "needs a dose", _ONE_ORDER)
     if len(modes) > 1:
-        raise InputError(
-            modes[1],
-            given[modes[1]],
-            "cannot be given together with " + modes[0],
-            "exactly one of dose, volume or target-rise",
-        )
+        raise InputError(modes[1], given[modes[1]], "cannot be given together with " + modes[0], _ONE_ORDER)
     mode = modes[0]
     raw = given[mode]
-    duration = None
-    if "duration" in given:
-        duration = check_plausible("duration", _plain("duration", given["duration"], "min"), given["duration"])
+    duration = read("duration", given["duration"]) if "duration" in given else None
     if mode == "volume":
-        volume = check_plausible("volume", _plain("volume", raw, "mL"), raw)
+        volume = read("volume", raw)
         return DoseRequest(
             agent_id=agent_id, mode="volume", amount=volume, unit="mL", duration_min=duration, text=str(raw)
         )
     if mode == "target-rise":
-        rise = _plain("target-rise", raw, "mmol/L")
+        rise = read("target-rise", raw)
         if rise == 0:
             raise InputError("target-rise", raw, "is zero", "a change from -30 to 30 mmol/L, not 0")
-        check_plausible("target-rise", rise, raw)
         return DoseRequest(
             agent_id=agent_id, mode="target-rise", amount=rise, unit="mmol/L", duration_min=duration, text=str(raw)
         )

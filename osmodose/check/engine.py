@@ -2,14 +2,16 @@
 
 A single `osmodose check` is a batch of one, so a check and a row of an audit
 go through exactly the same lines of code and cannot disagree.  Every column
-is a 1-d numpy array (wrapped in a pint quantity where it has a unit); NaN in
-an input column means "not given", NaN in an output column "cannot be
-computed".  Agents are columns too, gathered from the formulary by index.
+is a 1-d numpy array of plain floats in the canonical unit its name says (kg,
+years, cm, mmol/L, mOsm/kg, mL, min): units were read and checked at the
+edges, so nothing here builds a pint quantity.  NaN in an input column means
+"not given", NaN in an output column "cannot be computed".  Agents are
+columns too, gathered from the formulary by index.
 """
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -17,7 +19,6 @@ import numpy as np
 from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.model import Agent
 from osmodose.science import formulas as f
-from osmodose.science.units import Q_, Quantity
 
 #: Codes of the dose units in `Cases.dose_unit`.
 DOSE_UNITS: tuple[str, ...] = ("", "g", "mL", "mmol", "mOsm", "mmol/L")
@@ -39,6 +40,8 @@ def dose_unit_codes(units: np.ndarray) -> np.ndarray:
 class AgentColumns:
     """The agent of each case, one array per property (NaN/False for no agent)."""
 
+    agents: tuple[Agent, ...]
+    index: np.ndarray
     has_agent: np.ndarray
     solute_g_per_l: np.ndarray
     sodium_mmol_l: np.ndarray
@@ -52,17 +55,19 @@ class AgentColumns:
     def gather(cls, agents: Sequence[Agent], index: np.ndarray) -> AgentColumns:
         """Columns for `index` into `agents`; -1 means no agent (the NaN/False appended to each table)."""
         index = np.asarray(index, dtype=np.int64)
-        has = index >= 0
+        agents = tuple(agents)
 
-        def column(values: list[float], empty: float = np.nan) -> np.ndarray:
-            return np.asarray([*values, empty], dtype=float)[index]
+        def column(values: list[float | None]) -> np.ndarray:
+            return np.asarray([np.nan if v is None else v for v in values] + [np.nan], dtype=float)[index]
 
         def flags(values: list[bool]) -> np.ndarray:
             return np.asarray([*values, False], dtype=bool)[index]
 
         return cls(
-            has_agent=has,
-            solute_g_per_l=column([np.nan if a.solute_g_per_l is None else a.solute_g_per_l for a in agents]),
+            agents=agents,
+            index=index,
+            has_agent=index >= 0,
+            solute_g_per_l=column([a.solute_g_per_l for a in agents]),
             sodium_mmol_l=column([a.sodium_mmol_l for a in agents]),
             cations_mmol_l=column([a.cations_mmol_l for a in agents]),
             osmolarity_mosm_l=column([a.osmolarity_mosm_l for a in agents]),
@@ -71,21 +76,25 @@ class AgentColumns:
             central_only=flags([a.route == "central" for a in agents]),
         )
 
+    def column(self, pick: Callable[[Agent], float | None]) -> np.ndarray:
+        """Any agent property per case: NaN where the agent has none, or there is no agent."""
+        table = [np.nan if (v := pick(a)) is None else float(v) for a in self.agents]
+        return np.asarray([*table, np.nan], dtype=float)[self.index]
+
 
 @dataclass(frozen=True)
 class Cases:
-    """The inputs of n cases, canonical units, NaN where not given."""
+    """The inputs of n cases in canonical units, NaN where not given.
 
-    weight: Quantity
-    age: Quantity
+    `labs` holds one column per lab of the field table (`fields.LAB_FIELDS`),
+    keyed by field key ("sodium", "glucose", ...), in mmol/L (osmolality mOsm/kg).
+    """
+
+    weight_kg: np.ndarray
+    age_years: np.ndarray
     male: np.ndarray
-    height: Quantity
-    sodium: Quantity
-    potassium: Quantity
-    glucose: Quantity
-    urea: Quantity
-    ethanol: Quantity
-    osmolality: Quantity
+    height_cm: np.ndarray
+    labs: Mapping[str, np.ndarray]
     agent_index: np.ndarray
     dose_unit: np.ndarray  # strings from DOSE_UNITS, or their indexes
     dose_amount: np.ndarray
@@ -95,6 +104,18 @@ class Cases:
 
     def __len__(self) -> int:
         return int(np.size(self.male))
+
+    @property
+    def sodium(self) -> np.ndarray:
+        return self.labs["sodium"]
+
+    @property
+    def potassium(self) -> np.ndarray:
+        return self.labs["potassium"]
+
+    @property
+    def osmolality(self) -> np.ndarray:
+        return self.labs["osmolality"]
 
 
 @dataclass(frozen=True)
@@ -121,10 +142,10 @@ class Figures:
 
 def total_body_water(cases: Cases, settings: SettingsTable) -> np.ndarray:
     """TBW in litres: Watson where asked (and height given), else the fractions."""
-    fraction = f.tbw_fraction(cases.age.m_as("year"), cases.male, settings.elderly_age_years, settings.adult_age_years)
-    by_fraction = f.tbw_from_fraction(cases.weight, fraction).m_as("L")
-    watson = f.tbw_watson(cases.age, cases.height, cases.weight, cases.male).m_as("L")
-    return np.where(cases.use_watson, watson, by_fraction)
+    fraction = f.tbw_fraction(cases.age_years, cases.male, settings.elderly_age_years, settings.adult_age_years)
+    by_fraction = f.tbw_from_fraction(cases.weight_kg, fraction)
+    watson = f.tbw_watson(cases.age_years, cases.height_cm, cases.weight_kg, cases.male)
+    return np.asarray(np.where(cases.use_watson, watson, by_fraction), dtype=float)
 
 
 def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray) -> np.ndarray:
@@ -133,19 +154,13 @@ def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray) -> np.n
     A request in mmol is of sodium, so it needs a sodium-containing agent; one
     in grams needs a single solute; a target change needs the sodium projection.
     """
-    weight = cases.weight.m_as("kg")
-    amount = np.where(cases.dose_per_kg, cases.dose_amount * weight, cases.dose_amount)
+    amount = np.where(cases.dose_per_kg, cases.dose_amount * cases.weight_kg, cases.dose_amount)
     unit = dose_unit_codes(cases.dose_unit)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        by_grams = f.volume_for_amount(Q_(amount, "g"), Q_(agent.solute_g_per_l, "g/L")).m_as("mL")
-        sodium = np.where(agent.sodium_mmol_l > 0, agent.sodium_mmol_l, np.nan)
-        by_mmol = f.volume_for_amount(Q_(amount, "mmol"), Q_(sodium, "mmol/L")).m_as("mL")
-        osmolarity = np.where(agent.osmolarity_mosm_l > 0, agent.osmolarity_mosm_l, np.nan)
-        by_mosm = f.volume_for_amount(Q_(amount, "mOsm"), Q_(osmolarity, "mOsm/L")).m_as("mL")
+    by_grams = f.volume_for_amount(amount, agent.solute_g_per_l)
+    by_mmol = f.volume_for_amount(amount, np.where(agent.sodium_mmol_l > 0, agent.sodium_mmol_l, np.nan))
+    by_mosm = f.volume_for_amount(amount, np.where(agent.osmolarity_mosm_l > 0, agent.osmolarity_mosm_l, np.nan))
     cations = np.where(agent.projects_sodium, agent.cations_mmol_l, np.nan)
-    by_rise = f.volume_for_sodium_change(
-        cases.sodium, Q_(cations, "mmol/L"), Q_(tbw_l, "L"), Q_(cases.dose_amount, "mmol/L")
-    ).m_as("mL")
+    by_rise = f.volume_for_sodium_change(cases.sodium, cations, tbw_l, cases.dose_amount) * f.ML_PER_L
     volume = np.select(
         [unit == _UNIT_ML, unit == _UNIT_G, unit == _UNIT_MMOL, unit == _UNIT_MOSM, unit == _UNIT_RISE],
         [amount, by_grams, by_mmol, by_mosm, by_rise],
@@ -157,28 +172,27 @@ def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray) -> np.n
 def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> Figures:
     """All figures for all cases."""
     agent = AgentColumns.gather(agents, cases.agent_index)
+    labs = cases.labs
     tbw_l = total_body_water(cases, settings)
     factor = f.ETHANOL_FACTOR_EMPIRICAL if settings.ethanol_factor == "empirical" else f.ETHANOL_FACTOR_MOLAR
-    ethanol = Q_(np.nan_to_num(cases.ethanol.m_as("mmol/L"), nan=0.0), "mmol/L")
-    calculated = f.calculated_osmolality(cases.sodium, cases.glucose, cases.urea, ethanol, factor).m_as("mOsm/kg")
-    effective = f.effective_osmolality(cases.sodium, cases.glucose).m_as("mOsm/kg")
-    gap = f.osmolar_gap(cases.osmolality, Q_(calculated, "mOsm/kg")).m_as("mOsm/kg")
+    ethanol = np.nan_to_num(labs["ethanol"], nan=0.0)
+    calculated = np.asarray(
+        f.calculated_osmolality(cases.sodium, labs["glucose"], labs["urea"], ethanol, factor), dtype=float
+    )
+    effective = np.asarray(f.effective_osmolality(cases.sodium, labs["glucose"]), dtype=float)
+    gap = np.asarray(f.osmolar_gap(cases.osmolality, calculated), dtype=float)
 
     volume_ml = dose_volume_ml(cases, agent, tbw_l)
-    volume = Q_(volume_ml, "mL")
-    weight = cases.weight.m_as("kg")
-    solute_g = f.amount_in_volume(volume, Q_(agent.solute_g_per_l, "g/L"), "g").m_as("g")
-    sodium_mmol = f.amount_in_volume(volume, Q_(agent.sodium_mmol_l, "mmol/L"), "mmol").m_as("mmol")
-    osmoles = f.amount_in_volume(volume, Q_(agent.osmolarity_mosm_l, "mOsm/L"), "mOsm").m_as("mOsm")
-    with np.errstate(divide="ignore", invalid="ignore"):
-        duration = np.where(cases.duration_min > 0, cases.duration_min, np.nan)
-    rate = f.infusion_rate(volume, Q_(duration, "min")).m_as("mL/h")
+    weight = cases.weight_kg
+    solute_g = np.asarray(f.amount_in_volume(volume_ml, agent.solute_g_per_l), dtype=float)
+    sodium_mmol = np.asarray(f.amount_in_volume(volume_ml, agent.sodium_mmol_l), dtype=float)
+    osmoles = np.asarray(f.amount_in_volume(volume_ml, agent.osmolarity_mosm_l), dtype=float)
+    duration = np.where(cases.duration_min > 0, cases.duration_min, np.nan)
+    rate = np.asarray(f.infusion_rate(volume_ml, duration), dtype=float)
 
-    cations = Q_(np.where(agent.projects_sodium, agent.cations_mmol_l, np.nan), "mmol/L")
-    tbw = Q_(tbw_l, "L")
-    per_litre = f.sodium_change_per_litre(cases.sodium, cations, tbw).m_as("mmol/L")
-    projected = f.projected_sodium(cases.sodium, cations, tbw, volume).m_as("mmol/L")
-    rise = projected - cases.sodium.m_as("mmol/L")
+    cations = np.where(agent.projects_sodium, agent.cations_mmol_l, np.nan)
+    per_litre = np.asarray(f.sodium_change_per_litre(cases.sodium, cations, tbw_l), dtype=float)
+    projected = np.asarray(f.projected_sodium(cases.sodium, cations, tbw_l, volume_ml / f.ML_PER_L), dtype=float)
     return Figures(
         tbw_l=tbw_l,
         calculated_osmolality=calculated,
@@ -195,5 +209,5 @@ def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> F
         rate_ml_h=rate,
         sodium_change_per_litre=per_litre,
         projected_sodium=projected,
-        projected_rise=rise,
+        projected_rise=projected - cases.sodium,
     )

@@ -12,8 +12,15 @@ import math
 import numpy as np
 
 from osmodose import __version__
+from osmodose.case.fields import FIELDS
 from osmodose.case.inputs import CheckRequest, DoseRequest, Patient
 from osmodose.check.engine import Cases, Figures, compute
+from osmodose.check.judging import (
+    HIGH_RISK_POTASSIUM_BELOW,
+    HIGH_RISK_SODIUM_AT_MOST,
+    SEVERITY_NAMES,
+    worst_status,
+)
 from osmodose.check.presentations import fit_presentations
 from osmodose.check.results import (
     CheckResult,
@@ -22,11 +29,10 @@ from osmodose.check.results import (
     FormularyRef,
     PatientFigures,
 )
-from osmodose.check.rules import HIGH_RISK_POTASSIUM, HIGH_RISK_SODIUM, SEVERITY_NAMES, evaluate
+from osmodose.check.rules import apply_rules
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary, Limits
-from osmodose.science.ranges import PLAUSIBLE
-from osmodose.science.units import Q_
+from osmodose.science.ranges import Range
 
 MANNITOL_NOTE = (
     "No sodium projection for mannitol: it carries no sodium and stays extracellular "
@@ -48,6 +54,7 @@ HIGH_RISK_NOTE = (
     "Alcohol use, malnutrition and liver disease raise the risk too: judge them at the bedside."
 )
 NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
+VOLUME_RANGE: Range = FIELDS["volume"].plausible  # type: ignore[assignment]
 #: Watson total body water outside this share of body weight is refused (common practice).
 WATSON_FRACTION_RANGE = (0.3, 0.8)
 FILTER_NOTE = "Mannitol 20-25 % crystallises when cold: give it through an in-line filter."
@@ -63,22 +70,17 @@ def _opt(value: float) -> float | None:
 
 def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool) -> Cases:
     """A batch of one from a request."""
-    p, labs, dose = request.patient, request.labs, request.dose
+    p, dose = request.patient, request.dose
 
-    def col(value: float | None, unit: str) -> object:
-        return Q_(np.array([_nan(value)]), unit)
+    def col(value: float | None) -> np.ndarray:
+        return np.array([_nan(value)])
 
     return Cases(
-        weight=col(p.weight_kg, "kg"),
-        age=col(p.age_years, "year"),
+        weight_kg=col(p.weight_kg),
+        age_years=col(p.age_years),
         male=np.array([p.sex == "male"]),
-        height=col(p.height_cm, "cm"),
-        sodium=col(labs.sodium_mmol_l, "mmol/L"),
-        potassium=col(labs.potassium_mmol_l, "mmol/L"),
-        glucose=col(labs.glucose_mmol_l, "mmol/L"),
-        urea=col(labs.urea_mmol_l, "mmol/L"),
-        ethanol=col(labs.ethanol_mmol_l, "mmol/L"),
-        osmolality=col(labs.osmolality_mosm_kg, "mOsm/kg"),
+        height_cm=col(p.height_cm),
+        labs={key: col(value) for key, value in request.labs.lab_values().items()},
         agent_index=np.array([agent_index]),
         dose_unit=np.array([dose.unit if dose else ""]),
         dose_amount=np.array([dose.amount if dose else math.nan]),
@@ -113,11 +115,11 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         if problem is not None:
             raise problem
     line = np.array([request.line or ""])
-    outcomes = evaluate(cases, figures, formulary.agents, formulary.limits, line)
+    outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, line)
     findings = [
         Finding(
             code=o.code,
-            severity=SEVERITY_NAMES[int(o.severity[0])],  # type: ignore[arg-type]
+            severity=SEVERITY_NAMES[int(o.severity[0])],
             message=o.message(0),
             value=_opt(float(o.value[0])),
             limit=_opt(float(o.limit[0])),
@@ -127,9 +129,8 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         if o.severity[0] > 0
     ]
     findings.sort(key=lambda item: item.severity != "refuse")
-    status = "refuse" if any(x.severity == "refuse" for x in findings) else ("warn" if findings else "ok")
     return CheckResult(
-        status=status,  # type: ignore[arg-type]
+        status=worst_status(x.severity for x in findings),
         findings=findings,
         notes=_notes(request, agent, figures, formulary.limits),
         formulary=FormularyRef(
@@ -231,7 +232,7 @@ def volume_problems(mode: np.ndarray, volume_ml: np.ndarray) -> tuple[np.ndarray
     from a dose or a target change is checked here, after the engine.
     """
     unreachable = (mode == "target-rise") & np.isnan(volume_ml)
-    bounds = PLAUSIBLE["volume"]
+    bounds = VOLUME_RANGE
     with np.errstate(invalid="ignore"):
         inside = (bounds.low <= volume_ml) & (volume_ml <= bounds.high)
     return unreachable, ~unreachable & (mode != "volume") & ~inside
@@ -253,7 +254,7 @@ def volume_error(dose: DoseRequest, agent: Agent, serum_sodium_mmol_l: float, vo
             dose.mode,
             dose.text,
             f"comes to {volume_ml:.5g} mL of {agent.id}, outside the plausible range",
-            PLAUSIBLE["volume"].describe(),
+            VOLUME_RANGE.describe(),
         )
     return None
 
@@ -297,16 +298,16 @@ def _notes(request: CheckRequest, agent: Agent | None, figures: Figures, limits:
     if agent.max_rate_ml_h is not None and request.dose is not None and request.dose.duration_min is None:
         notes.append(RATE_UNCHECKED_NOTE.format(rate=agent.max_rate_ml_h))
     rise = float(figures.projected_rise[0])
-    below = limits.get("sodium_rise_applies_below")
-    warn = limits.get("sodium_rise_24h_warn")
+    below = limits.sodium_rise_applies_below
+    warn = limits.sodium_rise_24h_warn
     if below is not None and warn is not None and labs.sodium_mmol_l >= below and rise > warn:
         notes.append(RISE_NOT_JUDGED_NOTE.format(below=below, sodium=labs.sodium_mmol_l, rise=rise))
     reasons = []
-    if labs.sodium_mmol_l <= HIGH_RISK_SODIUM:
-        reasons.append(f"sodium {HIGH_RISK_SODIUM:g} mmol/L or below")
-    if labs.potassium_mmol_l is not None and labs.potassium_mmol_l < HIGH_RISK_POTASSIUM:
+    if labs.sodium_mmol_l <= HIGH_RISK_SODIUM_AT_MOST:
+        reasons.append(f"sodium {HIGH_RISK_SODIUM_AT_MOST:g} mmol/L or below")
+    if labs.potassium_mmol_l is not None and labs.potassium_mmol_l < HIGH_RISK_POTASSIUM_BELOW:
         reasons.append("hypokalaemia")
-    limit = limits.get("sodium_rise_24h_high_risk_refuse")
+    limit = limits.sodium_rise_24h_high_risk_refuse
     if reasons and limit is not None and not math.isnan(rise) and rise > 0:
         notes.append(HIGH_RISK_NOTE.format(reason=", ".join(reasons), limit=limit))
     return notes

@@ -11,14 +11,15 @@ import argparse
 import json
 from typing import TYPE_CHECKING
 
+from osmodose.case.fields import FIELDS, LAB_KEYS, keys
 from osmodose.cli.exit_codes import BY_STATUS, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.cli.patient_args import add_field_options, case_fields
 
 if TYPE_CHECKING:
-    from osmodose.course.episode import Episode
+    pass
 
 HELP = "a course of therapy: serial labs, doses and pressures in an episode file"
-TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now"
 
 
 def _sub(
@@ -31,50 +32,29 @@ def _sub(
     return parser
 
 
-def _opt(parser: argparse.ArgumentParser, option: str, text: str, required: bool = False) -> None:
-    parser.add_argument(option, metavar="VALUE", required=required, help=text)
-
-
 def register(subparsers: argparse._SubParsersAction) -> None:
     course = subparsers.add_parser("course", help=HELP, description=HELP + ". Decision support only.")
     sub = course.add_subparsers(title="course commands", metavar="COMMAND", required=True)
 
     new = _sub(sub, "new", "start an episode file for one patient", formulary=False)
-    for option, text, required in (
-        ("--weight", "body weight; bare number = kg", True),
-        ("--age", "age; bare number = years", True),
-        ("--sex", "female or male", True),
-        ("--height", "height; bare number = cm (needed for --tbw-method watson)", False),
-        ("--tbw-method", "fraction or watson (default: the formulary's)", False),
-        ("--label", "free text to tell episodes apart (bed, initials)", False),
-    ):
-        _opt(new, option, text, required)
+    add_field_options(new, (*keys("patient"), "label"), required=("weight", "age", "sex"))
     new.set_defaults(handler=run_new)
 
     lab = _sub(sub, "add-lab", "add serum labs drawn at one time", formulary=False)
-    _opt(lab, "--time", TIME_HELP, True)
-    for option, text, required in (
-        ("--sodium", "serum sodium; bare number = mmol/L", True),
-        ("--potassium", "serum potassium; bare number = mmol/L", False),
-        ("--glucose", "serum glucose; bare number = mmol/L (126mg/dL accepted)", False),
-        ("--urea", "serum urea; bare number = mmol/L", False),
-        ("--bun", "blood urea nitrogen instead of urea; bare number = mg/dL", False),
-        ("--osmolality", "measured serum osmolality; bare number = mOsm/kg", False),
-    ):
-        _opt(lab, option, text, required)
+    add_field_options(lab, ("time", *LAB_KEYS), required=("time", "sodium"))
     lab.set_defaults(handler=run_add_lab)
 
     dose = _sub(sub, "add-dose", "add a dose given (the agent must be in the formulary)")
-    _opt(dose, "--time", TIME_HELP + " (start of the infusion)", True)
-    _opt(dose, "--agent", "agent id from the formulary", True)
-    _opt(dose, "--volume", "volume given; bare number = mL", True)
-    _opt(dose, "--duration", "infusion time; bare number = minutes")
+    add_field_options(
+        dose,
+        ("time", "agent", "volume", "duration"),
+        required=("time", "agent", "volume"),
+        help_for={"time": FIELDS["time"].help + " (start of the infusion)", "volume": "volume given; bare number = mL"},
+    )
     dose.set_defaults(handler=run_add_dose)
 
     reading = _sub(sub, "add-reading", "add a bedside reading: MAP and ICP (CPP = MAP - ICP)", formulary=False)
-    _opt(reading, "--time", TIME_HELP, True)
-    _opt(reading, "--map", "mean arterial pressure; bare number = mmHg", True)
-    _opt(reading, "--icp", "intracranial pressure; bare number = mmHg", True)
+    add_field_options(reading, ("time", *keys("reading")), required=("time", *keys("reading")))
     reading.set_defaults(handler=run_add_reading)
 
     show = _sub(sub, "show", "the timeline table and the findings across the course")
@@ -82,12 +62,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     show.set_defaults(handler=run_show)
 
     plan = _sub(sub, "plan", "what the next dose would do, projected from the latest sodium and the doses since")
-    _opt(plan, "--agent", "agent id from the formulary", True)
-    _opt(plan, "--volume", "volume; bare number = mL")
-    _opt(plan, "--dose", "instead of --volume: per kg (1g/kg) or absolute (50g)")
-    _opt(plan, "--duration", "infusion time; bare number = minutes")
-    _opt(plan, "--line", "central or peripheral; without it no line check")
-    _opt(plan, "--time", TIME_HELP + " (default: now)")
+    add_field_options(plan, keys("order"), required=("agent",))
+    add_field_options(plan, ("time",), help_for={"time": FIELDS["time"].help + " (default: now)"})
     plan.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
     plan.set_defaults(handler=run_plan)
 
@@ -101,16 +77,7 @@ def run_new(args: argparse.Namespace) -> int:
     from osmodose.course.episode import Episode
     from osmodose.course.store import save_episode
 
-    patient = parse_patient(
-        {
-            "weight": args.weight,
-            "age": args.age,
-            "sex": args.sex,
-            "height": args.height,
-            "tbw-method": args.tbw_method,
-            "label": args.label,
-        }
-    )
+    patient = parse_patient(case_fields(args, (*keys("patient"), "label")))
     save_episode(Episode(patient=patient), args.file, create=True)
     print(f"started episode {args.file}")
     return OK
@@ -125,26 +92,19 @@ def _added(args: argparse.Namespace, what: str, time: object, count: int, kind: 
 
 
 def run_add_lab(args: argparse.Namespace) -> int:
-    from osmodose.course.entries import LAB_FIELDS, parse_lab
+    from osmodose.course.entries import parse_lab
     from osmodose.course.store import update_episode
 
-    fields = {name: getattr(args, name) for name in ("time", *LAB_FIELDS)}
-    added = []
-
-    def change(episode: Episode) -> Episode:
-        added.append(parse_lab(episode, fields))
-        return episode.with_entry(added[0])
-
-    changed = update_episode(args.file, change)
-    return _added(args, "lab", added[0].time, len(changed.labs), "lab")
+    entry = parse_lab(case_fields(args, ("time", *LAB_KEYS)))
+    changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
+    return _added(args, "lab", entry.time, len(changed.labs), "lab")
 
 
 def run_add_dose(args: argparse.Namespace) -> int:
-    from osmodose.course.entries import parse_dose
+    from osmodose.course.entries import parse_dose_entry
     from osmodose.course.store import update_episode
 
-    fields = {"time": args.time, "agent": args.agent, "volume": args.volume, "duration": args.duration}
-    entry = parse_dose(formulary_from_args(args), fields)
+    entry = parse_dose_entry(formulary_from_args(args), case_fields(args, ("time", "agent", "volume", "duration")))
     changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
     return _added(args, f"dose of {entry.agent_id}", entry.time, len(changed.doses), "dose")
 
@@ -153,7 +113,7 @@ def run_add_reading(args: argparse.Namespace) -> int:
     from osmodose.course.entries import parse_reading
     from osmodose.course.store import update_episode
 
-    entry = parse_reading({"time": args.time, "map": args.map, "icp": args.icp})
+    entry = parse_reading(case_fields(args, ("time", *keys("reading"))))
     changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
     return _added(args, f"reading (CPP {entry.cpp_mmhg:g} mmHg)", entry.time, len(changed.readings), "reading")
 
@@ -177,8 +137,7 @@ def run_plan(args: argparse.Namespace) -> int:
     from osmodose.course.store import load_episode
 
     episode = load_episode(args.file)
-    fields = {name: getattr(args, name) for name in ("agent", "volume", "dose", "duration", "line", "time")}
-    plan = plan_dose(episode, formulary_from_args(args), fields)
+    plan = plan_dose(episode, formulary_from_args(args), case_fields(args, (*keys("order"), "time")))
     if args.json:
         print(json.dumps(plan_json(plan, args.file), indent=2))
     else:

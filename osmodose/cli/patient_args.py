@@ -1,53 +1,46 @@
-"""Options for a patient, labs and an order, shared by every subcommand that takes them."""
+"""Command-line options made from the field table, shared by every subcommand that takes a case.
+
+Each option is `--KEY` of a field in `osmodose.case.fields`, with its help; the
+values are handed on as typed text, keyed as the field table keys them, so the
+core reads them exactly as it reads the app's forms and the audit's cells.
+"""
 
 from __future__ import annotations
 
 import argparse
+from collections.abc import Iterable
 
-#: option name -> (dest, help)
-PATIENT_OPTIONS: tuple[tuple[str, str], ...] = (
-    ("--weight", "body weight; bare number = kg (e.g. 70, 176lb)"),
-    ("--age", "age; bare number = years"),
-    ("--sex", "female or male"),
-    ("--height", "height; bare number = cm (needed for --tbw-method watson)"),
-    ("--tbw-method", "fraction (Adrogue-Madias, default) or watson"),
-)
-LAB_OPTIONS: tuple[tuple[str, str], ...] = (
-    ("--sodium", "serum sodium; bare number = mmol/L"),
-    ("--potassium", "serum potassium; bare number = mmol/L"),
-    ("--glucose", "serum glucose; bare number = mmol/L (126mg/dL accepted)"),
-    ("--urea", "serum urea; bare number = mmol/L"),
-    ("--bun", "blood urea nitrogen instead of urea; bare number = mg/dL"),
-    ("--ethanol", "serum ethanol; bare number = mmol/L (mg/dL accepted)"),
-    ("--osmolality", "measured serum osmolality; bare number = mOsm/kg"),
-)
-ORDER_OPTIONS: tuple[tuple[str, str], ...] = (
-    ("--agent", "agent id from the formulary"),
-    ("--dose", "dose per kg (1g/kg, 5mL/kg) or absolute (50g, 120mmol)"),
-    ("--volume", "volume; bare number = mL"),
-    ("--target-rise", "the sodium change wanted; bare number = mmol/L"),
-    ("--duration", "infusion time; bare number = minutes (e.g. 20, 2h)"),
-    ("--line", "central or peripheral; without it no line check"),
-)
-REQUIRED = {"--weight", "--age", "--sex", "--sodium"}
+from osmodose.case.fields import FIELDS, Group, keys
+
+#: The groups `check` takes, with the titles of their help sections.
+CASE_GROUPS: tuple[tuple[Group, str], ...] = (("patient", "patient"), ("labs", "labs"), ("order", "order"))
+
+
+def add_field_options(
+    parser: argparse.ArgumentParser | argparse._ArgumentGroup,
+    names: Iterable[str],
+    required: Iterable[str] = (),
+    help_for: dict[str, str] | None = None,
+) -> None:
+    """An option per field key in `names`; `required` makes some mandatory, `help_for` rewords some."""
+    must = set(required)
+    for key in names:
+        field = FIELDS[key]
+        text = (help_for or {}).get(key, field.help)
+        metavar = "|".join(field.choice.values) if field.choice is not None else "VALUE"
+        parser.add_argument(field.option, required=key in must, help=text, metavar=metavar)
 
 
 def add_case_options(parser: argparse.ArgumentParser, order: bool = True) -> None:
-    """Add the patient, lab and (optionally) order options."""
-    groups = [("patient", PATIENT_OPTIONS), ("labs", LAB_OPTIONS)]
-    if order:
-        groups.append(("order", ORDER_OPTIONS))
-    for title, options in groups:
-        group = parser.add_argument_group(title)
-        for option, text in options:
-            group.add_argument(option, required=option in REQUIRED, help=text, metavar="VALUE")
+    """Add the patient, lab and (optionally) order options; required as a check requires them."""
+    for group, title in CASE_GROUPS:
+        if group == "order" and not order:
+            continue
+        names = keys(group)
+        add_field_options(parser.add_argument_group(title), names, [k for k in names if FIELDS[k].required])
 
 
-def case_fields(args: argparse.Namespace) -> dict[str, object]:
-    """The typed text of every case option, keyed as `parse_check_request` expects."""
-    fields: dict[str, object] = {}
-    for option, _ in PATIENT_OPTIONS + LAB_OPTIONS + ORDER_OPTIONS:
-        dest = option[2:].replace("-", "_")
-        if hasattr(args, dest):
-            fields[option[2:]] = getattr(args, dest)
-    return fields
+def case_fields(args: argparse.Namespace, names: Iterable[str] | None = None) -> dict[str, object]:
+    """The typed text of every field option given to the parser, keyed as the field table keys it."""
+    wanted = keys("patient", "labs", "order") if names is None else tuple(names)
+    return {key: getattr(args, key.replace("-", "_")) for key in wanted if hasattr(args, key.replace("-", "_"))}

@@ -11,9 +11,10 @@ from __future__ import annotations
 import argparse
 import json
 
+from osmodose.case.fields import WRITTEN_ORDER_KEYS, keys
 from osmodose.cli.exit_codes import OK, REFUSE, WARN
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
-from osmodose.cli.patient_args import add_case_options, case_fields
+from osmodose.cli.patient_args import add_case_options, add_field_options, case_fields
 
 HELP = "re-check an order as written, decide on it, and append an initialled record to the verification log"
 
@@ -24,17 +25,6 @@ BY_OUTCOME = {
     "refused": REFUSE,
 }
 
-#: option -> help, for the order as the prescriber wrote it.
-ORDER_AS_WRITTEN: tuple[tuple[str, str, bool], ...] = (
-    ("--agent", "agent id from the formulary", True),
-    ("--volume", "the volume ordered; bare number = mL", True),
-    ("--duration", "infusion time as written; bare number = minutes", False),
-    ("--rate", "rate as written; bare number = mL/h (2mL/min accepted)", False),
-    ("--line", "central or peripheral, as written", False),
-    ("--stated-dose", "the prescriber's stated dose: per kg (1g/kg) or absolute (70g, 120mmol)", False),
-    ("--stated-sodium", "the serum sodium the prescriber expects after it; bare number = mmol/L", False),
-)
-
 
 def register(subparsers: argparse._SubParsersAction) -> None:
     parser = subparsers.add_parser(
@@ -44,9 +34,16 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     )
     add_formulary_option(parser)
     add_case_options(parser, order=False)
-    group = parser.add_argument_group("order as written")
-    for option, text, required in ORDER_AS_WRITTEN:
-        group.add_argument(option, required=required, help=text, metavar="VALUE")
+    add_field_options(
+        parser.add_argument_group("order as written"),
+        WRITTEN_ORDER_KEYS,
+        required=("agent", "volume"),
+        help_for={
+            "volume": "the volume ordered; bare number = mL",
+            "duration": "infusion time as written; bare number = minutes",
+            "line": "central or peripheral, as written",
+        },
+    )
     verifier = parser.add_argument_group("verifier")
     verifier.add_argument(
         "--accept",
@@ -69,12 +66,10 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     from osmodose.case.inputs import parse_check_request  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
-    from osmodose.verify.order import ORDER_FIELDS  # noqa: PLC0415 (kept out of start-up)
 
     formulary = formulary_from_args(args)
-    patient = {k: v for k, v in case_fields(args).items() if k not in ORDER_FIELDS}
-    request = parse_check_request(patient)
-    order = parse_order({name: getattr(args, name.replace("-", "_")) for name in ORDER_FIELDS})
+    request = parse_check_request(case_fields(args, keys("patient", "labs")))
+    order = parse_order(case_fields(args, WRITTEN_ORDER_KEYS))
     acceptances = [parse_acceptance(text) for text in args.accept]
     record = verify_order(request, order, formulary, acceptances, args.initials)
     path = log_path(args.log)

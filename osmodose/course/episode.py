@@ -16,13 +16,14 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from datetime import datetime
-from typing import Annotated, Literal
+from typing import TYPE_CHECKING, Annotated, Any, Literal
 
-from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field
+from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field, create_model
 
+from osmodose.case.choices import Sex, TbwMethod
+from osmodose.case.fields import FIELDS, LAB_FIELDS
+from osmodose.case.inputs import Labs, LabValues
 from osmodose.science.formulas import cerebral_perfusion_pressure
-from osmodose.science.ranges import PLAUSIBLE
-from osmodose.science.units import Q_
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
 FORMAT_VERSION = 2
@@ -31,7 +32,8 @@ _FILE = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
 
 def _in_range(key: str) -> Callable[[float], float]:
-    bounds = PLAUSIBLE[key]
+    bounds = FIELDS[key].plausible
+    assert bounds is not None, f"{key} has no plausible range"
 
     def check(value: float) -> float:
         if not (bounds.low <= value <= bounds.high):
@@ -48,11 +50,6 @@ def _ranged(key: str) -> object:
 Weight = Annotated[float, _ranged("weight")]
 Age = Annotated[float, _ranged("age")]
 Height = Annotated[float, _ranged("height")]
-Sodium = Annotated[float, _ranged("sodium")]
-Potassium = Annotated[float, _ranged("potassium")]
-Glucose = Annotated[float, _ranged("glucose")]
-Urea = Annotated[float, _ranged("urea")]
-Osmolality = Annotated[float, _ranged("osmolality")]
 Volume = Annotated[float, _ranged("volume")]
 Duration = Annotated[float, _ranged("duration")]
 Map = Annotated[float, _ranged("map")]
@@ -70,33 +67,53 @@ class EpisodePatient(BaseModel):
     """Actual body weight in kg, used for total body water and per-kg figures."""
     age_years: Age
     """Age in years."""
-    sex: Literal["female", "male"]
+    sex: Sex
     """Sex used for the total-body-water fractions and the Watson formula."""
     height_cm: Height | None = None
     """Height in cm, needed for the Watson formula only."""
-    tbw_method: Literal["fraction", "watson"] | None = None
+    tbw_method: TbwMethod | None = None
     """Total-body-water method; null takes the formulary's default."""
 
 
-class LabEntry(BaseModel):
-    """One set of serum labs drawn at one time."""
+class _LabEntryBase(LabValues):
+    """One set of serum labs drawn at one time; the lab keys are made from the field table."""
 
     model_config = _FILE
 
     time: AwareDatetime
     """When the sample was drawn, with its UTC offset."""
-    sodium_mmol_l: Sodium
-    """Serum sodium, mmol/L."""
-    potassium_mmol_l: Potassium | None = None
-    """Serum potassium, mmol/L."""
-    glucose_mmol_l: Glucose | None = None
-    """Serum glucose, mmol/L."""
-    urea_mmol_l: Urea | None = None
-    """Serum urea, mmol/L (a BUN typed in mg/dL is stored converted)."""
-    osmolality_mosm_kg: Osmolality | None = None
-    """Measured serum osmolality, mOsm/kg."""
-    entered: dict[str, str] = Field(default_factory=dict)
-    """Each value as the user typed it, for the record."""
+
+    def labs(self) -> Labs:
+        """These labs as a check's request takes them."""
+        return Labs(**{f.attr: self.value(f.key) for f in LAB_FIELDS})
+
+
+def _lab_entry_fields() -> dict[str, Any]:
+    """Each lab of the field table, in its canonical unit, checked against its plausible range."""
+    fields: dict[str, Any] = {}
+    for f in LAB_FIELDS:
+        kept = Annotated[float, _ranged(f.key)]
+        what = f.help.split(";")[0]
+        description = f"{what[0].upper()}{what[1:]}, {f.engine_unit}."
+        fields[f.attr] = (
+            (kept, Field(description=description))
+            if f.required
+            else (
+                kept | None,
+                Field(None, description=description),
+            )
+        )
+    fields["entered"] = (dict[str, str], Field(default_factory=dict, description="Each value as the user typed it."))
+    return fields
+
+
+if TYPE_CHECKING:
+
+    class LabEntry(_LabEntryBase):
+        """One set of serum labs drawn at one time (made from the field table)."""
+
+else:
+    LabEntry = create_model("LabEntry", __base__=_LabEntryBase, __doc__=_LabEntryBase.__doc__, **_lab_entry_fields())
 
 
 class DoseEntry(BaseModel):
@@ -129,7 +146,7 @@ class ReadingEntry(BaseModel):
     @property
     def cpp_mmhg(self) -> float:
         """Cerebral perfusion pressure, by the one CPP formula in `formulas`."""
-        return float(cerebral_perfusion_pressure(Q_(self.map_mmhg, "mmHg"), Q_(self.icp_mmhg, "mmHg")).magnitude)
+        return float(cerebral_perfusion_pressure(self.map_mmhg, self.icp_mmhg))
 
 
 def _by_time(entries: tuple[object, ...]) -> tuple[object, ...]:

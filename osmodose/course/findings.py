@@ -16,7 +16,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from osmodose.course.judging import CourseFinding, count_crossing, limit_crossed, severities, severity_of, when
+from osmodose.check.judging import count_crossing, limit_crossed, severity_of, threshold
+from osmodose.check.rules import RULES_BY_CODE
+from osmodose.course.judging import CourseFinding, when
 from osmodose.course.projection import Projection
 from osmodose.course.sodium_rules import projected_findings, sodium_window_findings
 from osmodose.course.timeline import SECONDS_PER_HOUR, Timeline, mannitol_between
@@ -51,14 +53,16 @@ def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     """The latest value against the ceilings (what the next dose starts from); an earlier peak only warns."""
     labs = timeline.labs
     out: list[CourseFinding] = []
-    for code, what, unit, values, warn_key, refuse_key in (
-        ("sodium-high", "measured sodium", "mmol/L", labs.sodium, "sodium_warn", "sodium_refuse"),
-        ("osmolality-high", "osmolality", "mOsm/kg", labs.osmolality, "osmolality_warn", "osmolality_refuse"),
+    for code, what, values in (
+        ("sodium-high", "measured sodium", labs.sodium),
+        ("osmolality-high", "osmolality", labs.osmolality),
     ):
         known = np.flatnonzero(np.isfinite(values))
         if not len(known):
             continue
-        warn, refuse = limits.get(warn_key), limits.get(refuse_key)
+        rule = RULES_BY_CODE[code]
+        unit = rule.unit
+        warn, refuse = rule.named_limits(limits)
 
         def label(j: int, what: str = what, code: str = code) -> str:
             if code != "osmolality-high":
@@ -108,7 +112,7 @@ def _osmolar_gap(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     if not len(has_gap) or not np.any(doses.agent.is_mannitol):
         return out
     t, gap = labs.t[has_gap], labs.gap[has_gap]
-    rise_limit = limits.get("osmolar_gap_rise_warn")
+    rise_limit = limits.osmolar_gap_rise_warn
     if rise_limit is not None and len(has_gap) > 1:
         across = mannitol_between(doses, t[None, :], t[:, None])  # row j later, column i earlier
         rise = np.where(across, gap[:, None] - gap[None, :], -np.inf)
@@ -145,7 +149,7 @@ def _gap_after_mannitol(
     published upper normal (McMaster Textbook of Internal Medicine).
     """
     labs = timeline.labs
-    warn, refuse = limits.get("osmolar_gap_warn"), limits.get("osmolar_gap_refuse")
+    warn, refuse = RULES_BY_CODE["osmolar-gap-high"].named_limits(limits)
     after = has_gap[labs.t[has_gap] > first_mannitol]
     if not len(after):
         return []
@@ -186,7 +190,7 @@ def _gap_after_mannitol(
 
 def _mannitol_24h(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     doses = timeline.doses
-    limit = limits.get("mannitol_24h_max")
+    limit = limits.mannitol_24h_max
     rows = np.flatnonzero(doses.agent.is_mannitol)
     if limit is None or not len(rows):
         return []
@@ -216,7 +220,7 @@ def _pressures(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     out: list[CourseFinding] = []
     if not len(r.t):
         return out
-    icp_limit = limits.get("icp_treat_above")
+    icp_limit = limits.icp_treat_above
     if severity_of(float(np.max(r.icp)), icp_limit, None) is not None:
         j = int(np.argmax(r.icp))
         message = (
@@ -234,7 +238,7 @@ def _pressures(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
                 time=r.times[j],
             )
         )
-    cpp_limit = limits.get("cpp_target_min")
+    cpp_limit = limits.cpp_target_min
     if severity_of(float(np.min(r.cpp)), cpp_limit, None, below=True) is not None:
         j = int(np.argmin(r.cpp))
         message = (
@@ -266,11 +270,11 @@ def lab_age_h(timeline: Timeline, t: np.ndarray) -> np.ndarray:
 
 def _stale_labs(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     doses = timeline.doses
-    limit = limits.get("lab_max_age")
+    limit = limits.lab_max_age
     if limit is None or not len(doses.t):
         return []
     age = lab_age_h(timeline, doses.t)
-    stale = np.flatnonzero(severities(age, limit, None))
+    stale = np.flatnonzero(threshold(age, limit, None))
     if not len(stale):
         return []
     j = int(stale[np.argmax(age[stale])])

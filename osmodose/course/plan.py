@@ -27,13 +27,14 @@ from datetime import datetime
 
 import numpy as np
 
+from osmodose.case.fields import keys
 from osmodose.case.inputs import parse_check_request
+from osmodose.check.judging import severity_of, worst_status
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
-from osmodose.course.judging import severity_of
 from osmodose.course.plan_osmolality import carried_osmolality, osmolality_findings
 from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
 from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, build_timeline, latest_lab_at
@@ -44,7 +45,8 @@ STALE_OSMOLALITY_NOTE = (
     "The check's osmolality figures use the latest lab's glucose and urea with the projected sodium; "
     "re-measure before dosing on them."
 )
-ORDER_FIELDS = ("agent", "volume", "dose", "duration", "line")
+#: The order a plan checks: the same fields as `osmodose check`'s order.
+ORDER_KEYS = keys("order")
 
 
 @dataclass(frozen=True)
@@ -65,8 +67,7 @@ class Plan:
 
     @property
     def status(self) -> str:
-        severities = [x.severity for x in (*self.check.findings, *self.findings)]
-        return "refuse" if "refuse" in severities else ("warn" if severities else "ok")
+        return worst_status(x.severity for x in (*self.check.findings, *self.findings))
 
 
 def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, object]) -> Plan:
@@ -87,12 +88,10 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
             "sex": p.sex,
             "height": p.height_cm,
             "tbw-method": tbw_method(episode, formulary),
+            **lab.lab_values(),
             "sodium": projection.sodium_now,
-            "potassium": lab.potassium_mmol_l,
-            "glucose": lab.glucose_mmol_l,
-            "urea": lab.urea_mmol_l,
             "osmolality": lab.osmolality_mosm_kg if carried is None else None,
-            **{name: fields.get(name) for name in ORDER_FIELDS},
+            **{name: fields.get(name) for name in ORDER_KEYS},
         }
     )
     check = run_check(request, formulary)
@@ -120,7 +119,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
 
 
 def _stale(timeline: Timeline, formulary: Formulary, at: datetime) -> list[CourseFinding]:
-    limit = formulary.limits.get("lab_max_age")
+    limit = formulary.limits.lab_max_age
     age = float(lab_age_h(timeline, np.asarray([at.timestamp()]))[0])
     if severity_of(age, limit, None) is None:
         return []
@@ -137,7 +136,7 @@ def _stale(timeline: Timeline, formulary: Formulary, at: datetime) -> list[Cours
 def _mannitol(
     timeline: Timeline, formulary: Formulary, check: CheckResult, at: datetime, weight_kg: float
 ) -> list[CourseFinding]:
-    limit = formulary.limits.get("mannitol_24h_max")
+    limit = formulary.limits.mannitol_24h_max
     dose = check.dose
     if limit is None or dose is None or formulary.agent(dose.agent).solute != "mannitol" or dose.solute_g is None:
         return []

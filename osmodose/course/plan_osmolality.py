@@ -19,9 +19,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from osmodose.check.judging import limit_crossed, severity_of
 from osmodose.check.results import CheckResult
+from osmodose.check.rules import RULES_BY_CODE
 from osmodose.course.episode import LabEntry
-from osmodose.course.judging import CourseFinding, limit_crossed, severity_of, when
+from osmodose.course.judging import CourseFinding, when
 from osmodose.course.projection import Projection
 from osmodose.course.timeline import Timeline
 from osmodose.formulary.model import Formulary
@@ -73,7 +75,7 @@ def osmolality_findings(
             "Re-measure before dosing on it."
         )
         lowers = check.projected_sodium_rise_mmol_l is not None and check.projected_sodium_rise_mmol_l < 0
-        warn, refuse = limits.get("osmolality_warn"), limits.get("osmolality_refuse")
+        warn, refuse = RULES_BY_CODE["osmolality-high"].named_limits(limits)
         severity = severity_of(carried.value, warn, refuse)
         if not lowers and (calculated is None or carried.value > calculated) and severity is not None:
             limit = limit_crossed(severity, warn, refuse)
@@ -106,7 +108,7 @@ def _measured_gap(
         return []
     labs = timeline.labs
     gap = float(labs.gap[projection.lab_index])
-    warn, refuse = formulary.limits.get("osmolar_gap_warn"), formulary.limits.get("osmolar_gap_refuse")
+    warn, refuse = RULES_BY_CODE["osmolar-gap-high"].named_limits(formulary.limits)
     severity = severity_of(gap, warn, refuse)
     if severity is None:
         return []

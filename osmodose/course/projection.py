@@ -24,11 +24,10 @@ import numpy as np
 from osmodose.case.inputs import CheckRequest, Labs, Patient
 from osmodose.check.engine import total_body_water
 from osmodose.check.run import cases_from_request
-from osmodose.course.episode import Episode, LabEntry
+from osmodose.course.episode import Episode
 from osmodose.course.timeline import DoseColumns, Timeline, latest_lab_at
 from osmodose.formulary.model import Formulary
 from osmodose.science import formulas as f
-from osmodose.science.units import Q_
 
 SKIPPED_NOTE = (
     "{n} mannitol dose{s} since the latest lab: not in the sodium projection "
@@ -39,17 +38,6 @@ SKIPPED_NOTE = (
 def patient_of(episode: Episode) -> Patient:
     p = episode.patient
     return Patient(weight_kg=p.weight_kg, age_years=p.age_years, sex=p.sex, height_cm=p.height_cm)
-
-
-def labs_of(lab: LabEntry, sodium: float | None = None) -> Labs:
-    """A lab entry as the engine's Labs; `sodium` replaces the measured one (a projection)."""
-    return Labs(
-        sodium_mmol_l=lab.sodium_mmol_l if sodium is None else sodium,
-        potassium_mmol_l=lab.potassium_mmol_l,
-        glucose_mmol_l=lab.glucose_mmol_l,
-        urea_mmol_l=lab.urea_mmol_l,
-        osmolality_mosm_kg=lab.osmolality_mosm_kg,
-    )
 
 
 NO_HEIGHT_NOTE = (
@@ -92,14 +80,8 @@ def project_through(start_sodium: float, doses: DoseColumns, rows: np.ndarray, t
     sodium = float(start_sodium)
     for k, row in enumerate(rows):
         if doses.agent.projects_sodium[row]:
-            sodium = float(
-                f.projected_sodium(
-                    Q_(sodium, "mmol/L"),
-                    Q_(float(doses.agent.cations_mmol_l[row]), "mmol/L"),
-                    Q_(tbw_l, "L"),
-                    Q_(float(doses.volume_ml[row]), "mL"),
-                ).m_as("mmol/L")
-            )
+            volume_l = float(doses.volume_ml[row]) / f.ML_PER_L
+            sodium = float(f.projected_sodium(sodium, float(doses.agent.cations_mmol_l[row]), tbw_l, volume_l))
         out[k] = sodium
     return out
 

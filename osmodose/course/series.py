@@ -81,8 +81,8 @@ def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
         reading_hours=hours(timeline.readings.t),
         icp=tuple(float(x) for x in timeline.readings.icp),
         cpp=tuple(float(x) for x in timeline.readings.cpp),
-        sodium_warn=limits.get("sodium_warn"),
-        sodium_refuse=limits.get("sodium_refuse"),
-        icp_treat_above=limits.get("icp_treat_above"),
-        cpp_target_min=limits.get("cpp_target_min"),
+        sodium_warn=limits.sodium_warn,
+        sodium_refuse=limits.sodium_refuse,
+        icp_treat_above=limits.icp_treat_above,
+        cpp_target_min=limits.cpp_target_min,
     )

@@ -21,40 +21,29 @@ from __future__ import annotations
 
 import numpy as np
 
-from osmodose.check.rules import SEVERITY_NAMES
-from osmodose.course.judging import CourseFinding, limit_crossed, severities, severity_of, when, worst
+from osmodose.check.judging import (
+    HIGH_RISK_POTASSIUM_BELOW,
+    HIGH_RISK_SODIUM_AT_MOST,
+    SEVERITY_NAMES,
+    limit_crossed,
+    severity_of,
+    threshold,
+    worst_index,
+)
+from osmodose.check.rules import RULES_BY_CODE, rise_limits_in_force
+from osmodose.course.judging import CourseFinding, when
 from osmodose.course.projection import Projection
 from osmodose.course.timeline import LOOKBACK_H, SECONDS_PER_HOUR, WINDOW_H, Timeline, latest_lab_at, lookback
 from osmodose.formulary.model import Limits
 
 HIGH_RISK_WORDS = (
-    "high risk of osmotic demyelination: sodium 105 mmol/L or below, or potassium below 3.5 mmol/L, within 48 h"
+    f"high risk of osmotic demyelination: sodium {HIGH_RISK_SODIUM_AT_MOST:g} mmol/L or below, "
+    f"or potassium below {HIGH_RISK_POTASSIUM_BELOW:g} mmol/L, within 48 h"
 )
 
 
 def _num(value: float | None) -> float:
     return np.nan if value is None else float(value)
-
-
-def rise_limits(
-    limits: Limits, lowest_sodium: np.ndarray, high_risk: np.ndarray
-) -> tuple[np.ndarray, float, np.ndarray]:
-    """For each window: whether the rise limits apply, the warn limit, and the refuse limit in force.
-
-    A unit that sets no `sodium_rise_applies_below` has the rise limits apply
-    always.  The high-risk limit never loosens the usual one (the smaller wins).
-    """
-    below = limits.get("sodium_rise_applies_below")
-    if below is None:
-        applies = np.ones(np.shape(lowest_sodium), dtype=bool)
-    else:
-        applies = severities(lowest_sodium, below, None, below=True) > 0
-    refuse = _num(limits.get("sodium_rise_24h_refuse"))
-    high = _num(limits.get("sodium_rise_24h_high_risk_refuse"))
-    with np.errstate(invalid="ignore"):
-        risky_refuse = np.fmin(refuse, high)  # fmin: a missing (NaN) limit gives way to the other
-    refuse_in_force = np.where(high_risk, risky_refuse, refuse)
-    return applies, _num(limits.get("sodium_rise_24h_warn")), refuse_in_force
 
 
 def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
@@ -63,14 +52,14 @@ def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFin
     if len(labs.t) < 2:
         return []
     window, back = labs.sodium_window, labs.sodium_lookback
-    applies, rise_warn, rise_refuse = rise_limits(limits, back.lowest_sodium, back.high_risk)
-    fall_warn, fall_refuse = limits.get("sodium_fall_24h_warn"), limits.get("sodium_fall_24h_refuse")
+    applies, rise_warn, rise_refuse = rise_limits_in_force(limits, back.lowest_sodium, back.high_risk)
+    fall_warn, fall_refuse = RULES_BY_CODE["sodium-fall-24h"].named_limits(limits)
     out: list[CourseFinding] = []
     for code, change, severity, start_index, verb, warn, refuse, risky in (
         (
             "sodium-rise-24h",
             window.rise,
-            np.where(applies, severities(window.rise, rise_warn, rise_refuse), 0),
+            np.where(applies, threshold(window.rise, rise_warn, rise_refuse), 0),
             window.low_index,
             "rose",
             np.full(len(labs.t), rise_warn),
@@ -80,7 +69,7 @@ def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFin
         (
             "sodium-fall-24h",
             window.fall,
-            severities(window.fall, fall_warn, fall_refuse),
+            threshold(window.fall, fall_warn, fall_refuse),
             window.high_index,
             "fell",
             np.full(len(labs.t), _num(fall_warn)),
@@ -90,7 +79,7 @@ def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFin
     ):
         if not np.any(severity):
             continue
-        j = worst(severity, change)
+        j = worst_index(severity, change)
         name = SEVERITY_NAMES[int(severity[j])]
         limit = float(refuse[j] if name == "refuse" else warn[j])
         value, i = float(change[j]), int(start_index[j])
@@ -143,7 +132,7 @@ def projected_findings(
             )
         )
 
-    warn, refuse = limits.get("sodium_warn"), limits.get("sodium_refuse")
+    warn, refuse = RULES_BY_CODE["projected-sodium-high"].named_limits(limits)
     if (severity := severity_of(sodium, warn, refuse)) is not None:
         limit = limit_crossed(severity, warn, refuse)
         add(
@@ -153,7 +142,7 @@ def projected_findings(
             sodium,
             limit,
         )
-    warn, refuse = limits.get("sodium_low_warn"), limits.get("sodium_low_refuse")
+    warn, refuse = RULES_BY_CODE["projected-sodium-low"].named_limits(limits)
     if sodium < before and (severity := severity_of(sodium, warn, refuse, below=True)) is not None:
         limit = limit_crossed(severity, warn, refuse)
         add(
@@ -169,14 +158,15 @@ def projected_findings(
         inside = np.asarray([latest_lab_at(labs, t_at)])
     t_from = min(t_at - LOOKBACK_H * SECONDS_PER_HOUR, float(labs.t[inside[0]]))
     back = lookback(labs.t, labs.sodium, labs.potassium, np.asarray([t_from]), np.asarray([t_at]))
-    applies, warn_rise, refuse_rise = rise_limits(limits, back.lowest_sodium, back.high_risk)
+    applies, warn_rise, refuse_rise = rise_limits_in_force(limits, back.lowest_sodium, back.high_risk)
     low = int(inside[np.argmin(labs.sodium[inside])])
     high = int(inside[np.argmax(labs.sodium[inside])])
+    fall_warn, fall_refuse = RULES_BY_CODE["sodium-fall-24h"].named_limits(limits)
     for code, change, start, direction, warn, refuse, judged, risky in (
         ("projected-rise-24h", sodium - float(labs.sodium[low]), low, "above", warn_rise, float(refuse_rise[0]),
          bool(applies[0]), bool(back.high_risk[0])),
-        ("projected-fall-24h", float(labs.sodium[high]) - sodium, high, "below", limits.get("sodium_fall_24h_warn"),
-         limits.get("sodium_fall_24h_refuse"), True, False),
+        ("projected-fall-24h", float(labs.sodium[high]) - sodium, high, "below", fall_warn, fall_refuse, True,
+         False),
     ):  # fmt: skip
         severity = severity_of(change, warn, refuse) if judged else None
         if severity is None:

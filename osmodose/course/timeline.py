@@ -16,12 +16,12 @@ from datetime import datetime
 
 import numpy as np
 
-from osmodose.check.engine import AgentColumns
+from osmodose.case.fields import LAB_FIELDS
+from osmodose.check.engine import AgentColumns, Cases, compute
+from osmodose.check.judging import high_risk, judged_osmolality
 from osmodose.course.episode import Episode
 from osmodose.formulary.model import Formulary
 from osmodose.science import formulas as f
-from osmodose.science.formulas import cerebral_perfusion_pressure
-from osmodose.science.units import Q_
 
 WINDOW_H = 24.0
 #: How far back a rise looks for the low sodium that makes the 24 h rise limits apply, and for
@@ -29,10 +29,6 @@ WINDOW_H = 24.0
 #: begun yesterday from a low sodium is still judged today once sodium is back in range.
 LOOKBACK_H = 48.0
 SECONDS_PER_HOUR = 3600.0
-#: High risk of osmotic demyelination: sodium 105 mmol/L or below, or hypokalaemia (potassium
-#: below 3.5 mmol/L) (Verbalis JG et al. Am J Med 2013;126:S1-42).
-HIGH_RISK_SODIUM_AT_MOST = 105.0
-HIGH_RISK_POTASSIUM_BELOW = 3.5
 
 
 def _seconds(times: tuple[datetime, ...] | list[datetime]) -> np.ndarray:
@@ -91,8 +87,7 @@ def lookback(
 ) -> Lookback:
     """The labs drawn in each window [t_from, t_to] (inclusive), vectorised over windows."""
     inside = (t[None, :] >= np.asarray(t_from)[:, None]) & (t[None, :] <= np.asarray(t_to)[:, None])
-    with np.errstate(invalid="ignore"):
-        risky = (sodium <= HIGH_RISK_SODIUM_AT_MOST) | (potassium < HIGH_RISK_POTASSIUM_BELOW)  # NaN K: no
+    risky = high_risk(sodium, potassium)
     return Lookback(
         lowest_sodium=np.min(np.where(inside, sodium[None, :], np.inf), axis=1, initial=np.inf),
         high_risk=np.any(inside & risky[None, :], axis=1),
@@ -107,6 +102,7 @@ class LabColumns:
     potassium: np.ndarray
     glucose: np.ndarray
     urea: np.ndarray
+    ethanol: np.ndarray
     measured_osmolality: np.ndarray
     calculated_osmolality: np.ndarray
     osmolality: np.ndarray  # measured, else calculated: what the ceilings judge (as in a check)
@@ -145,30 +141,41 @@ class Timeline:
     readings: ReadingColumns
 
 
-def lab_columns(episode: Episode) -> LabColumns:
+def lab_columns(episode: Episode, formulary: Formulary) -> LabColumns:
+    """The labs as columns, their osmolality figures worked by the engine exactly as a check works them."""
     labs = episode.labs
+    n = len(labs)
     times = tuple(lab.time for lab in labs)
     t = _seconds(times)
-    sodium = _column([lab.sodium_mmol_l for lab in labs])
-    glucose = _column([lab.glucose_mmol_l for lab in labs])
-    urea = _column([lab.urea_mmol_l for lab in labs])
-    potassium = _column([lab.potassium_mmol_l for lab in labs])
-    measured = _column([lab.osmolality_mosm_kg for lab in labs])
-    calculated = np.atleast_1d(
-        f.calculated_osmolality(Q_(sodium, "mmol/L"), Q_(glucose, "mmol/L"), Q_(urea, "mmol/L")).m_as("mOsm/kg")
+    columns = {field.key: _column([lab.value(field.key) for lab in labs]) for field in LAB_FIELDS}
+    p = episode.patient
+    cases = Cases(
+        weight_kg=np.full(n, p.weight_kg),
+        age_years=np.full(n, p.age_years),
+        male=np.full(n, p.sex == "male"),
+        height_cm=np.full(n, np.nan if p.height_cm is None else p.height_cm),
+        labs=columns,
+        agent_index=np.full(n, -1),
+        dose_unit=np.full(n, ""),
+        dose_amount=np.full(n, np.nan),
+        dose_per_kg=np.zeros(n, dtype=bool),
+        duration_min=np.full(n, np.nan),
+        use_watson=np.zeros(n, dtype=bool),
     )
-    gap = np.atleast_1d(f.osmolar_gap(Q_(measured, "mOsm/kg"), Q_(calculated, "mOsm/kg")).m_as("mOsm/kg"))
+    figures = compute(cases, formulary.agents, formulary.settings)
+    sodium, potassium, measured = columns["sodium"], columns["potassium"], columns["osmolality"]
     return LabColumns(
         times=times,
         t=t,
         sodium=sodium,
         potassium=potassium,
-        glucose=glucose,
-        urea=urea,
+        glucose=columns["glucose"],
+        urea=columns["urea"],
+        ethanol=columns["ethanol"],
         measured_osmolality=measured,
-        calculated_osmolality=calculated,
-        osmolality=np.where(np.isnan(measured), calculated, measured),
-        gap=gap,
+        calculated_osmolality=figures.calculated_osmolality,
+        osmolality=judged_osmolality(measured, figures.calculated_osmolality),
+        gap=figures.osmolar_gap,
         sodium_window=window_change(t, sodium),
         sodium_lookback=lookback(t, sodium, potassium, t - LOOKBACK_H * SECONDS_PER_HOUR, t),
     )
@@ -185,7 +192,7 @@ def dose_columns(episode: Episode, formulary: Formulary, weight_kg: float) -> Do
     t = _seconds([d.time for d in doses])
     duration = _column([d.duration_min for d in doses])
     volume = _column([d.volume_ml for d in doses])
-    grams = f.amount_in_volume(Q_(volume, "mL"), Q_(agent.solute_g_per_l, "g/L"), "g").m_as("g")
+    grams = np.asarray(f.amount_in_volume(volume, agent.solute_g_per_l), dtype=float)
     mannitol_g = np.where(agent.is_mannitol, np.nan_to_num(grams, nan=0.0), 0.0)
     dt = t[:, None] - t[None, :]
     inside = (dt >= 0) & (dt <= WINDOW_H * SECONDS_PER_HOUR)
@@ -212,7 +219,7 @@ def reading_columns(episode: Episode) -> ReadingColumns:
         t=_seconds([r.time for r in readings]),
         map=map_,
         icp=icp,
-        cpp=cerebral_perfusion_pressure(Q_(map_, "mmHg"), Q_(icp, "mmHg")).m_as("mmHg"),
+        cpp=np.asarray(f.cerebral_perfusion_pressure(map_, icp), dtype=float),
     )
 
 
@@ -220,7 +227,7 @@ def build_timeline(episode: Episode, formulary: Formulary) -> Timeline:
     weight = episode.patient.weight_kg
     return Timeline(
         weight_kg=weight,
-        labs=lab_columns(episode),
+        labs=lab_columns(episode, formulary),
         doses=dose_columns(episode, formulary, weight),
         readings=reading_columns(episode),
     )

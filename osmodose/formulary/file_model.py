@@ -2,17 +2,18 @@
 
 These models describe the file, strings and all, so the JSON Schema made from
 them checks a file in an editor.  Turning the strings into quantities and
-cross-checking them happens in `resolve`; keys here are fixed because units
+cross-checking them happens in `load`; keys here are fixed because units
 write files against them.  Unknown keys are rejected: a misspelt limit must
 never silently fall back to its default.
 """
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import TYPE_CHECKING, Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import BaseModel, ConfigDict, Field, create_model
 
+from osmodose.formulary.limits import LIMIT_SPECS
 from osmodose.science.chemistry import SoluteName
 
 _STRICT = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
@@ -44,57 +45,26 @@ class SettingsTable(BaseModel):
     """Default total-body-water method when the user does not choose one."""
 
 
-class LimitsTable(BaseModel):
-    """The optional `[limits]` table; each value a quantity string such as "160 mmol/L"."""
+def _limits_table() -> type[BaseModel]:
+    """The `[limits]` table, one optional quantity string per `LIMIT_SPECS` entry, described by it."""
+    fields: dict[str, Any] = {
+        name: (str | None, Field(default=None, description=spec.describe())) for name, spec in LIMIT_SPECS.items()
+    }
+    return create_model(
+        "LimitsTable",
+        __config__=_STRICT,
+        __doc__='The optional `[limits]` table; each value a quantity string such as "160 mmol/L".',
+        **fields,
+    )
 
-    model_config = _STRICT
 
-    sodium_warn: str | None = None
-    """Serum sodium (current or projected) above which an order is warned; default 155 mmol/L."""
-    sodium_refuse: str | None = None
-    """Serum sodium (current or projected) above which an order is refused; default 160 mmol/L."""
-    osmolality_warn: str | None = None
-    """Serum osmolality above which an order is warned; default 310 mOsm/kg."""
-    osmolality_refuse: str | None = None
-    """Serum osmolality above which an order is refused; default 320 mOsm/kg."""
-    osmolar_gap_warn: str | None = None
-    """Osmolar gap above which mannitol is warned; default 10 mOsm/kg."""
-    osmolar_gap_refuse: str | None = None
-    """Osmolar gap above which mannitol is refused; default 20 mOsm/kg."""
-    osmolar_gap_negative_warn: str | None = None
-    """How far measured osmolality may fall below calculated before a warning; default 10 mOsm/kg."""
-    sodium_rise_24h_warn: str | None = None
-    """Sodium rise within 24 h above which an order is warned; default 8 mmol/L."""
-    sodium_rise_24h_refuse: str | None = None
-    """Sodium rise within 24 h above which an order is refused; default 10 mmol/L."""
-    sodium_rise_applies_below: str | None = None
-    """Starting sodium below which the 24 h rise limits apply; default 135 mmol/L."""
-    sodium_rise_24h_high_risk_refuse: str | None = None
-    """Rise within 24 h refused for high risk of osmotic demyelination; default 8 mmol/L."""
-    sodium_fall_24h_warn: str | None = None
-    """Sodium fall within 24 h above which an order is warned; default 10 mmol/L."""
-    sodium_fall_24h_refuse: str | None = None
-    """Sodium fall within 24 h above which an order is refused; default 12 mmol/L."""
-    sodium_low_warn: str | None = None
-    """Projected sodium below which an order that lowers sodium is warned; default 130 mmol/L."""
-    sodium_low_refuse: str | None = None
-    """Projected sodium below which an order that lowers sodium is refused; default 125 mmol/L."""
-    peripheral_osmolarity_warn: str | None = None
-    """Infusate osmolarity above which a peripheral line is warned; default 900 mOsm/L."""
-    dose_tolerance: str | None = None
-    """Accepted difference between a stated and a recomputed dose; default "10 %"."""
-    sodium_tolerance: str | None = None
-    """Accepted difference between a stated expected sodium and the projected one; default 2 mmol/L."""
-    lab_max_age: str | None = None
-    """Age of labs beyond which they are too old to dose on; default "6 h"."""
-    icp_treat_above: str | None = None
-    """Intracranial pressure above which treatment is indicated; default 22 mmHg."""
-    cpp_target_min: str | None = None
-    """Cerebral perfusion pressure below which a reading is warned; default 60 mmHg."""
-    osmolar_gap_rise_warn: str | None = None
-    """Rise of the osmolar gap between labs after mannitol that is warned; default 10 mOsm/kg."""
-    mannitol_24h_max: str | None = None
-    """Cumulative mannitol in 24 h above which a dose is warned, e.g. "2 g/kg"; no default."""
+if TYPE_CHECKING:
+
+    class LimitsTable(BaseModel):
+        """Generated from `LIMIT_SPECS` below; this stub only tells the type checker it is a model."""
+
+else:
+    LimitsTable = _limits_table()
 
 
 class AgentEntry(BaseModel):

@@ -1,13 +1,19 @@
 """The safety limits a formulary may set, each with its default and its source.
 
 A unit's `[limits]` table overrides any of these; local protocol always wins.
-The table is the single place a limit's unit, default and provenance live: the
-file model, the resolved formulary, `formulary show` and the rules all read it.
+`LIMIT_SPECS` is the single place a limit is declared: its unit, default and
+provenance.  The file model's `[limits]` table is generated from it
+(`file_model.LimitsTable`), the resolved `Limits` answers each name as an
+attribute (`limits.sodium_warn`), and `formulary show`, the template, the
+diff and the rules all read it.  A new limit is one `LimitSpec` here.
 """
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
+
+from pydantic import BaseModel, ConfigDict
 
 
 @dataclass(frozen=True)
@@ -19,6 +25,13 @@ class LimitSpec:
     default: float | None
     source: str
     meaning: str
+
+    def describe(self) -> str:
+        """The sentence a unit reads in the template, the schema and docs: meaning, then default."""
+        text = self.meaning[0].upper() + self.meaning[1:]
+        if self.default is None:
+            return f"{text}; no default."
+        return f"{text}; default {self.default:g} {display_unit(self.unit)}."
 
 
 _CONC = ("mmol/L", "mEq/L")
@@ -209,3 +222,41 @@ REVERSED_PAIRS: tuple[tuple[str, str], ...] = (("sodium_low_warn", "sodium_low_r
 def display_unit(unit: str) -> str:
     """A canonical unit as people write it ("percent" is "%")."""
     return "%" if unit == "percent" else unit
+
+
+class Limits(BaseModel):
+    """Limits in force, canonical values: each limit is an attribute (`limits.sodium_warn`).
+
+    `values` holds one entry per `LIMIT_SPECS` name (None where the unit sets
+    none and there is no default); `from_file` names those the file set.  A
+    name that is not a limit raises AttributeError, so a misspelt limit in code
+    fails the first test that reaches it (and a test scans the code for them).
+    """
+
+    model_config = ConfigDict(frozen=True)
+
+    values: Mapping[str, float | None]
+    from_file: frozenset[str] = frozenset()
+
+    def __getattr__(self, name: str) -> float | None:
+        values = self.__dict__.get("values")
+        if values is not None and name in values:
+            return values[name]
+        raise AttributeError(f"{name!r} is not a limit osmodose knows")
+
+    def get(self, name: str) -> float | None:
+        """The limit called `name`, for code that walks every limit (show, diff, template)."""
+        return self.values[name]
+
+    def required(self, name: str) -> float:
+        """A limit that has a default, so the loader always fills it (a unit can change it, never remove it)."""
+        value = self.values[name]
+        if value is None:
+            raise ValueError(f"limit {name} has no default and must not be required")
+        return value
+
+    def source(self, name: str) -> str:
+        """Where the value in force comes from, for reports and `formulary show`."""
+        if name in self.from_file:
+            return "formulary file"
+        return "default: " + LIMIT_SPECS[name].source

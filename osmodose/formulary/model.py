@@ -13,7 +13,7 @@ from pydantic import BaseModel, ConfigDict
 
 from osmodose.errors import InputError
 from osmodose.formulary.file_model import SettingsTable
-from osmodose.formulary.limits import LIMIT_SPECS
+from osmodose.formulary.limits import Limits
 from osmodose.science.chemistry import SOLUTES, SoluteName
 
 _FROZEN = ConfigDict(frozen=True)
@@ -59,28 +59,6 @@ class Agent(BaseModel):
     def projects_sodium(self) -> bool:
         """Whether the sodium projection applies (not for mannitol)."""
         return SOLUTES[self.solute].projects_sodium
-
-
-class Limits(BaseModel):
-    """Limits in force: canonical values and which came from the file."""
-
-    model_config = _FROZEN
-
-    values: dict[str, float | None]
-    from_file: frozenset[str] = frozenset()
-
-    def get(self, name: str) -> float | None:
-        return self.values[name]
-
-    def source(self, name: str) -> str:
-        """Where the value in force comes from, for reports and `formulary show`."""
-        if name in self.from_file:
-            return "formulary file"
-        return "default: " + LIMIT_SPECS[name].source
-
-    @classmethod
-    def defaults(cls) -> Limits:
-        return cls(values={name: spec.default for name, spec in LIMIT_SPECS.items()})
 
 
 class Formulary(BaseModel):

@@ -104,7 +104,7 @@ def peripheral_problem(agent: Agent, limits: Limits) -> str | None:
     Not an error: 3 % saline (1027 mOsm/L) is widely given peripherally for
     short periods; the unit decides, and every peripheral order is warned.
     """
-    limit = limits.get("peripheral_osmolarity_warn")
+    limit = limits.peripheral_osmolarity_warn
     if agent.route != "peripheral" or limit is None or not agent.osmolarity_mosm_l > limit:
         return None
     return (

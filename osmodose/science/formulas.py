@@ -1,18 +1,19 @@
 """Every formula osmodose uses, once, for scalars and numpy arrays alike.
 
-Each function takes pint quantities whose magnitudes may be floats or numpy
-arrays (one audit column per argument) and returns a quantity of the same
-shape.  Inputs are converted to the unit the published formula is written in
-with `m_as`, so a value in the wrong dimension fails loudly instead of
-producing a number.  Each function names its published source.
+Every argument and result is a plain float or numpy array in the canonical
+unit its name carries (`sodium_mmol_l`, `tbw_l`, `volume_l`): units are read and
+checked at the edges (`units.parse_quantity` for what people type, the
+formulary loader for files), so the engine runs on numbers alone, one audit
+column per argument or a single case alike.  A 0-d result comes back as a
+Python float.  Each function names its published source.
 """
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 from numpy.typing import ArrayLike
-
-from osmodose.science.units import Q_, Quantity
 
 #: Serum sodium counts twice: each Na+ brings an anion (Cl-, HCO3-) with it.
 SODIUM_OSMOLES_PER_MOLE = 2.0
@@ -46,13 +47,20 @@ WATSON_WOMAN_HEIGHT = 0.1069
 WATSON_WOMAN_WEIGHT = 0.2466
 
 
+#: A float for a scalar case, an array for a column of cases.
+Figure = Any
+
+MINUTES_PER_HOUR = 60.0
+ML_PER_L = 1000.0
+
+
 def _arr(value: ArrayLike) -> np.ndarray:
     return np.asarray(value, dtype=float)
 
 
-def _out(values: np.ndarray, unit: str) -> Quantity:
-    """Wrap a result; 0-d arrays become floats so scalar callers get scalars."""
-    return Q_(values.item() if values.ndim == 0 else values, unit)
+def _out(values: np.ndarray) -> Figure:
+    """0-d arrays become floats so scalar callers get scalars."""
+    return values.item() if values.ndim == 0 else values
 
 
 def tbw_fraction(
@@ -74,114 +82,107 @@ def tbw_fraction(
     return np.where(age < adult_age, TBW_FRACTION_CHILD, adult)
 
 
-def tbw_from_fraction(weight: Quantity, fraction: ArrayLike) -> Quantity:
+def tbw_from_fraction(weight_kg: ArrayLike, fraction: ArrayLike) -> Figure:
     """Total body water in litres from weight and a water fraction (Adrogue HJ, Madias NE. N Engl J Med 2000)."""
-    return _out(_arr(weight.m_as("kg")) * _arr(fraction) / KG_PER_LITRE, "L")
+    return _out(_arr(weight_kg) * _arr(fraction) / KG_PER_LITRE)
 
 
-def tbw_watson(age: Quantity, height: Quantity, weight: Quantity, male: ArrayLike) -> Quantity:
+def tbw_watson(age_years: ArrayLike, height_cm: ArrayLike, weight_kg: ArrayLike, male: ArrayLike) -> Figure:
     """Watson formula (Watson PE et al. Am J Clin Nutr 1980;33:27-39), litres.
 
     The age coefficient is 0.09516 as in the original abstract; many secondary
     sources swap two digits (0.09156).
     """
-    a = _arr(age.m_as("year"))
-    h = _arr(height.m_as("cm"))
-    w = _arr(weight.m_as("kg"))
+    a, h, w = _arr(age_years), _arr(height_cm), _arr(weight_kg)
     men = WATSON_MAN_INTERCEPT - WATSON_MAN_AGE * a + WATSON_MAN_HEIGHT * h + WATSON_MAN_WEIGHT * w
     women = WATSON_WOMAN_INTERCEPT + WATSON_WOMAN_HEIGHT * h + WATSON_WOMAN_WEIGHT * w
-    return _out(np.where(np.asarray(male, dtype=bool), men, women), "L")
+    return _out(np.where(np.asarray(male, dtype=bool), men, women))
 
 
 def calculated_osmolality(
-    sodium: Quantity,
-    glucose: Quantity,
-    urea: Quantity,
-    ethanol: Quantity | None = None,
+    sodium_mmol_l: ArrayLike,
+    glucose_mmol_l: ArrayLike,
+    urea_mmol_l: ArrayLike,
+    ethanol_mmol_l: ArrayLike = 0.0,
     ethanol_factor: float = ETHANOL_FACTOR_MOLAR,
-) -> Quantity:
-    """2 Na + glucose + urea (+ factor x ethanol), all in mmol/L (McMaster Textbook of Internal Medicine).
+) -> Figure:
+    """2 Na + glucose + urea (+ factor x ethanol), all in mmol/L, in mOsm/kg (McMaster Textbook of Internal Medicine).
 
     Conventional-unit labs (glucose/18, BUN/2.8, ethanol/4.6, all mg/dL) give
     the same figure once converted with the molar masses: the divisors are
     molar mass / 10.
     """
-    total = (
-        SODIUM_OSMOLES_PER_MOLE * _arr(sodium.m_as("mmol/L")) + _arr(glucose.m_as("mmol/L")) + _arr(urea.m_as("mmol/L"))
-    )
-    if ethanol is not None:
-        total = total + ethanol_factor * _arr(ethanol.m_as("mmol/L"))
-    return _out(total * KG_PER_LITRE, "mOsm/kg")
+    total = SODIUM_OSMOLES_PER_MOLE * _arr(sodium_mmol_l) + _arr(glucose_mmol_l) + _arr(urea_mmol_l)
+    total = total + ethanol_factor * _arr(ethanol_mmol_l)
+    return _out(total * KG_PER_LITRE)
 
 
-def effective_osmolality(sodium: Quantity, glucose: Quantity) -> Quantity:
-    """Tonicity, 2 Na + glucose: urea and ethanol cross cell membranes (standard physiology)."""
-    total = SODIUM_OSMOLES_PER_MOLE * _arr(sodium.m_as("mmol/L")) + _arr(glucose.m_as("mmol/L"))
-    return _out(total * KG_PER_LITRE, "mOsm/kg")
+def effective_osmolality(sodium_mmol_l: ArrayLike, glucose_mmol_l: ArrayLike) -> Figure:
+    """Tonicity, 2 Na + glucose, mOsm/kg: urea and ethanol cross cell membranes (standard physiology)."""
+    return _out((SODIUM_OSMOLES_PER_MOLE * _arr(sodium_mmol_l) + _arr(glucose_mmol_l)) * KG_PER_LITRE)
 
 
-def osmolar_gap(measured: Quantity, calculated: Quantity) -> Quantity:
-    """Measured minus calculated osmolality."""
-    return _out(_arr(measured.m_as("mOsm/kg")) - _arr(calculated.m_as("mOsm/kg")), "mOsm/kg")
+def osmolar_gap(measured_mosm_kg: ArrayLike, calculated_mosm_kg: ArrayLike) -> Figure:
+    """Measured minus calculated osmolality, mOsm/kg."""
+    return _out(_arr(measured_mosm_kg) - _arr(calculated_mosm_kg))
 
 
-def projected_sodium(serum_sodium: Quantity, infusate_cations: Quantity, tbw: Quantity, volume: Quantity) -> Quantity:
-    """Serum sodium after infusing `volume`, by mass balance.
+def projected_sodium(
+    serum_sodium_mmol_l: ArrayLike, infusate_cations_mmol_l: ArrayLike, tbw_l: ArrayLike, volume_l: ArrayLike
+) -> Figure:
+    """Serum sodium after infusing `volume_l`, by mass balance, mmol/L.
 
     Na_new = Na + V (Na_inf + K_inf - Na) / (TBW + V): Chen S et al. Kidney360
     2021; at V = 1 L this is the Adrogue-Madias change per litre.  Ongoing
     losses are not modelled.
     """
-    na = _arr(serum_sodium.m_as("mmol/L"))
-    c = _arr(infusate_cations.m_as("mmol/L"))
-    w = _arr(tbw.m_as("L"))
-    v = _arr(volume.m_as("L"))
-    return _out(na + v * (c - na) / (w + v), "mmol/L")
+    na, c, w, v = _arr(serum_sodium_mmol_l), _arr(infusate_cations_mmol_l), _arr(tbw_l), _arr(volume_l)
+    return _out(na + v * (c - na) / (w + v))
 
 
-def sodium_change_per_litre(serum_sodium: Quantity, infusate_cations: Quantity, tbw: Quantity) -> Quantity:
+def sodium_change_per_litre(
+    serum_sodium_mmol_l: ArrayLike, infusate_cations_mmol_l: ArrayLike, tbw_l: ArrayLike
+) -> Figure:
     """Adrogue-Madias: (Na_inf + K_inf - Na) / (TBW + 1) for one litre (N Engl J Med 2000;342:1581-9)."""
-    one_litre = Q_(1.0, "L")
-    new = projected_sodium(serum_sodium, infusate_cations, tbw, one_litre)
-    return new - serum_sodium.to("mmol/L")
+    new = projected_sodium(serum_sodium_mmol_l, infusate_cations_mmol_l, tbw_l, 1.0)
+    return _out(_arr(new) - _arr(serum_sodium_mmol_l))
 
 
 def volume_for_sodium_change(
-    serum_sodium: Quantity, infusate_cations: Quantity, tbw: Quantity, change: Quantity
-) -> Quantity:
-    """The volume whose projected sodium differs from serum by `change`.
+    serum_sodium_mmol_l: ArrayLike, infusate_cations_mmol_l: ArrayLike, tbw_l: ArrayLike, change_mmol_l: ArrayLike
+) -> Figure:
+    """The volume in litres whose projected sodium differs from serum by `change_mmol_l`.
 
     Solves the mass-balance projection for V: V = R TBW / (C - Na - R).  Where
     no volume reaches the change (the infusate is on the wrong side of the
     serum, or not far enough past it) the result is NaN.
     """
-    na = _arr(serum_sodium.m_as("mmol/L"))
-    c = _arr(infusate_cations.m_as("mmol/L"))
-    w = _arr(tbw.m_as("L"))
-    r = _arr(change.m_as("mmol/L"))
+    na, c, w, r = _arr(serum_sodium_mmol_l), _arr(infusate_cations_mmol_l), _arr(tbw_l), _arr(change_mmol_l)
     gap = c - na
     reachable = (r != 0) & (np.sign(gap) == np.sign(r)) & (np.abs(gap) > np.abs(r))
     with np.errstate(divide="ignore", invalid="ignore"):
         volume = np.where(reachable, r * w / (gap - r), np.nan)
-    return _out(volume, "L")
+    return _out(volume)
 
 
-def amount_in_volume(volume: Quantity, concentration: Quantity, unit: str) -> Quantity:
-    """What `volume` of a solution of `concentration` holds, in `unit`."""
-    return (volume * concentration).to(unit)
+def amount_in_volume(volume_ml: ArrayLike, concentration_per_l: ArrayLike) -> Figure:
+    """What `volume_ml` of a solution holds, in the unit of its concentration per litre (g, mmol, mOsm)."""
+    return _out(_arr(volume_ml) * _arr(concentration_per_l) / ML_PER_L)
 
 
-def volume_for_amount(amount: Quantity, concentration: Quantity) -> Quantity:
-    """The volume of a solution of `concentration` that holds `amount`, in mL."""
-    return (amount / concentration).to("mL")
+def volume_for_amount(amount: ArrayLike, concentration_per_l: ArrayLike) -> Figure:
+    """The volume in mL of a solution that holds `amount` (g, mmol or mOsm, as its concentration per litre)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _out(_arr(amount) * ML_PER_L / _arr(concentration_per_l))
 
 
-def infusion_rate(volume: Quantity, duration: Quantity) -> Quantity:
-    """Constant rate that gives `volume` over `duration`, in mL/h."""
-    return (volume / duration).to("mL/h")
+def infusion_rate(volume_ml: ArrayLike, duration_min: ArrayLike) -> Figure:
+    """Constant rate in mL/h that gives `volume_ml` over `duration_min`."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _out(_arr(volume_ml) * MINUTES_PER_HOUR / _arr(duration_min))
 
 
-def cerebral_perfusion_pressure(mean_arterial: Quantity, intracranial: Quantity) -> Quantity:
+def cerebral_perfusion_pressure(mean_arterial_mmhg: ArrayLike, intracranial_mmhg: ArrayLike) -> Figure:
     """CPP = MAP - ICP (Carney N et al. Guidelines for the Management of Severe Traumatic Brain Injury,
     4th ed. Neurosurgery 2017;80:6-15), in mmHg."""
-    return _out(_arr(mean_arterial.m_as("mmHg")) - _arr(intracranial.m_as("mmHg")), "mmHg")
+    return _out(_arr(mean_arterial_mmhg) - _arr(intracranial_mmhg))

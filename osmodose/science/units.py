@@ -65,6 +65,7 @@ def _memoise_unit_parsing(registry: pint.UnitRegistry) -> None:
 ureg: pint.UnitRegistry = _make_registry()
 Q_ = ureg.Quantity
 Quantity = pint.Quantity
+_OSMOLE_PER_MOLE = Q_(1.0, "mOsm/mmol")
 
 _PERCENT_WV = re.compile(r"%\s*(?:w\s*/\s*v|\(\s*w\s*/\s*v\s*\))", re.IGNORECASE)
 _BARE_PERCENT = re.compile(r"%")
@@ -90,6 +91,7 @@ _PARSE_ERRORS = (
 )
 
 
+@functools.cache
 def dimension_of(units: str) -> pint.util.UnitsContainer:
     """The dimensionality of a unit expression written by us (never user text)."""
     return ureg.parse_units(units).dimensionality
@@ -123,6 +125,8 @@ def parse_quantity(
     elif isinstance(raw, bool) or raw is None:
         raise InputError(field, raw, "is not a quantity", f"a number in {hint}")
     elif isinstance(raw, (int, float)):
+        if not _is_finite_number(raw):
+            raise InputError(field, raw, "is not a finite number", f"a number in {hint}")
         quantity = Q_(float(raw), default_unit)
     elif isinstance(raw, str):
         quantity = _parse_text(field, raw, default_unit, hint, percent_is_wv)
@@ -179,6 +183,19 @@ def _check_shape(field: str, raw: str, text: str, default_unit: str, hint: str) 
         raise InputError(field, raw, "does not start with a number", f"a number in {hint}")
     if re.search(r"\d", _EXPONENT.sub("", text[number.end() :])):
         raise InputError(field, raw, "has more than one number", f"one number and a unit, e.g. 7.5 {default_unit}")
+
+
+def as_osmolar(quantity: pint.Quantity, unit: str) -> pint.Quantity:
+    """A molar figure read as osmolar when `unit` is osmolar: SI laboratories write mOsm/kg as mmol/kg.
+
+    Anything else is returned as it is, so a wrong dimension still fails when converted.
+    """
+    target = dimension_of(unit)
+    if quantity.dimensionality != target and "[osmotic_amount]" in target:
+        swapped = quantity * _OSMOLE_PER_MOLE
+        if swapped.dimensionality == target:
+            return swapped
+    return quantity
 
 
 def is_bare_number(text: str) -> bool:

@@ -33,7 +33,6 @@ from osmodose.check.results import CheckResult, DoseFigures, Severity
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Limits
 from osmodose.science.formulas import infusion_rate
-from osmodose.science.units import Q_
 from osmodose.verify.order import Order
 
 #: A stated figure this many times off (or this fraction of) the recomputed one is refused.
@@ -91,8 +90,7 @@ def find_discrepancies(order: Order, result: CheckResult, agent: Agent, limits: 
     """Every discrepancy of `order` against its recomputation `result`; refusals first."""
     dose = result.dose
     assert dose is not None, "verification always checks a dose"
-    tolerance = limits.get("dose_tolerance")
-    tolerance = 10.0 if tolerance is None else tolerance
+    tolerance = limits.required("dose_tolerance")
     found = [
         _stated_dose(order, result, dose, agent, tolerance),
         _stated_rate(order, tolerance),
@@ -164,7 +162,7 @@ def _stated_rate(order: Order, tolerance: float) -> Discrepancy | None:
     if order.rate_ml_h is None or order.duration_min is None:
         return None
     # The rate the written duration gives, against the rate written beside it.
-    from_duration = float(infusion_rate(Q_(order.volume_ml, "mL"), Q_(order.duration_min, "min")).m_as("mL/h"))
+    from_duration = float(infusion_rate(order.volume_ml, order.duration_min))
     severity = _judge_ratio(order.rate_ml_h, from_duration, tolerance)
     if severity is None:
         return None
@@ -194,8 +192,7 @@ def _stated_sodium(order: Order, result: CheckResult, agent: Agent, limits: Limi
             f"cannot be checked: osmodose projects no sodium for {agent.id}",
             "leave it out for this agent",
         )
-    tolerance = limits.get("sodium_tolerance")
-    tolerance = 2.0 if tolerance is None else tolerance
+    tolerance = limits.required("sodium_tolerance")
     current = result.labs["sodium_mmol_l"]
     assert current is not None
     difference = abs(projected - stated)
@@ -245,7 +242,7 @@ def _line(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
     if agent.route == "central":
         message = f"{agent.id} is for a central line only and the order names no line"
     else:
-        peripheral_limit = limits.get("peripheral_osmolarity_warn")
+        peripheral_limit = limits.peripheral_osmolarity_warn
         if peripheral_limit is None or agent.osmolarity_mosm_l <= peripheral_limit:
             return None
         message = (

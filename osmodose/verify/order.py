@@ -11,15 +11,12 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from osmodose.case.inputs import DoseUnit, Line, parse_dose
+from osmodose.case.fields import FIELDS, WRITTEN_ORDER_KEYS, read, read_choice
+from osmodose.case.inputs import DoseUnit, Line, given_fields, parse_dose
 from osmodose.errors import InputError
-from osmodose.science.ranges import PLAUSIBLE, check_plausible
-from osmodose.science.units import Q_, parse_quantity
+from osmodose.science.formulas import MINUTES_PER_HOUR
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
-
-#: Keys of the typed order fields, in the order a form shows them.
-ORDER_FIELDS: tuple[str, ...] = ("agent", "volume", "duration", "rate", "line", "stated-dose", "stated-sodium")
 
 
 class StatedDose(BaseModel):
@@ -79,11 +76,7 @@ class Order(BaseModel):
         """volume / rate in minutes, when a rate is written."""
         if self.rate_ml_h is None:
             return None
-        return float((Q_(self.volume_ml, "mL") / Q_(self.rate_ml_h, "mL/h")).m_as("min"))
-
-
-def _given(fields: dict[str, object]) -> dict[str, object]:
-    return {k: v for k, v in fields.items() if v is not None and not (isinstance(v, str) and not v.strip())}
+        return self.volume_ml * MINUTES_PER_HOUR / self.rate_ml_h
 
 
 def parse_order(fields: dict[str, object]) -> Order:
@@ -92,35 +85,21 @@ def parse_order(fields: dict[str, object]) -> Order:
     Keys: agent, volume (both required), duration, rate, line, stated-dose,
     stated-sodium.  A bare number is mL, minutes, mL/h or mmol/L.
     """
-    given = _given({k: fields.get(k) for k in ORDER_FIELDS})
+    given = given_fields({k: fields.get(k) for k in WRITTEN_ORDER_KEYS})
     if "agent" not in given:
         raise InputError("agent", None, "is required", "an agent id from the formulary")
     if "volume" not in given:
         raise InputError("volume", None, "is required", "the volume as ordered, e.g. 350 mL")
     agent_id = str(given["agent"]).strip()
-    raw_volume = given["volume"]
-    volume = check_plausible("volume", float(parse_quantity("volume", raw_volume, "mL").m_as("mL")), raw_volume)
-    duration = None
-    if "duration" in given:
-        raw = given["duration"]
-        duration = check_plausible("duration", float(parse_quantity("duration", raw, "min").m_as("min")), raw)
-    rate = None
-    if "rate" in given:
-        rate = _rate(given["rate"], volume)
-    line = None
-    if "line" in given:
-        line = str(given["line"]).strip().lower()
-        if line not in ("central", "peripheral"):
-            raise InputError("line", given["line"], "is not a line osmodose knows", "central or peripheral")
+    volume = read("volume", given["volume"])
+    duration = read("duration", given["duration"]) if "duration" in given else None
+    rate = _rate(given["rate"], volume) if "rate" in given else None
+    line = read_choice("line", given["line"]) if "line" in given else None
     stated_dose = None
     if "stated-dose" in given:
         dose = parse_dose(agent_id, given["stated-dose"], field="stated-dose")
         stated_dose = StatedDose(amount=dose.amount, unit=dose.unit, per_kg=dose.per_kg, text=dose.text)
-    stated_sodium = None
-    if "stated-sodium" in given:
-        raw = given["stated-sodium"]
-        value = float(parse_quantity("stated-sodium", raw, "mmol/L").m_as("mmol/L"))
-        stated_sodium = check_plausible("stated-sodium", value, raw, range_key="sodium")
+    stated_sodium = read("stated-sodium", given["stated-sodium"]) if "stated-sodium" in given else None
     return Order(
         agent_id=agent_id,
         volume_ml=volume,
@@ -135,11 +114,12 @@ def parse_order(fields: dict[str, object]) -> Order:
 
 def _rate(raw: object, volume_ml: float) -> float:
     """A rate in mL/h whose duration for this volume is plausible."""
-    rate = float(parse_quantity("rate", raw, "mL/h").m_as("mL/h"))
+    rate = read("rate", raw)
     if rate <= 0:
         raise InputError("rate", raw, "is not above zero", "a rate in mL/h, e.g. 1000 or 2 mL/min")
-    minutes = float((Q_(volume_ml, "mL") / Q_(rate, "mL/h")).m_as("min"))
-    bounds = PLAUSIBLE["duration"]
+    minutes = volume_ml * MINUTES_PER_HOUR / rate
+    bounds = FIELDS["duration"].plausible
+    assert bounds is not None
     if not (bounds.low <= minutes <= bounds.high):
         raise InputError(
             "rate",

@@ -20,10 +20,10 @@ from osmodose.app.verify_view import (
     patient_fields,
     patient_summary,
 )
+from osmodose.case.fields import WRITTEN_ORDER_KEYS
 from osmodose.case.inputs import parse_check_request
 from osmodose.formulary import Formulary
 from osmodose.verify import make_acceptance, parse_order, verify_order
-from osmodose.verify.order import ORDER_FIELDS
 from tests.app.driving import PERIPHERAL_SALINE, TEN_FOLD_MANNITOL, VEIN_REASON, VERIFY_PATIENT
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -135,7 +135,7 @@ def test_discrepancies_are_shown_stated_beside_recomputed(demo: Formulary) -> No
                 st.sampled_from(["mannitol-20", "nacl-3", "nacl-23.4", "250", "3500", "1 g/kg", "peripheral", "20"]),
                 st.text(max_size=8),
             )
-            for key in ORDER_FIELDS
+            for key in WRITTEN_ORDER_KEYS
         },
     ),
     initials=st.sampled_from(["", "AB", "1", "a.b."]),

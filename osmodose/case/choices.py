@@ -1,0 +1,53 @@
+"""The fixed choices a user makes, each declared once as a `Literal`, read by one parser with one message.
+
+The values come from the `Literal` itself (`typing.get_args`), so a model's
+type, the command line's help, the app's select and the audit's column accept
+exactly the same words.  Reading ignores case and surrounding spaces.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal, get_args
+
+from osmodose.errors import InputError
+
+Sex = Literal["female", "male"]
+Line = Literal["central", "peripheral"]
+TbwMethod = Literal["fraction", "watson"]
+DoseMode = Literal["dose", "volume", "target-rise"]
+EthanolFactor = Literal["molar", "empirical"]
+
+
+@dataclass(frozen=True)
+class Choice:
+    """One fixed set of words: what it is called in messages, its values, and how a form shows each."""
+
+    noun: str
+    values: tuple[str, ...]
+    shown: dict[str, str] = field(default_factory=dict)
+
+    def accepted(self) -> str:
+        """The values as a message lists them: "female or male"."""
+        return " or ".join(self.values)
+
+    def label(self, value: str) -> str:
+        """How a form shows one value (the value itself unless a label is given)."""
+        return self.shown.get(value, value)
+
+    def read(self, field_key: str, raw: object) -> str:
+        """The value `raw` names, or an InputError naming the field and the accepted values."""
+        text = str(raw).strip().lower()
+        if text not in self.values:
+            raise InputError(field_key, raw, f"is not a {self.noun} osmodose knows", self.accepted())
+        return text
+
+
+def _choice(noun: str, literal: object, shown: dict[str, str] | None = None) -> Choice:
+    return Choice(noun, tuple(get_args(literal)), shown or {})
+
+
+SEX = _choice("sex", Sex)
+LINE = _choice("line", Line)
+TBW_METHOD = _choice("method", TbwMethod, {"fraction": "fraction of weight", "watson": "Watson"})
+DOSE_MODE = _choice("dose style", DoseMode, {"target-rise": "target Na change"})
