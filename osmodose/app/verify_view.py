@@ -206,7 +206,7 @@ def discrepancy_rows(discrepancies: list[Discrepancy]) -> list[tuple[str, str, s
     The middle is empty where there are not two numbers to set side by side
     (no line named, a part bag): the message says what is wrong.
     """
-    rows = []
+    rows: list[tuple[str, str, str, str]] = []
     for d in discrepancies:
         unit = f" {d.unit}" if d.unit else ""
         side = ""
@@ -214,11 +214,6 @@ def discrepancy_rows(discrepancies: list[Discrepancy]) -> list[tuple[str, str, s
             side = f"stated {_number(d.stated)}{unit} · recomputed {_number(d.recomputed)}{unit}"
         rows.append((d.severity, f"{SYMBOL[d.severity]} {d.severity.upper()} {d.code}", side, d.message))
     return rows
-
-
-def worst(severities: list[str]) -> str:
-    """refuse, warn or ok: what a panel's border shows for the items in it."""
-    return "refuse" if "refuse" in severities else "warn" if "warn" in severities else "ok"
 
 
 def refusal_note(code: str) -> str:

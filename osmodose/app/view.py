@@ -9,7 +9,7 @@ summary round alike.  Nothing here computes a clinical figure.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
-from typing import Literal
+from typing import Any, Literal, cast
 
 from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
@@ -26,10 +26,7 @@ Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading"
 #: The order field whose meaning is chosen by the dose-mode select.
 AMOUNT = "amount"
 DOSE_MODE = "dose-mode"
-DOSE_MODES: tuple[tuple[str, DoseMode], ...] = tuple(
-    (DOSE_CHOICE.label(mode), mode)
-    for mode in DOSE_CHOICE.values  # type: ignore[misc]
-)
+DOSE_MODES: tuple[tuple[str, str], ...] = tuple((DOSE_CHOICE.label(mode), mode) for mode in DOSE_CHOICE.values)
 AMOUNT_HINT: dict[str, str] = {mode: CASE_FIELDS[mode].hint for mode in DOSE_CHOICE.values}
 
 #: Banner symbols: each status has its own word, colour and symbol.
@@ -50,11 +47,11 @@ class FieldSpec:
     """For a select that may stay empty: what the empty choice says."""
 
 
-def spec_of(key: str, panel: Panel | None = None, **override: str) -> FieldSpec:
+def spec_of(key: str, panel: Panel | None = None, **override: Any) -> FieldSpec:
     """The form box of a field of the field table (`osmodose.case.fields`), its words overridable."""
     field = CASE_FIELDS[key]
     choices = tuple((field.choice.label(v), v) for v in field.choice.values) if field.choice else ()
-    spec = FieldSpec(key, field.label, panel or field.group, field.hint, choices, field.empty)  # type: ignore[arg-type]
+    spec = FieldSpec(key, field.label, panel or cast(Panel, field.group), field.hint, choices, field.empty)
     return replace(spec, **override) if override else spec
 
 
@@ -88,7 +85,7 @@ class Outcome:
 
 def evaluate(values: dict[str, str], formulary: Formulary) -> Outcome:
     """Run the typed form through the core; any InputError becomes a marked field."""
-    mode: DoseMode = values.get(DOSE_MODE) or "dose"  # type: ignore[assignment]
+    mode: DoseMode = DOSE_CHOICE.read(DOSE_MODE, values.get(DOSE_MODE) or "dose")
     fields: dict[str, object] = {k: v for k, v in values.items() if k not in (AMOUNT, DOSE_MODE)}
     amount = (values.get(AMOUNT) or "").strip()
     if amount:

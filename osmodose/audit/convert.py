@@ -21,7 +21,7 @@ import numpy as np
 from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
-from osmodose.case.fields import FIELDS, LAB_FIELDS
+from osmodose.case.fields import FIELDS, LAB_FIELDS, CaseField
 from osmodose.case.inputs import DoseRequest, parse_dose
 from osmodose.check.engine import DOSE_UNITS, Cases, dose_unit_codes
 from osmodose.check.run import dose_misfit, height_required_error
@@ -84,14 +84,17 @@ class Converted:
 
     def dose_request(self, row: int, formulary: Formulary) -> DoseRequest:
         """The DoseRequest a check would have made for this row (for the message of a failed order)."""
-        return DoseRequest(
-            agent_id=formulary.agents[int(self.agent_index[row])].id,
-            mode=str(self.mode[row]),  # type: ignore[arg-type]
-            amount=float(self.dose_amount[row]),
-            unit=str(self.dose_unit[row]),  # type: ignore[arg-type]
-            per_kg=bool(self.dose_per_kg[row]),
-            duration_min=None if math.isnan(self.columns["duration"][row]) else float(self.columns["duration"][row]),
-            text=self.dose_text(row),
+        duration = float(self.columns["duration"][row])
+        return DoseRequest.model_validate(
+            {
+                "agent_id": formulary.agents[int(self.agent_index[row])].id,
+                "mode": str(self.mode[row]),
+                "amount": float(self.dose_amount[row]),
+                "unit": str(self.dose_unit[row]),
+                "per_kg": bool(self.dose_per_kg[row]),
+                "duration_min": None if math.isnan(duration) else duration,
+                "text": self.dose_text(row),
+            }
         )
 
 
@@ -112,6 +115,13 @@ class _Reasons:
 
 def _error(field: str, value: object, problem: str, accepted: str | None = None) -> str:
     return str(InputError(field, value, problem, accepted))
+
+
+def _both(field: CaseField, chunk: ChunkCells) -> Callable[[int], str]:
+    """The message for a row that gives a lab twice, in two forms (BUN and urea), as check words it."""
+    problem = f"cannot be given together with {field.into}"
+    accepted = f"{field.into} or {field.key}, not both"
+    return lambda i: _error(field.key, chunk.shown(field.key, i), problem, accepted)
 
 
 def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
@@ -135,8 +145,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         failed[list(unreadable)] = True
         reasons.add(failed, unreadable.__getitem__)
         g = g & ~failed
-        bounds = FIELDS[name].plausible
-        assert bounds is not None
+        bounds = FIELDS[name].bounds
         w = read.judged
         with np.errstate(invalid="ignore"):
             inside = (bounds.low <= w) & (w <= bounds.high)
@@ -144,16 +153,18 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
 
     def choice(name: str) -> np.ndarray:
         field = FIELDS[name]
-        assert field.choice is not None
-        accepted = field.choice.values
+        options = field.choice
+        if options is None:
+            raise ValueError(f"{name} is not a choice")
+        accepted = options.values
         codes, distinct = encode(raw.cells[name]) if name in header else (np.zeros(n, np.int64), [""])
         lowered = np.asarray([d.lower() for d in distinct], dtype=str)
         text = lowered[codes]
         if field.required:
             reasons.add(text == "", lambda i: _error(name, None, "is required"))
         bad = (text != "") & ~np.isin(text, accepted)
-        problem = f"is not a {field.choice.noun} osmodose knows"
-        reasons.add(bad, lambda i: _error(name, raw.cells[name][i].strip(), problem, field.choice.accepted()))  # type: ignore[union-attr]
+        problem = f"is not a {options.noun} osmodose knows"
+        reasons.add(bad, lambda i: _error(name, raw.cells[name][i].strip(), problem, options.accepted()))
         return text
 
     # The patient, then the labs, in the field table's order: the order `parse_check_request` reads them.
@@ -163,12 +174,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     number("height")
     for field in LAB_FIELDS_TYPED:
         if field.into is not None:
-            both = f"cannot be given together with {field.into}"
-            together = f"{field.into} or {field.key}, not both"
-            reasons.add(
-                chunk.number(field.key).given & chunk.number(field.into).given,
-                lambda i, f=field, b=both, t=together: _error(f.key, chunk.shown(f.key, i), b, t),
-            )
+            reasons.add(chunk.number(field.key).given & chunk.number(field.into).given, _both(field, chunk))
         number(field.key, required=field.required)
     line = choice("line")
     method = choice("tbw-method")
@@ -178,7 +184,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     agent_text = np.asarray(agent_ids, dtype=object)[agent_codes]
     has_agent = agent_text != ""
     orders = {name: chunk.given(name) for name in ORDER_COLUMNS}
-    count = sum(orders.values())
+    count = np.asarray(np.sum([orders[name] for name in ORDER_COLUMNS], axis=0, dtype=np.int64))
 
     def nth_order(i: int, nth: int) -> str:
         return [name for name in ORDER_COLUMNS if orders[name][i]][nth]
@@ -334,19 +340,21 @@ def _misfits(
     table = np.zeros((len(DOSE_UNITS), len(formulary.agents) + 1), dtype=bool)
     for u, unit in enumerate(DOSE_UNITS[1:], start=1):
         for a, agent in enumerate(formulary.agents):
-            probe = DoseRequest(agent_id=agent.id, mode="dose", amount=1.0, unit=unit, text="")  # type: ignore[arg-type]
+            probe = DoseRequest.model_validate({"agent_id": agent.id, "mode": "dose", "amount": 1.0, "unit": unit})
             table[u, a] = dose_misfit(probe, agent) is not None
     misfit = table[unit_code, agent_index] & (agent_index >= 0)
 
     def message(i: int) -> str:
         agent = formulary.agents[int(agent_index[i])]
-        request = DoseRequest(
-            agent_id=agent.id,
-            mode=str(mode[i]),  # type: ignore[arg-type]
-            amount=float(amount[i]),
-            unit=str(dose_unit[i]),  # type: ignore[arg-type]
-            per_kg=bool(per_kg[i]),
-            text=text_of(i),
+        request = DoseRequest.model_validate(
+            {
+                "agent_id": agent.id,
+                "mode": str(mode[i]),
+                "amount": float(amount[i]),
+                "unit": str(dose_unit[i]),
+                "per_kg": bool(per_kg[i]),
+                "text": text_of(i),
+            }
         )
         return str(dose_misfit(request, agent))
 

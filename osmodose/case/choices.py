@@ -8,7 +8,7 @@ exactly the same words.  Reading ignores case and surrounding spaces.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Literal, get_args
+from typing import Generic, Literal, TypeVar, get_args
 
 from osmodose.errors import InputError
 
@@ -19,12 +19,15 @@ DoseMode = Literal["dose", "volume", "target-rise"]
 EthanolFactor = Literal["molar", "empirical"]
 
 
+T = TypeVar("T", bound=str)
+
+
 @dataclass(frozen=True)
-class Choice:
+class Choice(Generic[T]):
     """One fixed set of words: what it is called in messages, its values, and how a form shows each."""
 
     noun: str
-    values: tuple[str, ...]
+    values: tuple[T, ...]
     shown: dict[str, str] = field(default_factory=dict)
 
     def accepted(self) -> str:
@@ -35,19 +38,18 @@ class Choice:
         """How a form shows one value (the value itself unless a label is given)."""
         return self.shown.get(value, value)
 
-    def read(self, field_key: str, raw: object) -> str:
+    def read(self, field_key: str, raw: object) -> T:
         """The value `raw` names, or an InputError naming the field and the accepted values."""
         text = str(raw).strip().lower()
-        if text not in self.values:
-            raise InputError(field_key, raw, f"is not a {self.noun} osmodose knows", self.accepted())
-        return text
+        for value in self.values:
+            if value == text:
+                return value
+        raise InputError(field_key, raw, f"is not a {self.noun} osmodose knows", self.accepted())
 
 
-def _choice(noun: str, literal: object, shown: dict[str, str] | None = None) -> Choice:
-    return Choice(noun, tuple(get_args(literal)), shown or {})
-
-
-SEX = _choice("sex", Sex)
-LINE = _choice("line", Line)
-TBW_METHOD = _choice("method", TbwMethod, {"fraction": "fraction of weight", "watson": "Watson"})
-DOSE_MODE = _choice("dose style", DoseMode, {"target-rise": "target Na change"})
+SEX: Choice[Sex] = Choice("sex", get_args(Sex))
+LINE: Choice[Line] = Choice("line", get_args(Line))
+TBW_METHOD: Choice[TbwMethod] = Choice(
+    "method", get_args(TbwMethod), {"fraction": "fraction of weight", "watson": "Watson"}
+)
+DOSE_MODE: Choice[DoseMode] = Choice("dose style", get_args(DoseMode), {"target-rise": "target Na change"})

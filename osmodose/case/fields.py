@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import functools
 from dataclasses import dataclass
-from typing import Literal
+from typing import Any, Literal
 
 from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.errors import InputError
@@ -53,7 +53,7 @@ class CaseField:
     substance: str | None = None
     plausible: Range | None = None
     required: bool = False
-    choice: Choice | None = None
+    choice: Choice[Any] | None = None
     into: str | None = None
     attr: str = ""
     empty: str = ""
@@ -71,6 +71,13 @@ class CaseField:
     def engine_unit(self) -> str:
         return self.canonical or self.unit
 
+    @property
+    def bounds(self) -> Range:
+        """The plausible range of a field that has one."""
+        if self.plausible is None:
+            raise ValueError(f"{self.key} has no plausible range")
+        return self.plausible
+
     def check_range(self, value: float, shown: object) -> float:
         """`value` (in `unit`) if inside the plausible range, else an InputError quoting what was typed."""
         bounds = self.plausible
@@ -79,23 +86,32 @@ class CaseField:
         return value
 
 
-def _lab(key: str, what: str, unit: str = "mmol/L", low: float = 0.0, high: float = 0.0, **more: object) -> CaseField:
-    """A serum lab in mmol/L: its key, its attribute `<key>_mmol_l`, and the usual help."""
-    accepted = more.pop("accepted", ())
-    mass = "mg/dL" in accepted  # type: ignore[operator]
-    help_text = f"{what}; bare number = {unit}" + (" (mg/dL accepted)" if mass else "")
-    hint = more.pop("hint", f"{unit} or mg/dL" if mass else unit)
+def _lab(
+    key: str,
+    what: str,
+    low: float,
+    high: float,
+    *,
+    unit: str = "mmol/L",
+    mass: bool = False,
+    substance: str | None = None,
+    required: bool = False,
+    hint: str = "",
+    attr: str = "",
+) -> CaseField:
+    """A serum lab: mmol/L unless said, mg/dL accepted where it has a molar mass, kept as `<key>_mmol_l`."""
     return CaseField(
         key,
         "labs",
-        str(more.pop("label", key)),
-        str(more.pop("help", help_text)),
-        str(hint),
+        key,
+        f"{what}; bare number = {unit}" + (" (mg/dL accepted)" if mass else ""),
+        hint or (f"{unit} or mg/dL" if mass else unit),
         unit=unit,
-        accepted=accepted,  # type: ignore[arg-type]
+        accepted=(unit, "mg/dL") if mass else (),
+        substance=substance,
         plausible=Range(low, high, unit),
-        attr=str(more.pop("attr", f"{key}_{unit.replace('/', '_').lower()}")),
-        **more,  # type: ignore[arg-type]
+        required=required,
+        attr=attr or f"{key}_{unit.replace('/', '_').lower()}",
     )
 
 
@@ -158,18 +174,10 @@ FIELDS: dict[str, CaseField] = {
             empty="default",
         ),
         # --- serum labs, SI units ------------------------------------------------------------
-        _lab("sodium", "serum sodium", low=90.0, high=200.0, required=True),
-        _lab("potassium", "serum potassium", low=1.0, high=10.0),
-        _lab(
-            "glucose",
-            "serum glucose",
-            low=0.5,
-            high=100.0,
-            accepted=("mmol/L", "mg/dL"),
-            substance="glucose",
-            help="serum glucose; bare number = mmol/L (126mg/dL accepted)",
-        ),
-        _lab("urea", "serum urea", low=0.5, high=100.0, accepted=("mmol/L", "mg/dL"), substance="urea", hint="mmol/L"),
+        _lab("sodium", "serum sodium", 90.0, 200.0, required=True),
+        _lab("potassium", "serum potassium", 1.0, 10.0),
+        _lab("glucose", "serum glucose", 0.5, 100.0, mass=True, substance="glucose"),
+        _lab("urea", "serum urea", 0.5, 100.0, mass=True, substance="urea", hint="mmol/L"),
         # BUN is urea as mg/dL of nitrogen (two N per urea, N2 28.01 g/mol): the urea range, 0.5
         # and 100 mmol/L, is 1.4 and 280.1 mg/dL.  Read into urea; judged in the unit it is typed in.
         CaseField(
@@ -187,15 +195,16 @@ FIELDS: dict[str, CaseField] = {
         ),
         # Not in the reference: an ethanol level above 200 mmol/L (about 920 mg/dL) is beyond
         # any survived level; chosen to catch typing errors (common practice).
-        _lab("ethanol", "serum ethanol", low=0.0, high=200.0, accepted=("mmol/L", "mg/dL"), substance="ethanol"),
-        _lab(
+        _lab("ethanol", "serum ethanol", 0.0, 200.0, mass=True, substance="ethanol"),
+        CaseField(
             "osmolality",
-            "measured serum osmolality",
+            "labs",
+            "osmolality",
+            "measured serum osmolality; bare number = mOsm/kg",
+            "measured, mOsm/kg",
             unit="mOsm/kg",
-            low=200.0,
-            high=450.0,
             accepted=("mOsm/kg", "mmol/kg"),
-            hint="measured, mOsm/kg",
+            plausible=Range(200.0, 450.0, "mOsm/kg"),
             attr="osmolality_mosm_kg",
         ),
         # --- the order -------------------------------------------------------------------------
@@ -366,9 +375,9 @@ def read(key: str, raw: object, shown: object | None = None) -> float:
     """
     field = FIELDS[key]
     shown = raw if shown is None else shown
-    bare = isinstance(raw, str) and is_bare_number(raw)
-    if bare or (isinstance(raw, (int, float)) and not isinstance(raw, bool) and _finite(raw)):
-        number, unit = float(raw), field.unit  # type: ignore[arg-type]
+    plain = _plain_number(raw)
+    if plain is not None:
+        number, unit = plain, field.unit
     else:
         quantity = parse_quantity(key, raw, field.unit, field.examples)
         number, unit = float(quantity.magnitude), str(quantity.units)
@@ -378,16 +387,26 @@ def read(key: str, raw: object, shown: object | None = None) -> float:
     return number * conversion(key, unit, field.engine_unit)
 
 
-def _finite(number: object) -> bool:
+def _plain_number(raw: object) -> float | None:
+    """A number given as such ("70", 70): in the field's unit, with no unit to parse."""
+    if isinstance(raw, str) and is_bare_number(raw):
+        return float(raw)
+    if isinstance(raw, (int, float)) and not isinstance(raw, bool) and _finite(raw):
+        return float(raw)
+    return None
+
+
+def _finite(number: float) -> bool:
     try:
-        value = float(number)  # type: ignore[arg-type]
-    except (OverflowError, TypeError, ValueError):
+        value = float(number)
+    except OverflowError:  # an int too large for a float
         return False
     return value - value == 0.0
 
 
 def read_choice(key: str, raw: object) -> str:
-    """A choice field's value, by its choice's one parser and message."""
+    """A choice field's value, by its choice's one parser and message (`SEX.read` and the like are typed)."""
     choice = FIELDS[key].choice
-    assert choice is not None, f"{key} is not a choice"
-    return choice.read(key, raw)
+    if choice is None:
+        raise ValueError(f"{key} is not a choice")
+    return str(choice.read(key, raw))

@@ -14,8 +14,8 @@ from typing import TYPE_CHECKING, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, create_model
 
-from osmodose.case.choices import DoseMode, Line, Sex, TbwMethod
-from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read, read_choice
+from osmodose.case.choices import LINE, SEX, TBW_METHOD, DoseMode, Line, Sex, TbwMethod
+from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read
 from osmodose.errors import InputError
 from osmodose.science.units import Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
 
@@ -94,6 +94,8 @@ if TYPE_CHECKING:
     class Labs(LabValues):
         """Serum labs in SI units (mmol/L; osmolality mOsm/kg), made from the field table."""
 
+        def __init__(self, **data: Any) -> None: ...
+
 else:
     Labs = create_model("Labs", __base__=LabValues, __doc__="Serum labs in SI units, from the fields.", **lab_fields())
 
@@ -157,18 +159,18 @@ def parse_check_request(fields: dict[str, object], dose_mode: DoseMode | None = 
     entered = {k: str(v) for k, v in given.items()}
     weight = read("weight", need(given, "weight"))
     age = read("age", need(given, "age"))
-    sex = read_choice("sex", need(given, "sex"))
+    sex = SEX.read("sex", need(given, "sex"))
     height = read("height", given["height"]) if "height" in given else None
-    patient = Patient(weight_kg=weight, age_years=age, sex=sex, height_cm=height)  # type: ignore[arg-type]
+    patient = Patient(weight_kg=weight, age_years=age, sex=sex, height_cm=height)
     labs = parse_labs(given)
-    line = read_choice("line", given["line"]) if "line" in given else None
-    tbw_method = read_choice("tbw-method", given["tbw-method"]) if "tbw-method" in given else None
+    line = LINE.read("line", given["line"]) if "line" in given else None
+    tbw_method = TBW_METHOD.read("tbw-method", given["tbw-method"]) if "tbw-method" in given else None
     return CheckRequest(
         patient=patient,
         labs=labs,
         dose=_dose_request(given, dose_mode),
-        line=line,  # type: ignore[arg-type]
-        tbw_method=tbw_method,  # type: ignore[arg-type]
+        line=line,
+        tbw_method=tbw_method,
         entered=entered,
     )
 

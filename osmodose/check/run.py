@@ -54,7 +54,7 @@ HIGH_RISK_NOTE = (
     "Alcohol use, malnutrition and liver disease raise the risk too: judge them at the bedside."
 )
 NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
-VOLUME_RANGE: Range = FIELDS["volume"].plausible  # type: ignore[assignment]
+VOLUME_RANGE: Range = FIELDS["volume"].bounds
 #: Watson total body water outside this share of body weight is refused (common practice).
 WATSON_FRACTION_RANGE = (0.3, 0.8)
 FILTER_NOTE = "Mannitol 20-25 % crystallises when cold: give it through an in-line filter."

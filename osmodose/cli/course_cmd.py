@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import json
+from datetime import datetime
 from typing import TYPE_CHECKING
 
 from osmodose.case.fields import FIELDS, LAB_KEYS, keys
@@ -83,11 +84,11 @@ def run_new(args: argparse.Namespace) -> int:
     return OK
 
 
-def _added(args: argparse.Namespace, what: str, time: object, count: int, kind: str) -> int:
+def _added(args: argparse.Namespace, what: str, time: datetime, count: int, kind: str) -> int:
     from osmodose.course.findings import when
 
     counted = f"{count} {kind}" + ("" if count == 1 else "s")
-    print(f"added {what} at {when(time)} to {args.file} ({counted} in all)")  # type: ignore[arg-type]
+    print(f"added {what} at {when(time)} to {args.file} ({counted} in all)")
     return OK
 
 

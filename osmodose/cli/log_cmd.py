@@ -11,10 +11,14 @@ import argparse
 import json
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from osmodose.cli.exit_codes import INVALID, OK
 
 HELP = "read the verification log back: verify its chain, list its records, show one"
+
+if TYPE_CHECKING:
+    from osmodose.verify.log import LogReadout
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
@@ -49,7 +53,7 @@ def _usage(parser: argparse.ArgumentParser) -> int:
     return 2
 
 
-def _readout(args: argparse.Namespace):  # type: ignore[no-untyped-def]
+def _readout(args: argparse.Namespace) -> LogReadout:
     from osmodose.verify import log_path, read_log  # noqa: PLC0415 (kept out of start-up)
 
     return read_log(log_path(args.log))

@@ -15,7 +15,8 @@ from __future__ import annotations
 from collections.abc import Mapping
 from datetime import datetime
 
-from osmodose.case.fields import LAB_FIELDS, LAB_KEYS, keys, read, read_choice
+from osmodose.case.choices import SEX, TBW_METHOD
+from osmodose.case.fields import LAB_FIELDS, LAB_KEYS, keys, read
 from osmodose.case.inputs import given_fields, need, parse_labs
 from osmodose.course.episode import DoseEntry, EpisodePatient, LabEntry, ReadingEntry
 from osmodose.errors import InputError
@@ -46,18 +47,18 @@ def parse_patient(fields: Mapping[str, object]) -> EpisodePatient:
     given = given_fields(dict(fields))
     weight = read("weight", need(given, "weight"))
     age = read("age", need(given, "age"))
-    sex = read_choice("sex", need(given, "sex"))
+    sex = SEX.read("sex", need(given, "sex"))
     height = read("height", given["height"]) if "height" in given else None
-    method = read_choice("tbw-method", given["tbw-method"]) if "tbw-method" in given else None
+    method = TBW_METHOD.read("tbw-method", given["tbw-method"]) if "tbw-method" in given else None
     if method == "watson" and height is None:
         raise InputError("height", None, "is required for the Watson formula", "a height in cm, or fraction")
     return EpisodePatient(
         label=str(given["label"]).strip() if "label" in given else None,
         weight_kg=weight,
         age_years=age,
-        sex=sex,  # type: ignore[arg-type]
+        sex=sex,
         height_cm=height,
-        tbw_method=method,  # type: ignore[arg-type]
+        tbw_method=method,
     )
 
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from datetime import datetime
-from typing import TYPE_CHECKING, Annotated, Any, Literal
+from typing import TYPE_CHECKING, Annotated, Any, Literal, Protocol, TypeVar
 
 from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field, create_model
 
@@ -26,7 +26,7 @@ from osmodose.case.inputs import Labs, LabValues
 from osmodose.science.formulas import cerebral_perfusion_pressure
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
-FORMAT_VERSION = 2
+FORMAT_VERSION: Literal[2] = 2
 
 _FILE = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
@@ -112,6 +112,8 @@ if TYPE_CHECKING:
     class LabEntry(_LabEntryBase):
         """One set of serum labs drawn at one time (made from the field table)."""
 
+        def __init__(self, **data: Any) -> None: ...
+
 else:
     LabEntry = create_model("LabEntry", __base__=_LabEntryBase, __doc__=_LabEntryBase.__doc__, **_lab_entry_fields())
 
@@ -149,8 +151,16 @@ class ReadingEntry(BaseModel):
         return float(cerebral_perfusion_pressure(self.map_mmhg, self.icp_mmhg))
 
 
-def _by_time(entries: tuple[object, ...]) -> tuple[object, ...]:
-    return tuple(sorted(entries, key=lambda entry: entry.time))  # type: ignore[attr-defined]
+class _Timed(Protocol):
+    @property
+    def time(self) -> datetime: ...
+
+
+E = TypeVar("E", bound=_Timed)
+
+
+def _by_time(entries: tuple[E, ...]) -> tuple[E, ...]:
+    return tuple(sorted(entries, key=lambda entry: entry.time))
 
 
 class Episode(BaseModel):
@@ -177,8 +187,14 @@ class Episode(BaseModel):
 
     def start(self) -> datetime | None:
         """The earliest time of any entry, the origin of the plot's hours."""
-        times = [e.time for e in (*self.labs, *self.doses, *self.readings)]
+        entries: list[LabEntry | DoseEntry | ReadingEntry] = [*self.labs, *self.doses, *self.readings]
+        times = [e.time for e in entries]
         return min(times) if times else None
+
+    def last(self) -> datetime | None:
+        """The latest time of any entry: where a review projects sodium to."""
+        entries: list[LabEntry | DoseEntry | ReadingEntry] = [*self.labs, *self.doses, *self.readings]
+        return max((e.time for e in entries), default=None)
 
     def to_json_text(self) -> str:
         """The file's text: indented, keys in model order, one trailing newline."""

@@ -178,7 +178,7 @@ def _gap_after_mannitol(
     return [
         CourseFinding(
             code=code,
-            severity=severity,  # type: ignore[arg-type]
+            severity=severity,
             message=message,
             value=float(labs.gap[found_at]),
             limit=limit,

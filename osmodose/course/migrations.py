@@ -50,9 +50,10 @@ def _v1_time(value: object, where: str) -> str:
 
 
 def _rename(entry: object, keys: dict[str, str], where: str) -> Data:
+    """An entry with keys renamed; keys of a JSON object are always text."""
     if not isinstance(entry, dict):
         raise MigrationError(f"{where}: is not an object")
-    return {keys.get(key, key): value for key, value in entry.items()}
+    return {keys.get(str(key), str(key)): value for key, value in entry.items()}
 
 
 def v1_to_v2(data: Data) -> Data:

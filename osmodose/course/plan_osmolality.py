@@ -82,7 +82,7 @@ def osmolality_findings(
             found.append(
                 CourseFinding(
                     code="projected-osmolality-high",
-                    severity=severity,  # type: ignore[arg-type]
+                    severity=severity,
                     message=(
                         f"osmolality now about {carried.value:.1f} mOsm/kg (measured {carried.measured:g} at "
                         f"{when(lab.time)} + 2 x {carried.sodium_change:.1f} projected sodium change since) "
@@ -117,7 +117,7 @@ def _measured_gap(
     return [
         CourseFinding(
             code="osmolar-gap-high",
-            severity=severity,  # type: ignore[arg-type]
+            severity=severity,
             message=f"osmolar gap {gap:.1f} mOsm/kg at the latest lab ({when(drawn)}) is above the {severity} "
             f"limit of {limit:g} mOsm/kg",
             value=gap,

@@ -55,8 +55,8 @@ def review(episode: Episode, formulary: Formulary) -> Review:
     """Timeline, projection to the last entry, and findings of an episode."""
     timeline = build_timeline(episode, formulary)
     tbw_l = episode_tbw_l(episode, formulary)
-    entries = [e.time for e in (*episode.labs, *episode.doses, *episode.readings)]
-    projection = project_now(episode, timeline, tbw_l, max(entries)) if episode.labs else None
+    last = episode.last()
+    projection = project_now(episode, timeline, tbw_l, last) if episode.labs and last is not None else None
     return Review(
         episode=episode,
         formulary=formulary,

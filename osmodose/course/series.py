@@ -9,6 +9,7 @@ a limit the formulary leaves unset is None and is not drawn.
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import datetime
 
@@ -54,8 +55,8 @@ def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
     origin = episode.start()
     t0 = origin.timestamp() if origin is not None else 0.0
 
-    def hours(values: object) -> Floats:
-        return tuple((float(v) - t0) / SECONDS_PER_HOUR for v in values)  # type: ignore[attr-defined]
+    def hours(values: Iterable[float]) -> Floats:
+        return tuple((float(v) - t0) / SECONDS_PER_HOUR for v in values)
 
     segments: list[tuple[Floats, Floats]] = []
     if len(timeline.labs.t):

@@ -25,6 +25,7 @@ from osmodose.check.judging import (
     HIGH_RISK_POTASSIUM_BELOW,
     HIGH_RISK_SODIUM_AT_MOST,
     SEVERITY_NAMES,
+    Severity,
     limit_crossed,
     severity_of,
     threshold,
@@ -94,7 +95,7 @@ def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFin
         out.append(
             CourseFinding(
                 code=code,
-                severity=name,  # type: ignore[arg-type]
+                severity=name,
                 message=message,
                 value=value,
                 limit=limit,
@@ -119,11 +120,11 @@ def projected_findings(
     labs = timeline.labs
     at = projection.at
 
-    def add(code: str, severity: str, message: str, value: float, limit: float | None) -> None:
+    def add(code: str, severity: Severity, message: str, value: float, limit: float | None) -> None:
         out.append(
             CourseFinding(
                 code=code,
-                severity=severity,  # type: ignore[arg-type]
+                severity=severity,
                 message=message,
                 value=value,
                 limit=limit,

@@ -22,7 +22,7 @@ from osmodose.formulary.file_errors import describe, key_path, salvage
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS
 from osmodose.formulary.locate import key_lines, line_of
-from osmodose.formulary.model import Agent, DoseLimit, Formulary, Limits
+from osmodose.formulary.model import Agent, DoseKind, DoseLimit, Formulary, Limits
 from osmodose.science.chemistry import SOLUTES
 from osmodose.science.ranges import SOLUTE_STRENGTH
 from osmodose.science.units import is_per_mass, parse_quantity, ureg
@@ -32,9 +32,13 @@ from osmodose.science.units import is_per_mass, parse_quantity, ureg
 COMPOSITION_TOLERANCE = 0.02
 
 _TOML_POSITION = re.compile(r"\(at line (\d+), column \d+\)")
-_DOSE_KINDS = {"[mass]": "g/kg", "[length] ** 3": "mL/kg", "[substance]": "mmol/kg", "[osmotic_amount]": "mOsm/kg"}
+_DOSE_KINDS: dict[str, DoseKind] = {
+    "[mass]": "g/kg",
+    "[length] ** 3": "mL/kg",
+    "[substance]": "mmol/kg",
+    "[osmotic_amount]": "mOsm/kg",
+}
 _OSMOLALITY_DIM = ureg.parse_units("mOsm/kg").dimensionality
-_DOSE_UNITS = {"g/kg": "g/kg", "mL/kg": "mL/kg", "mmol/kg": "mmol/kg", "mOsm/kg": "mOsm/kg"}
 
 
 @dataclass
@@ -305,5 +309,5 @@ def _dose_limit(raw: str | None, key: str, out: _Collector) -> DoseLimit | None:
     if kind is None:
         out.add(key, f"{raw!r} is in the wrong unit (accepted: g/kg, mL/kg, mmol/kg or mOsm/kg)")
         return None
-    value = float(quantity.m_as(_DOSE_UNITS[kind]))
+    value = float(quantity.m_as(kind))
     return DoseLimit(value=value, kind=kind, text=raw)

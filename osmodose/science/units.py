@@ -37,6 +37,7 @@ def _make_registry() -> pint.UnitRegistry:
     The cache makes start-up about ten times faster (the command line is timed
     against bare pint); a read-only home only costs speed, never correctness.
     """
+    registry: pint.UnitRegistry
     try:
         registry = pint.UnitRegistry(cache_folder=":auto:")
     except OSError:
@@ -59,6 +60,7 @@ def _memoise_unit_parsing(registry: pint.UnitRegistry) -> None:
     parse = getattr(registry, "_parse_units_as_container", None)
     if parse is None:  # a pint without this method: stay with its own behaviour
         return
+    # pint's stubs declare the method fixed; replacing it with its memoised self is the point here.
     registry._parse_units_as_container = functools.lru_cache(maxsize=4096)(parse)  # type: ignore[method-assign]
 
 
@@ -210,6 +212,6 @@ def is_per_mass(quantity: pint.Quantity) -> bool:
     dimension, tells a per-kg dose from an absolute one.
     """
     for name, exponent in quantity.unit_items():
-        if exponent < 0 and ureg.parse_units(name).dimensionality == dimension_of("kg"):
+        if exponent.real < 0 and ureg.parse_units(name).dimensionality == dimension_of("kg"):
             return True
     return False

@@ -36,7 +36,7 @@ from osmodose.verify.record import VerificationRecord
 try:  # POSIX; elsewhere a second concurrent writer is not excluded.
     import fcntl
 except ImportError:  # pragma: no cover - Windows
-    fcntl = None  # type: ignore[assignment]
+    fcntl = None  # type: ignore[assignment]  # the module's stub has no None; writers check for it
 
 GENESIS_SHA256 = "0" * 64
 _PREFIX = b'{"sha256":"'

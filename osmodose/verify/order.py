@@ -11,7 +11,8 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from osmodose.case.fields import FIELDS, WRITTEN_ORDER_KEYS, read, read_choice
+from osmodose.case.choices import LINE
+from osmodose.case.fields import FIELDS, WRITTEN_ORDER_KEYS, read
 from osmodose.case.inputs import DoseUnit, Line, given_fields, parse_dose
 from osmodose.errors import InputError
 from osmodose.science.formulas import MINUTES_PER_HOUR
@@ -94,7 +95,7 @@ def parse_order(fields: dict[str, object]) -> Order:
     volume = read("volume", given["volume"])
     duration = read("duration", given["duration"]) if "duration" in given else None
     rate = _rate(given["rate"], volume) if "rate" in given else None
-    line = read_choice("line", given["line"]) if "line" in given else None
+    line = LINE.read("line", given["line"]) if "line" in given else None
     stated_dose = None
     if "stated-dose" in given:
         dose = parse_dose(agent_id, given["stated-dose"], field="stated-dose")
@@ -105,7 +106,7 @@ def parse_order(fields: dict[str, object]) -> Order:
         volume_ml=volume,
         duration_min=duration,
         rate_ml_h=rate,
-        line=line,  # type: ignore[arg-type]
+        line=line,
         stated_dose=stated_dose,
         stated_sodium_mmol_l=stated_sodium,
         entered={k: str(v) for k, v in given.items()},
@@ -118,8 +119,7 @@ def _rate(raw: object, volume_ml: float) -> float:
     if rate <= 0:
         raise InputError("rate", raw, "is not above zero", "a rate in mL/h, e.g. 1000 or 2 mL/min")
     minutes = volume_ml * MINUTES_PER_HOUR / rate
-    bounds = FIELDS["duration"].plausible
-    assert bounds is not None
+    bounds = FIELDS["duration"].bounds
     if not (bounds.low <= minutes <= bounds.high):
         raise InputError(
             "rate",

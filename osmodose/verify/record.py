@@ -181,10 +181,10 @@ def render_record(record: VerificationRecord) -> str:
     lines += ["", f"decision: {outcome.upper()}"]
     if decision.refusals:
         lines.append("  refused (cannot be accepted): " + ", ".join(decision.refusals))
-    for item in decision.accepted:
-        lines.append(f"  accepted by {item.initials}: {item.code}: {item.reason}")
-    for item in decision.not_accepted:
-        lines.append(f"  not accepted: {item.code}: {item.reason} ({item.why})")
+    for accepted in decision.accepted:
+        lines.append(f"  accepted by {accepted.initials}: {accepted.code}: {accepted.reason}")
+    for refused in decision.not_accepted:
+        lines.append(f"  not accepted: {refused.code}: {refused.reason} ({refused.why})")
     if decision.open_warnings:
         lines.append("  open warnings (need a reason and initials): " + ", ".join(decision.open_warnings))
     lines += ["", record.caution]

@@ -33,7 +33,6 @@ from osmodose.app.verify_view import (
     patient_summary,
     problem_text,
     saved_text,
-    worst,
 )
 from osmodose.app.view import DOSE_FIGURES, Outcome, dose_texts
 from osmodose.app.widgets.accept_panel import AcceptPanel
@@ -41,6 +40,7 @@ from osmodose.app.widgets.figures import FigurePanel
 from osmodose.app.widgets.findings import ChecksPanel
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.check.judging import worst_status
 from osmodose.check.results import CAUTION
 from osmodose.errors import LogError
 from osmodose.formulary.model import Formulary
@@ -160,7 +160,7 @@ class VerifyScreen(Screen[None]):
         self.query_one(ChecksPanel).show(Outcome(preview.result if preview else None, state.error))
         accept.mark(state.field or "", box_message(state, state.field or ""), bad=not state.missing)
         self.query_one("#recomputed", FigurePanel).show(dose_texts(preview.result) if preview else None)
-        borders = {
+        borders: dict[str, list[str]] = {
             "discrepancies": [d.severity for d in preview.discrepancies] if preview else [],
             "checks": [x.severity for x in preview.result.findings] if preview else [],
             "accept": ["refuse"] * len(state.refusals) + ["warn"] * len(state.acceptable),
@@ -168,7 +168,7 @@ class VerifyScreen(Screen[None]):
         for panel_id, severities in borders.items():
             panel = self.query_one(f"#{panel_id}")
             for name in ("warn", "refuse"):
-                panel.set_class(worst(severities) == name, f"-{name}")
+                panel.set_class(worst_status(severities) == name, f"-{name}")
         self._show_note(entry)
 
     def _show(self, static_id: str, text: str) -> Static:

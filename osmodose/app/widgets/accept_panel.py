@@ -15,7 +15,7 @@ class AcceptBox(Checkbox):
     """A tick box whose mark is an X only when ticked, so it reads the same without colour."""
 
     @property
-    def BUTTON_INNER(self) -> str:  # type: ignore[override]
+    def BUTTON_INNER(self) -> str:  # type: ignore[override]  # textual declares a class string; we need it per state
         return "X" if self.value else " "
 
 

@@ -39,13 +39,13 @@ class CoursePlot(PlotextPlot):
         if len(panel.x_range) == 2 and panel.x_range[1] > panel.x_range[0]:
             plt.xlim(*panel.x_range)
         for line in panel.lines:
-            hours, values, colour = list(line.hours), list(line.values), _rgb(line.colour)
-            if not hours:
+            xs, ys, colour = list(line.hours), list(line.values), _rgb(line.colour)
+            if not xs:
                 continue
             if line.style != "points":
-                plt.plot(hours, values, marker=LINE, color=colour)
+                plt.plot(xs, ys, marker=LINE, color=colour)
             if line.style in ("points", "points+line"):
-                plt.scatter(hours, values, marker=POINT, color=colour)
+                plt.scatter(xs, ys, marker=POINT, color=colour)
         self.refresh()
 
 

@@ -35,6 +35,7 @@ class FormField(Vertical):
 
     @property
     def control(self) -> Input | Select[str]:
+        # query_one is typed to return a Widget; the box holds exactly one Input or Select with this id.
         return self.query_one(f"#in-{self.spec.key}")  # type: ignore[return-value]
 
     @property
