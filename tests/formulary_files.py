@@ -23,7 +23,7 @@ BASE_LINES = (
     'label = "Sodium chloride 3 % 250 mL"',  # 11
     'solute = "sodium chloride"',  # 12
     'concentration = "3% w/v"',  # 13
-    'route = "central"',  # 14
+    'route = "central-only"',  # 14
     'presentations = ["250 mL"]',  # 15
     'sodium = "513 mmol/L"',  # 16: 3 % NaCl, product labels
     'osmolarity = "1027 mOsm/L"',  # 17: 3 % NaCl, product labels
@@ -42,7 +42,7 @@ id = "mannitol-20"
 label = "Mannitol 20 % 500 mL"
 solute = "mannitol"
 concentration = "20% w/v"
-route = "central"
+route = "central-only"
 """
 
 

@@ -18,6 +18,7 @@ FORMULA = {
     "urea nitrogen": {"N": 2},  # BUN is reported as nitrogen: two N per urea
     "sodium bicarbonate": {"Na": 1, "H": 1, "C": 1, "O": 3},
     "ethanol": {"C": 2, "H": 6, "O": 1},
+    "glucose monohydrate": {"C": 6, "H": 14, "O": 7},  # C6H12O6.H2O
 }
 
 
@@ -40,6 +41,7 @@ def test_every_molar_mass_in_the_table_is_checked() -> None:
         ("sodium bicarbonate", 2.0, 1.0),  # Na+ and HCO3-
         ("mannitol", 1.0, 0.0),
         ("glucose", 1.0, 0.0),
+        ("glucose monohydrate", 1.0, 0.0),  # the same glucose molecule, weighed with its water
     ],
 )
 def test_solute_particles(name: str, osmoles_per_mole: float, sodium_per_mole: float) -> None:
@@ -57,6 +59,9 @@ def test_mannitol_alone_projects_no_sodium() -> None:
 COMPOSITION = [
     # solute, % w/v, Na, mOsm/L, source
     ("sodium chloride", 0.9, 154, 308, "product label"),
+    # Dextrose 5 % weighed as the monohydrate: 50 g/L / 198.17 g/mol = 252.3 mOsm/L (arithmetic; the
+    # 252 mOsm/L printed on such labels).
+    ("glucose monohydrate", 5.0, 0, 252, "arithmetic from molar mass"),
     ("sodium chloride", 0.45, 77, 154, "product label"),
     ("sodium chloride", 2.0, 342, 684, "arithmetic from molar mass: 20 / 58.44 = 342.2"),
     ("sodium chloride", 3.0, 513, 1027, "product label"),
@@ -77,7 +82,7 @@ def derived(tmp_path_factory: pytest.TempPathFactory) -> Formulary:
     for number, (solute, percent, _na, _osm, _source) in enumerate(COMPOSITION, start=1):
         blocks.append(
             f'[[agents]]\nid = "a{number}"\nlabel = "{solute} {percent} %"\nsolute = "{solute}"\n'
-            f'concentration = "{percent}% w/v"\nroute = "central"\n'
+            f'concentration = "{percent}% w/v"\nroute = "central-only"\n'
         )
     path = tmp_path / "composition.toml"
     path.write_text("\n".join(blocks), encoding="utf-8")
@@ -99,7 +104,9 @@ def test_the_demo_formulary_labels_agree_with_the_arithmetic(demo: Formulary) ->
     assert demo.agent("nacl-0.9").sodium_mmol_l == 154.0
     assert demo.agent("nacl-3").osmolarity_mosm_l == 1027.0
     assert demo.agent("nacl-23.4").sodium_mmol_l == pytest.approx(4000.0)  # "4 mEq/mL"
-    assert demo.agent("nacl-23.4").osmolarity_mosm_l == pytest.approx(2 * 234 / 58.44 * 1000)
+    # No osmolarity in the file: it follows the label sodium, 2 x 4000 = 8000 mOsm/L, so the
+    # agent's two figures agree (234 g/L alone would give 2 x 234 / 58.44 x 1000 = 8008).
+    assert demo.agent("nacl-23.4").osmolarity_mosm_l == pytest.approx(8000.0)
     ringers = demo.agent("lactated-ringers")
     assert (ringers.sodium_mmol_l, ringers.potassium_mmol_l, ringers.cations_mmol_l) == (130.0, 4.0, 134.0)
     assert ringers.solute_g_per_l is None

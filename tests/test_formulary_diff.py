@@ -37,9 +37,9 @@ NEXT_VERSION_EDITS = [
         'presentations = ["250 mL", "500 mL"]\ndose_warn = "5 mL/kg"',
         'presentations = ["250 mL"]\ndose_warn = "4 mL/kg"\nmax_rate = "999 mL/h"',
     ),
-    ('concentration = "7.5% w/v"\nroute = "central"', 'concentration = "7.5% w/v"\nroute = "peripheral"'),
+    ('concentration = "7.5% w/v"\nroute = "central-only"', 'concentration = "7.5% w/v"\nroute = "any-line"'),
     ('concentration = "234 g/L"', 'concentration = "23.4% w/v"'),
-    ('concentration = "20% w/v"\nroute = "peripheral"', 'concentration = "20% w/v"\nroute = "central"'),
+    ('concentration = "20% w/v"\nroute = "any-line"', 'concentration = "20% w/v"\nroute = "central-only"'),
     ('label = "Glucose 5 % (demo stock)"', 'label = "Glucose 5 % 500 mL (demo stock)"'),
     ('potassium = "4 mmol/L"', 'potassium = "5 mmol/L"'),
 ]
@@ -50,7 +50,7 @@ id = "nacl-2"
 label = "Sodium chloride 2 % 500 mL (demo stock)"
 solute = "sodium chloride"
 concentration = "2% w/v"
-route = "peripheral"
+route = "any-line"
 presentations = ["500 mL"]
 """
 
@@ -71,6 +71,10 @@ def test_every_kind_of_change_in_an_update_is_listed_in_order(
     assert lines == [
         f'--- {old} ("{DEMO_NAME}" version "2026-12-demo")',
         f'+++ {new} ("{DEMO_NAME}" version "2027-01-demo")',
+        # Singled out first: the one change that lets more through.
+        "needs attention (loosened, removed, or changed two-fold or more):",
+        "  !! agent nacl-7.5: route central line only → peripheral or central: NOW ALLOWED ON A PERIPHERAL LINE "
+        "(loosened)",
         'version: "2026-12-demo" → "2027-01-demo"',
         'setting ethanol_factor: "molar" → "empirical"',
         "limit sodium_refuse: 160 mmol/L → 158 mmol/L",
@@ -94,23 +98,91 @@ def test_every_kind_of_change_in_an_update_is_listed_in_order(
     ]
 
 
-def test_a_tenfold_slip_in_an_update_shows_in_the_derived_sodium(
+def test_a_tenfold_slip_in_an_update_is_singled_out_at_the_top(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    # The 23.4 % vial retyped as 2.34 % (and its label sodium dropped) still validates,
-    # so review is the last check: 23.4 g/L / 58.44 g/mol = 400 mmol/L, 801 mOsm/L.
+    # A mixed fluid has no concentration to cross-check its label figures against, so a sodium
+    # and osmolarity both retyped a tenth (13 for 130 mmol/L, 27.3 for 273 mOsm/L) still load:
+    # review is the last check, and the diff puts them first.
     old = demo_formulary_path()
-    new_text = edit(old.read_text(), [('concentration = "234 g/L"', 'concentration = "2.34% w/v"')])
-    new_text = edit(new_text, [('max_rate = "180 mL/h"\nsodium = "4 mEq/mL"\n', 'max_rate = "180 mL/h"\n')])
-    new = write(tmp_path, new_text, "slip.toml")
+    edits = [
+        ('sodium = "130 mmol/L"', 'sodium = "13 mmol/L"'),
+        ('osmolarity = "273 mOsm/L"', 'osmolarity = "27.3 mOsm/L"'),
+    ]
+    new = write(tmp_path, edit(old.read_text(), edits), "slip.toml")
     code, lines = diff(capsys, old, new)
     assert code == 1
     assert lines[2:] == [
-        'agent nacl-23.4: concentration "234 g/L" → "2.34% w/v"',
-        "agent nacl-23.4: sodium 4000 mmol/L → 400 mmol/L",
-        "agent nacl-23.4: osmolarity 8008 mOsm/L → 801 mOsm/L",
-        "3 changes",
+        "needs attention (loosened, removed, or changed two-fold or more):",
+        "  !! agent lactated-ringers: sodium 130 mmol/L → 13 mmol/L (10-fold change)",
+        "  !! agent lactated-ringers: osmolarity 273 mOsm/L → 27 mOsm/L (10-fold change)",
+        "agent lactated-ringers: sodium 130 mmol/L → 13 mmol/L",
+        "agent lactated-ringers: osmolarity 273 mOsm/L → 27 mOsm/L",
+        "2 changes",
     ]
+
+
+def test_a_doubled_concentration_is_singled_out_with_its_sodium_and_osmolarity(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # 7.5 % -> 15 %: twice the strength, so twice the sodium (75 / 58.44 x 1000 = 1283 -> 2567
+    # mmol/L) and osmolarity (2567 -> 5133 mOsm/L), arithmetic from the molar mass.
+    old = demo_formulary_path()
+    new = write(tmp_path, edit(old.read_text(), [('concentration = "7.5% w/v"', 'concentration = "15% w/v"')]))
+    code, lines = diff(capsys, old, new)
+    assert code == 1
+    assert lines[2:6] == [
+        "needs attention (loosened, removed, or changed two-fold or more):",
+        '  !! agent nacl-7.5: concentration "7.5% w/v" → "15% w/v" (2-fold change)',
+        "  !! agent nacl-7.5: sodium 1283 mmol/L → 2567 mmol/L (2-fold change)",
+        "  !! agent nacl-7.5: osmolarity 2567 mOsm/L → 5133 mOsm/L (2-fold change)",
+    ]
+
+
+@pytest.mark.parametrize(
+    ("edits", "flagged"),
+    [
+        # A ceiling raised: more sodium is let through.
+        (
+            [('sodium_refuse = "160 mmol/L"', 'sodium_refuse = "165 mmol/L"')],
+            "limit sodium_refuse: 160 mmol/L → 165 mmol/L (loosened)",
+        ),
+        # A floor lowered: judged "below", so lower lets more through.
+        (
+            [("[limits]", '[limits]\nsodium_low_refuse = "120 mmol/L"')],
+            "limit sodium_low_refuse: 125 mmol/L (default) → 120 mmol/L (set in the file) (loosened)",
+        ),
+        # An agent's maximum rate dropped.
+        ([('max_rate = "180 mL/h"\n', "")], "agent nacl-23.4: max rate 180 mL/h → none (removed)"),
+        # A dose limit raised.
+        (
+            [('dose_refuse = "1.5 g/kg"', 'dose_refuse = "2 g/kg"')],
+            "agent mannitol-20: dose limits warn > 1 g/kg; refuse > 1.5 g/kg → warn > 1 g/kg; refuse > 2 g/kg "
+            "(loosened)",
+        ),
+        # No longer for adults only.
+        (
+            [("adult_only = true\n", "")],
+            "agent nacl-23.4: dose limits warn > 0.5 mL/kg; refuse > 1 mL/kg; adults only → warn > 0.5 mL/kg; "
+            "refuse > 1 mL/kg (no longer for adults only)",
+        ),
+    ],
+)
+def test_a_limit_loosened_or_removed_is_singled_out(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], edits: list[tuple[str, str]], flagged: str
+) -> None:
+    old = demo_formulary_path()
+    new = write(tmp_path, edit(old.read_text(), edits))
+    code, lines = diff(capsys, old, new)
+    assert code == 1
+    assert lines[2:4] == ["needs attention (loosened, removed, or changed two-fold or more):", f"  !! {flagged}"]
+
+
+def test_a_limit_tightened_is_not_singled_out(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    old = demo_formulary_path()
+    new = write(tmp_path, edit(old.read_text(), [('sodium_refuse = "160 mmol/L"', 'sodium_refuse = "158 mmol/L"')]))
+    code, lines = diff(capsys, old, new)
+    assert (code, lines[2:]) == (1, ["limit sodium_refuse: 160 mmol/L → 158 mmol/L", "1 change"])
 
 
 def test_name_and_solute_changes(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
@@ -161,9 +233,11 @@ def test_diff_json_lists_each_change(tmp_path: Path, capsys: pytest.CaptureFixtu
             "key": "route",
             "old": "central line only",
             "new": "peripheral or central",
+            "attention": "loosened",
             "text": "agent nacl-7.5: route central line only → peripheral or central: NOW ALLOWED ON A PERIPHERAL LINE",
         }
     ]
+    assert document["attention"] == [document["changes"][0]["text"]]
 
 
 def test_one_change_is_counted_in_the_singular(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
@@ -180,5 +254,5 @@ def test_a_new_version_that_does_not_load_is_one_line_and_exit_two(
     new = write(tmp_path, edit(old.read_text(), [('sodium_refuse = "160 mmol/L"', 'sodium_refuze = "160 mmol/L"')]))
     assert main(["formulary", "diff", str(old), str(new)]) == 2
     assert capsys.readouterr().err == (
-        f"osmodose: formulary {new}:23: limits.sodium_refuze: is not a known key (did you mean 'sodium_refuse'?)\n"
+        f"osmodose: formulary {new}:25: limits.sodium_refuze: is not a known key (did you mean 'sodium_refuse'?)\n"
     )

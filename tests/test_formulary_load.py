@@ -23,7 +23,7 @@ id = "nacl-3"
 label = "Sodium chloride 3 %"
 solute = "sodium chloride"
 concentration = "3% w/v"
-route = "peripheral"
+route = "any-line"
 """
 
 
@@ -116,7 +116,8 @@ def test_an_unknown_agent_key_names_the_agent_and_its_line(tmp_path: Path) -> No
     path = write(tmp_path, HEADER + NACL_3 + 'colour = "blue"\n')
     assert problems_of(path) == [
         f"formulary {path}:10: agents[1].colour: is not a known key (known keys here: id, label, solute, "
-        "concentration, route, presentations, dose_warn, dose_refuse, max_rate, sodium, potassium, osmolarity)"
+        "concentration, route, presentations, dose_warn, dose_refuse, max_rate, sodium, potassium, osmolarity, "
+        "adult_only, dose_weight)"
     ]
 
 
@@ -164,7 +165,7 @@ id = "nacl-23.4"
 label = "Sodium chloride 23.4 % vial"
 solute = "sodium chloride"
 concentration = "23.4% w/v"
-route = "central"
+route = "central-only"
 sodium = "400 mmol/L"
 """
     path = write(tmp_path, HEADER + agent)
@@ -182,7 +183,7 @@ id = "mannitol-20"
 label = "Mannitol 20 %"
 solute = "mannitol"
 concentration = "20% w/v"
-route = "peripheral"
+route = "any-line"
 osmolarity = "1372 mOsm/L"
 """
     path = write(tmp_path, HEADER + agent)
@@ -224,7 +225,7 @@ def test_a_mixed_fluid_without_its_sodium(tmp_path: Path) -> None:
 id = "lr"
 label = "Lactated Ringer's as labelled"
 solute = "mixed"
-route = "peripheral"
+route = "any-line"
 potassium = "4 mmol/L"
 osmolarity = "273 mOsm/L"
 """
@@ -237,7 +238,7 @@ def test_an_unknown_solute(tmp_path: Path) -> None:
     path = write(tmp_path, HEADER + NACL_3.replace('"sodium chloride"', '"sodium chlorid"'))
     assert problems_of(path) == [
         f"formulary {path}:7: agents[1].solute: 'sodium chlorid' is not one of "
-        "'sodium chloride', 'mannitol', 'sodium bicarbonate', 'glucose' or 'mixed'"
+        "'sodium chloride', 'mannitol', 'sodium bicarbonate', 'glucose', 'glucose monohydrate' or 'mixed'"
     ]
 
 
@@ -298,7 +299,7 @@ def test_a_gram_limit_on_a_mixed_fluid_could_never_fire(tmp_path: Path) -> None:
 id = "lr"
 label = "Lactated Ringer's as labelled"
 solute = "mixed"
-route = "peripheral"
+route = "any-line"
 sodium = "130 mmol/L"
 osmolarity = "273 mOsm/L"
 dose_refuse = "1 g/kg"
@@ -318,7 +319,7 @@ id = "mannitol-20"
 label = "Mannitol 20 %"
 solute = "mannitol"
 concentration = "20% w/v"
-route = "peripheral"
+route = "any-line"
 dose_warn = "2 mmol/kg"
 """
     path = write(tmp_path, HEADER + agent)

@@ -103,7 +103,7 @@ BROKEN = {
     "route not one of the two": (
         lambda d: d["agents"][1].update(route="centre"),
         ["agents", 1, "route"],
-        "'centre' is not one of ['central', 'peripheral']",
+        "'centre' is not one of ['central-only', 'any-line']",
     ),
     "a limit as a bare number": (
         lambda d: d["limits"].update(sodium_refuse=160),
@@ -136,4 +136,4 @@ def test_schema_descriptions_are_the_field_docstrings_and_the_limit_specs() -> N
     )
     agent = schema["$defs"]["AgentEntry"]
     assert agent["additionalProperties"] is False
-    assert agent["properties"]["route"]["description"].startswith('"central" = central line only')
+    assert agent["properties"]["route"]["description"].startswith('"central-only" = a central line only')

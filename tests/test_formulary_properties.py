@@ -19,8 +19,15 @@ NACL = SOLUTE_STRENGTH["sodium chloride"]
 
 
 def _file(folder: Path, name: str, concentration: str) -> Path:
+    """The test unit's agent at `concentration`, with no strength in its id or label and no dose limits.
+
+    A strength printed in the id or label ten times the concentration is a slipped decimal point
+    (an error of its own), and a per-kg volume limit fits one strength only: both are left out so
+    the concentration alone is judged.
+    """
     path = folder / name
-    path.write_text(edited({13: f'concentration = "{concentration}"', **NO_COMPOSITION_LINES}))
+    replace = {10: 'id = "nacl"', 11: 'label = "Sodium chloride"', 13: f'concentration = "{concentration}"'}
+    path.write_text(edited({**replace, **NO_COMPOSITION_LINES, 18: "", 19: ""}))
     return path
 
 

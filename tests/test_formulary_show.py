@@ -63,35 +63,35 @@ id = "nacl-3"
 label = "Sodium chloride 3 %"
 solute = "sodium chloride"
 concentration = "3% w/v"
-route = "central"
+route = "central-only"
 
 [[agents]]
 id = "nacl-23.4"
 label = "Sodium chloride 23.4 %"
 solute = "sodium chloride"
 concentration = "23.4% w/v"
-route = "central"
+route = "central-only"
 
 [[agents]]
 id = "mannitol-20"
 label = "Mannitol 20 %"
 solute = "mannitol"
 concentration = "20% w/v"
-route = "central"
+route = "central-only"
 
 [[agents]]
 id = "bicarb-8.4"
 label = "Sodium bicarbonate 8.4 %"
 solute = "sodium bicarbonate"
 concentration = "8.4% w/v"
-route = "central"
+route = "central-only"
 
 [[agents]]
 id = "glucose-5"
 label = "Glucose 5 %"
 solute = "glucose"
 concentration = "5% w/v"
-route = "central"
+route = "central-only"
 """
 
 # Derived with the molar masses (IUPAC/CIAAW): NaCl 58.44, mannitol 182.17,

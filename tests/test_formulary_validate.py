@@ -131,7 +131,7 @@ ERROR_CASES = {
     ),
     "a route that is not one of the two": (
         {14: 'route = "centre"'},
-        ["14: agents[1].route: 'centre' is not one of 'central' or 'peripheral'"],
+        ["14: agents[1].route: 'centre' is not one of 'central-only' or 'any-line'"],
     ),
     "a required key missing: the line is the agent's table": (
         {11: ""},
@@ -247,10 +247,11 @@ def test_real_stock_strengths_are_inside_the_range(
     assert code == 0
 
 
-def test_a_23_4_percent_vial_typed_as_2_34_percent_is_caught_by_its_label_sodium(
+def test_a_23_4_percent_vial_typed_as_2_34_percent_is_caught_by_its_label_and_its_label_sodium(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    # 2.34 % is a plausible strength, so the range cannot catch it; the vial's label
+    # 2.34 % is a plausible strength, so the range cannot catch it; the label says 23.4 %,
+    # ten times the concentration (a slipped decimal point), and the vial's label sodium
     # says 4 mEq/mL (product labels) while 23.4 g/L / 58.44 g/mol = 400 mmol/L.
     replace = {
         11: 'label = "Sodium chloride 23.4 % 30 mL vial"',
@@ -264,15 +265,19 @@ def test_a_23_4_percent_vial_typed_as_2_34_percent_is_caught_by_its_label_sodium
     code, lines, _ = validate(capsys, str(path))
     assert code == 1
     assert lines == [
+        f"{path}:13: agents[1].concentration: '2.34% w/v' is 2.34 % w/v, but the label says 23.4 % "
+        "(10 times apart: a slipped decimal point?); correct the concentration or the label",
         f"{path}:16: agents[1].sodium: '4 mEq/mL' disagrees with the concentration, which gives 400 mmol/L "
         "(more than 2% apart)",
-        f"{path}: not valid: 1 error",
+        f"{path}: not valid: 2 errors",
     ]
 
 
-def test_without_a_label_sodium_the_label_percentage_still_warns(
+def test_without_a_label_sodium_a_tenfold_label_percentage_is_an_error(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
+    # The 23.4 % vial typed "2.34% w/v" with no label sodium: the label's 23.4 % is ten times
+    # the concentration, a slipped decimal point, so the file is not valid (it was a warning).
     replace = {
         11: 'label = "Sodium chloride 23.4 % 30 mL vial"',
         13: 'concentration = "2.34% w/v"',
@@ -282,10 +287,25 @@ def test_without_a_label_sodium_the_label_percentage_still_warns(
     }
     path = write(tmp_path, edited(replace))
     code, lines, _ = validate(capsys, str(path))
+    assert code == 1
+    assert lines == [
+        f"{path}:13: agents[1].concentration: '2.34% w/v' is 2.34 % w/v, but the label says 23.4 % "
+        "(10 times apart: a slipped decimal point?); correct the concentration or the label",
+        f"{path}: not valid: 1 error",
+    ]
+
+
+def test_a_label_percentage_that_disagrees_less_than_tenfold_still_only_warns(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # A 7.5 % label on a 3 % concentration is no slipped decimal point: a warning to look twice.
+    replace = {11: 'label = "Sodium chloride 7.5 % 100 mL"', **NO_COMPOSITION, 18: "", 19: ""}
+    path = write(tmp_path, edited(replace))
+    code, lines, _ = validate(capsys, str(path))
     assert code == 0
     assert lines == [
-        f"{path}:11: agents[1].label: warning: 'Sodium chloride 23.4 % 30 mL vial' says 23.4 % but the "
-        "concentration is 2.34 % w/v: check which one is right",
+        f"{path}:11: agents[1].label: warning: 'Sodium chloride 7.5 % 100 mL' says 7.5 % but the "
+        "concentration is 3 % w/v: check which one is right",
         f'{path}: valid: "Test unit (invented)" version "1", 1 agent (1 warning)',
     ]
 
@@ -294,11 +314,11 @@ def test_a_peripheral_route_above_the_peripheral_limit_is_a_warning_not_an_error
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
     # 3 % NaCl is 1027 mOsm/L (product labels), above the 900 mOsm/L default.
-    path = write(tmp_path, edited({14: 'route = "peripheral"'}))
+    path = write(tmp_path, edited({14: 'route = "any-line"'}))
     code, lines, _ = validate(capsys, str(path))
     assert code == 0
     assert lines == [
-        f"{path}:14: agents[1].route: warning: 'peripheral' for an agent of 1027 mOsm/L, above "
+        f"{path}:14: agents[1].route: warning: 'any-line' for an agent of 1027 mOsm/L, above "
         "peripheral_osmolarity_warn (900 mOsm/L): every order on a peripheral line will be warned",
         f'{path}: valid: "Test unit (invented)" version "1", 1 agent (1 warning)',
     ]
@@ -307,7 +327,7 @@ def test_a_peripheral_route_above_the_peripheral_limit_is_a_warning_not_an_error
 def test_a_unit_that_raises_the_peripheral_limit_gets_no_warning(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    path = write(tmp_path, edited({14: 'route = "peripheral"', 8: 'peripheral_osmolarity_warn = "1100 mOsm/L"'}))
+    path = write(tmp_path, edited({14: 'route = "any-line"', 8: 'peripheral_osmolarity_warn = "1100 mOsm/L"'}))
     code, lines, _ = validate(capsys, str(path))
     assert code == 0
     assert lines == [f'{path}: valid: "Test unit (invented)" version "1", 1 agent']
@@ -318,7 +338,7 @@ def test_every_layer_of_problems_is_reported_in_one_pass_sorted_by_line(
 ) -> None:
     # A misspelt key does not hide the bad values beside it, nor the duplicate id,
     # nor the warning on an agent that resolves.
-    second = SECOND_AGENT.replace('"mannitol-20"', '"nacl-3"').replace('"central"', '"peripheral"')
+    second = SECOND_AGENT.replace('"mannitol-20"', '"nacl-3"').replace('"central-only"', '"any-line"')
     replace = {7: 'sodium_refuze = "160 mmol/L"', 13: 'concentration = "35% w/v"', 16: "", 17: ""}
     path = write(tmp_path, edited(replace, second))
     code, lines, _ = validate(capsys, str(path))
@@ -329,7 +349,7 @@ def test_every_layer_of_problems_is_reported_in_one_pass_sorted_by_line(
         "sodium chloride (accepted: 0.1 to 30 % w/v)",
         f"{path}:23: agents[2].id: 'nacl-3' is already the id of agents[1]",
         # 20 % mannitol: 200 g/L / 182.17 g/mol = 1098 mOsm/L (arithmetic).
-        f"{path}:27: agents[2].route: warning: 'peripheral' for an agent of 1098 mOsm/L, above "
+        f"{path}:27: agents[2].route: warning: 'any-line' for an agent of 1098 mOsm/L, above "
         "peripheral_osmolarity_warn (900 mOsm/L): every order on a peripheral line will be warned",
         f"{path}: not valid: 3 errors (1 warning)",
     ]
@@ -359,9 +379,9 @@ def test_the_demo_formulary_is_valid_with_its_two_peripheral_warnings(capsys: py
     assert code == 0
     # 3 % NaCl 1027 mOsm/L (product labels); 20 % mannitol 1098 mOsm/L (arithmetic).
     assert lines == [
-        f"{demo}:42: agents[2].route: warning: 'peripheral' for an agent of 1027 mOsm/L, above "
+        f"{demo}:44: agents[2].route: warning: 'any-line' for an agent of 1027 mOsm/L, above "
         "peripheral_osmolarity_warn (900 mOsm/L): every order on a peripheral line will be warned",
-        f"{demo}:76: agents[5].route: warning: 'peripheral' for an agent of 1098 mOsm/L, above "
+        f"{demo}:79: agents[5].route: warning: 'any-line' for an agent of 1098 mOsm/L, above "
         "peripheral_osmolarity_warn (900 mOsm/L): every order on a peripheral line will be warned",
         f'{demo}: valid: "Larkspur Point 7N neuro ICU (fictional demo unit)" version "2026-12-demo", '
         "8 agents (2 warnings)",
@@ -369,7 +389,7 @@ def test_the_demo_formulary_is_valid_with_its_two_peripheral_warnings(capsys: py
 
 
 def test_json_lists_errors_and_warnings_with_lines(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
-    second = SECOND_AGENT.replace('"central"', '"peripheral"')
+    second = SECOND_AGENT.replace('"central-only"', '"any-line"')
     path = write(tmp_path, edited({6: 'sodium_warn = "165 mmol/L"'}, second))
     code = main(["formulary", "validate", str(path), "--json"])
     document = json.loads(capsys.readouterr().out)
@@ -401,8 +421,8 @@ def test_hard_problems_also_stop_load_formulary_and_check(tmp_path: Path, capsys
 
 
 def test_warnings_do_not_stop_load_formulary(tmp_path: Path) -> None:
-    path = write(tmp_path, edited({14: 'route = "peripheral"'}))
-    assert load_formulary(path).agents[0].route == "peripheral"
+    path = write(tmp_path, edited({14: 'route = "any-line"'}))
+    assert load_formulary(path).agents[0].route == "any-line"
     assert len(validate_formulary(path).warnings) == 1
 
 

@@ -20,7 +20,7 @@ from osmodose.check.results import CAUTION
 from osmodose.cli.exit_codes import INVALID, OK
 from osmodose.errors import FormularyError
 from osmodose.formulary import demo_formulary_path, load_formulary
-from osmodose.formulary.diff import diff_formularies, summary_line
+from osmodose.formulary.diff import attention_lines, diff_formularies, summary_line
 from osmodose.formulary.schema import formulary_schema
 from osmodose.formulary.summary import AGENT_COLUMNS, LIMIT_COLUMNS, agent_cells, agent_rows, limit_cells, limit_rows
 from osmodose.formulary.template import formulary_template
@@ -151,12 +151,15 @@ def run_diff(args: argparse.Namespace) -> int:
         document = {
             "old": {"path": old.path, "sha256": old.sha256},
             "new": {"path": new.path, "sha256": new.sha256},
+            "attention": [change.text for change in changes if change.attention],
             "changes": [{**change.to_json(), "text": change.text} for change in changes],
         }
         print(json.dumps(document, indent=2))
     else:
         print(f'--- {old.path} ("{old.name}" version "{old.version}")')
         print(f'+++ {new.path} ("{new.name}" version "{new.version}")')
+        for line in attention_lines(changes):
+            print(line)
         for change in changes:
             print(change.text)
         print(summary_line(changes, same_bytes))

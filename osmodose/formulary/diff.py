@@ -4,6 +4,13 @@ Both files are compared after loading, so a change is reported in what it
 means (the sodium an agent now delivers), not how it is written; figures are
 compared at the rounding `formulary show` prints.  A route that now allows a
 peripheral line is flagged in capitals: that is the change that can hurt.
+
+The changes that can hurt most are also singled out (`Change.attention`, listed
+first by `attention_lines`): a concentration, derived sodium or osmolarity
+changed two-fold or more (a slipped decimal point), and any limit loosened or
+removed (a ceiling raised, a floor lowered, a dose limit or maximum rate raised
+or dropped, an agent no longer for adults only, a route now allowing a
+peripheral line).
 """
 
 from __future__ import annotations
@@ -12,14 +19,18 @@ import math
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from osmodose.formulary.limits import LIMIT_SPECS, display_unit
-from osmodose.formulary.model import Agent, Formulary
+from osmodose.formulary.limits import LIMIT_SPECS, LimitSpec, display_unit
+from osmodose.formulary.model import Agent, DoseLimit, Formulary
 from osmodose.formulary.summary import AgentRow, agent_cells, agent_rows
 
 Area = Literal["formulary", "settings", "limits", "agents"]
 
 ROUTE_NOW_PERIPHERAL = "NOW ALLOWED ON A PERIPHERAL LINE"
 ROUTE_NOW_CENTRAL = "orders on a peripheral line will now be refused"
+#: A figure changed by this factor or more, either way, is singled out.
+ATTENTION_FACTOR = 2.0
+LOOSENED = "loosened"
+REMOVED = "removed"
 
 
 @dataclass(frozen=True)
@@ -32,9 +43,18 @@ class Change:
     old: str | None
     new: str | None
     text: str
+    attention: str | None = None
+    """Why this change is singled out at the top ("loosened", "removed", "10-fold change"), or None."""
 
     def to_json(self) -> dict[str, Any]:
-        return {"area": self.area, "subject": self.subject, "key": self.key, "old": self.old, "new": self.new}
+        return {
+            "area": self.area,
+            "subject": self.subject,
+            "key": self.key,
+            "old": self.old,
+            "new": self.new,
+            "attention": self.attention,
+        }
 
 
 def diff_formularies(old: Formulary, new: Formulary) -> list[Change]:
@@ -53,6 +73,16 @@ def diff_formularies(old: Formulary, new: Formulary) -> list[Change]:
     changes.extend(_limit_changes(old, new))
     changes.extend(_agent_changes(old, new))
     return changes
+
+
+def attention_lines(changes: list[Change]) -> list[str]:
+    """The changes singled out, each with why, to print before the rest; empty when none."""
+    flagged = [change for change in changes if change.attention]
+    if not flagged:
+        return []
+    return ["needs attention (loosened, removed, or changed two-fold or more):"] + [
+        f"  !! {change.text} ({change.attention})" for change in flagged
+    ]
 
 
 def summary_line(changes: list[Change], same_bytes: bool) -> str:
@@ -83,8 +113,48 @@ def _limit_changes(old: Formulary, new: Formulary) -> list[Change]:
             line = f"limit {name}: {shown_before} → {shown_after}"
         else:
             line = f"limit {name}: {shown_before} ({_origin(was_set)}) → {shown_after} ({_origin(is_set)})"
-        changes.append(Change("limits", name, name, shown_before, shown_after, line))
+        attention = _loosened(spec, before, after)
+        changes.append(Change("limits", name, name, shown_before, shown_after, line, attention))
     return changes
+
+
+def _loosened(spec: LimitSpec, before: float | None, after: float | None) -> str | None:
+    """ "removed" or "loosened" when the new value lets more through, else None."""
+    if spec.looser is None or before is None or before == after:
+        return None
+    if after is None:
+        return REMOVED
+    raised = after > before
+    return LOOSENED if raised == (spec.looser == "higher") else None
+
+
+def _fold(before: float | None, after: float | None) -> str | None:
+    """ "N-fold change" when two figures differ by the attention factor or more, either way."""
+    if before is None or after is None or before == after:
+        return None
+    low, high = sorted((abs(before), abs(after)))
+    if low == 0:
+        return "from zero" if before == 0 else "to zero"
+    factor = high / low
+    return f"{factor:.3g}-fold change" if factor >= ATTENTION_FACTOR else None
+
+
+def _dose_limit_loosened(before: DoseLimit | None, after: DoseLimit | None) -> str | None:
+    if before is None:
+        return None
+    if after is None:
+        return REMOVED
+    if after.kind != before.kind:
+        return "changed unit: compare by hand"
+    return LOOSENED if after.value > before.value else None
+
+
+def _max_rate_loosened(before: float | None, after: float | None) -> str | None:
+    if before is None:
+        return None
+    if after is None:
+        return REMOVED
+    return LOOSENED if after > before else None
 
 
 def _origin(from_file: bool) -> str:
@@ -149,9 +219,15 @@ def _one_agent(agent_id: str, old: Agent, old_row: AgentRow, new: Agent, new_row
     after = dict(zip(_COLUMN_KEYS, agent_cells(new_row), strict=True))
     changes = []
 
-    def add(key: str, old_text: str, new_text: str, line: str) -> None:
-        changes.append(Change("agents", agent_id, key, old_text, new_text, f"agent {agent_id}: {line}"))
+    def add(key: str, old_text: str, new_text: str, line: str, attention: str | None = None) -> None:
+        changes.append(Change("agents", agent_id, key, old_text, new_text, f"agent {agent_id}: {line}", attention))
 
+    figures = {
+        "concentration": (old.solute_g_per_l, new.solute_g_per_l),
+        "sodium": (old.sodium_mmol_l, new.sodium_mmol_l),
+        "osmolarity": (old.osmolarity_mosm_l, new.osmolarity_mosm_l),
+        "max_rate": (old.max_rate_ml_h, new.max_rate_ml_h),
+    }
     if old.solute != new.solute:
         add("solute", old.solute, new.solute, f"solute {old.solute} → {new.solute}")
     for key, (words, unit) in _FIGURES.items():
@@ -161,13 +237,24 @@ def _one_agent(agent_id: str, old: Agent, old_row: AgentRow, new: Agent, new_row
         line = f"{words} {quote}{before[key]}{quote}{unit} → {quote}{after[key]}{quote}{unit}"
         if key == "concentration" and _same_strength(old, new):
             line += " (same strength)"
-        add(key, before[key], after[key], line)
+        attention = _fold(*figures[key]) if key in ("concentration", "sodium", "osmolarity") else None
+        if key == "dose_limits":
+            attention = _dose_limit_loosened(old.dose_refuse, new.dose_refuse) or _dose_limit_loosened(
+                old.dose_warn, new.dose_warn
+            )
+            if old.adult_only and not new.adult_only:
+                attention = attention or "no longer for adults only"
+        elif key == "max_rate":
+            attention = _max_rate_loosened(*figures["max_rate"])
+        add(key, before[key], after[key], line, attention)
     if old.potassium_mmol_l != new.potassium_mmol_l:
         was, now = f"{old.potassium_mmol_l:g}", f"{new.potassium_mmol_l:g}"
         add("potassium", was, now, f"potassium {was} mmol/L → {now} mmol/L")
     if old.route != new.route:
-        flag = ROUTE_NOW_PERIPHERAL if new.route == "peripheral" else ROUTE_NOW_CENTRAL
-        add("route", before["route"], after["route"], f"route {before['route']} → {after['route']}: {flag}")
+        peripheral = not new.central_only
+        flag = ROUTE_NOW_PERIPHERAL if peripheral else ROUTE_NOW_CENTRAL
+        line = f"route {before['route']} → {after['route']}: {flag}"
+        add("route", before["route"], after["route"], line, LOOSENED if peripheral else None)
     return changes
 
 

@@ -11,10 +11,14 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, create_model
+from pydantic import BaseModel, ConfigDict, Field, create_model, field_validator
 
 from osmodose.formulary.limits import LIMIT_SPECS
 from osmodose.science.chemistry import SoluteName
+from osmodose.science.formulas import INFANT_AGE_YEARS, TBW_FRACTION_CHILD, TBW_FRACTION_INFANT
+
+#: The route words of files written before they were renamed, read as the new ones.
+OLD_ROUTE_WORDS: dict[str, str] = {"central": "central-only", "peripheral": "any-line"}
 
 _STRICT = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
@@ -43,6 +47,12 @@ class SettingsTable(BaseModel):
     """Ethanol's share of calculated osmolality: "molar" (mg/dL / 4.6) or "empirical" (mg/dL / 3.7)."""
     tbw_method: Literal["fraction", "watson"] = "fraction"
     """Default total-body-water method when the user does not choose one."""
+    infant_age_years: float = Field(default=INFANT_AGE_YEARS, ge=0, le=3)
+    """Age below which the infant total-body-water fraction applies (default 1 year)."""
+    tbw_fraction_infant: float = Field(default=TBW_FRACTION_INFANT, ge=0.5, le=0.85)
+    """Infants' body water per kg: 0.75-0.8 at birth, 0.6 by 1 year (Friis-Hansen 1961, from memory)."""
+    tbw_fraction_child: float = Field(default=TBW_FRACTION_CHILD, ge=0.5, le=0.75)
+    """Children's body water per kg, from the infant age to the adult age (Adrogue-Madias 2000)."""
 
 
 def _limits_table() -> type[BaseModel]:
@@ -80,8 +90,8 @@ class AgentEntry(BaseModel):
     """The solute whose molar mass turns the concentration into mmol and mOsm."""
     concentration: str | None = None
     """Concentration as labelled: "3% w/v", "234 g/L", "513 mmol/L" or "4 mEq/mL"; optional only for "mixed"."""
-    route: Literal["central", "peripheral"]
-    """"central" = central line only; "peripheral" = a peripheral or a central line."""
+    route: Literal["central-only", "any-line"]
+    """"central-only" = a central line only; "any-line" = either line (old words "central"/"peripheral" warn)."""
     presentations: list[str] = Field(default_factory=list)
     """Bag or vial sizes kept, e.g. ["250 mL", "500 mL"]."""
     dose_warn: str | None = None
@@ -96,6 +106,16 @@ class AgentEntry(BaseModel):
     """Potassium content as labelled, e.g. "4 mmol/L"; counts in the sodium projection."""
     osmolarity: str | None = None
     """Theoretical osmolarity as labelled, e.g. "273 mOsm/L"; checked against the concentration."""
+    adult_only: bool = False
+    """true: an order of this agent for a child (under the adult age setting) is refused."""
+    dose_weight: Literal["actual", "ideal", "adjusted"] = "actual"
+    """Weight for per-kg doses and limits: "actual" (default), "ideal" (Devine) or "adjusted"; needs a height."""
+
+    @field_validator("route", mode="before")
+    @classmethod
+    def _old_route_words(cls, value: object) -> object:
+        """Read the old words ("central", "peripheral") as the new ones; `formulary validate` warns of them."""
+        return OLD_ROUTE_WORDS.get(value, value) if isinstance(value, str) else value
 
 
 class FormularyFile(BaseModel):

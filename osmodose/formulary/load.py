@@ -20,16 +20,25 @@ from pydantic import ValidationError
 from osmodose.errors import FormularyError, FormularyProblems, InputError
 from osmodose.formulary.file_errors import describe, key_path, salvage
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
-from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS
+from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS, display_unit
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseKind, DoseLimit, Formulary, Limits
-from osmodose.science.chemistry import SOLUTES
-from osmodose.science.ranges import SOLUTE_STRENGTH
+from osmodose.science.chemistry import SOLUTES, Solute
+from osmodose.science.ranges import DOSE_CEILING, MAX_RATE_RANGE, SOLUTE_STRENGTH
 from osmodose.science.units import is_per_mass, parse_quantity, ureg
 
 #: An explicit sodium or osmolarity may differ from the one derived from the
 #: concentration by this fraction (label rounding) before the file is rejected.
 COMPOSITION_TOLERANCE = 0.02
+#: Osmoles an explicit potassium brings per mmol: potassium chloride dissociates into K+ and Cl-.
+POTASSIUM_CHLORIDE_OSMOLES = 2.0
+#: A strength printed in a label or an id this many times (or this fraction of) the concentration,
+#: within the composition tolerance, is a slipped decimal point: the file is rejected.
+DECIMAL_SLIPS = (10.0, 100.0, 1000.0)
+#: A number in a label followed by "%": "Sodium chloride 23.4 % 30 mL vial" (or "0,9 %").
+LABEL_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*%")
+#: A number in an agent id: "nacl-23.4" -> 23.4.
+_ID_NUMBER = re.compile(r"\d+(?:\.\d+)?")
 
 _TOML_POSITION = re.compile(r"\(at line (\d+), column \d+\)")
 _DOSE_KINDS: dict[str, DoseKind] = {
@@ -176,6 +185,13 @@ def _resolve_limits(table: LimitsTable, out: _Collector) -> Limits:
         value = float(quantity.to(spec.unit).magnitude)
         if value < 0:
             out.add(f"limits.{name}", f"{raw!r} is negative (accepted: a value of 0 or more)")
+        elif spec.plausible is not None and not spec.plausible[0] <= value <= spec.plausible[1]:
+            lowest, highest = spec.plausible
+            out.add(
+                f"limits.{name}",
+                f"{raw!r} is outside the plausible range for this limit "
+                f"(accepted: {lowest:g} to {highest:g} {display_unit(spec.unit)})",
+            )
         values[name] = value
         from_file.add(name)
     for warn, refuse in ORDERED_PAIRS:
@@ -221,12 +237,19 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
                     f"{entry.concentration!r} is {grams / 10.0:.4g} % w/v, outside the plausible range "
                     f"for {entry.solute} (accepted: {strength.describe()})",
                 )
+            elif (slip := strength_slip(entry, grams / 10.0)) is not None:
+                out.add(f"{where}.concentration", slip)
             moles = grams / solute.molar_mass_g_per_mol * 1000.0  # mmol/L
             derived_na = moles * solute.sodium_per_mole
             derived_osm = moles * solute.osmoles_per_mole
+    sodium_problems = len(out.problems)
     sodium = _explicit(entry.sodium, f"{where}.sodium", "mmol/L", ("mmol/L",), derived_na, out)
     potassium = _explicit(entry.potassium, f"{where}.potassium", "mmol/L", ("mmol/L",), None, out)
-    osmolarity = _explicit(entry.osmolarity, f"{where}.osmolarity", "mOsm/L", ("mOsm/L",), derived_osm, out)
+    label_sodium = sodium if entry.sodium is not None and len(out.problems) == sodium_problems else None
+    checked_osm = derived_osmolarity(solute, derived_osm, None, potassium)
+    osmolarity = _explicit(entry.osmolarity, f"{where}.osmolarity", "mOsm/L", ("mOsm/L",), checked_osm, out)
+    if entry.osmolarity is None:
+        osmolarity = derived_osmolarity(solute, derived_osm, label_sodium, potassium)
     presentations: list[float] = []
     for number, raw in enumerate(entry.presentations, start=1):
         size = out.quantity(f"{where}.presentations[{number}]", raw, "mL", ("mL",))
@@ -242,8 +265,12 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
             continue
         if limit.kind == "g/kg" and solute.molar_mass_g_per_mol is None:
             out.add(f"{where}.{key}", f"{limit.text!r} is in g/kg, but a mixed fluid has no single solute to weigh")
-        if limit.kind == "mmol/kg" and sodium is not None and sodium <= 0:
+        elif limit.kind == "mmol/kg" and sodium is not None and sodium <= 0:
             out.add(f"{where}.{key}", f"{limit.text!r} is in mmol/kg of sodium, but this agent has no sodium")
+        elif len(out.problems) > before:
+            continue  # a dose limit is only judged against a composition that loaded
+        elif (ceiling := dose_ceiling_problem(limit, entry.solute, grams, sodium, osmolarity)) is not None:
+            out.add(f"{where}.{key}", ceiling)
     if dose_warn and dose_refuse:
         if dose_warn.kind != dose_refuse.kind:
             out.add(f"{where}.dose_refuse", f"is in {dose_refuse.kind} but dose_warn is in {dose_warn.kind}")
@@ -253,6 +280,11 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
     if entry.max_rate is not None:
         rate = out.quantity(f"{where}.max_rate", entry.max_rate, "mL/h", ("mL/h",))
         max_rate = None if rate is None else float(rate.m_as("mL/h"))
+        if max_rate is not None and not MAX_RATE_RANGE.low <= max_rate <= MAX_RATE_RANGE.high:
+            out.add(
+                f"{where}.max_rate",
+                f"{entry.max_rate!r} is outside the plausible range for a rate (accepted: {MAX_RATE_RANGE.describe()})",
+            )
     if len(out.problems) > before:
         return None
     return Agent(
@@ -269,6 +301,8 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
         dose_warn=dose_warn,
         dose_refuse=dose_refuse,
         max_rate_ml_h=max_rate,
+        adult_only=entry.adult_only,
+        dose_weight=entry.dose_weight,
     )
 
 
@@ -311,3 +345,78 @@ def _dose_limit(raw: str | None, key: str, out: _Collector) -> DoseLimit | None:
         return None
     value = float(quantity.m_as(kind))
     return DoseLimit(value=value, kind=kind, text=raw)
+
+
+def derived_osmolarity(
+    solute: Solute, from_concentration: float | None, label_sodium: float | None, potassium: float | None
+) -> float | None:
+    """The osmolarity a single-solute agent's figures give, mOsm/L.
+
+    With `label_sodium` (written, and within tolerance of the concentration's)
+    the osmolarity follows it, so one agent's two figures never disagree
+    (23.4 % labelled 4 mEq/mL: 8000 mOsm/L, not the 8008 that 234 g/L gives);
+    the loader uses that figure when the file writes no osmolarity, and checks
+    a written one against the concentration's.  An explicit potassium is
+    counted as potassium chloride (K+ and Cl-): 0.9 % sodium chloride with
+    20 mmol/L KCl is 308 + 40 = 348 mOsm/L.
+    """
+    if from_concentration is None:
+        return None
+    osmolarity = from_concentration
+    if label_sodium is not None and solute.sodium_per_mole > 0:
+        osmolarity = label_sodium / solute.sodium_per_mole * solute.osmoles_per_mole
+    if potassium:
+        osmolarity += POTASSIUM_CHLORIDE_OSMOLES * potassium
+    return osmolarity
+
+
+def strength_slip(entry: AgentEntry, percent: float) -> str | None:
+    """A concentration a slipped decimal point away from the strength printed in the label or the id.
+
+    Only when nothing written matches it (within the composition tolerance) and
+    something written is 10, 100 or 1000 times it, or that fraction of it:
+    "2.34% w/v" for a vial labelled "23.4 %" or named "nacl-23.4".
+    """
+    written = [("label", float(n.replace(",", "."))) for n in LABEL_PERCENT.findall(entry.label)]
+    written += [("id", float(n)) for n in _ID_NUMBER.findall(entry.id)]
+    if not written or any(_close(value, percent) for _, value in written):
+        return None
+    for where, value in written:
+        for factor in DECIMAL_SLIPS:
+            if _close(value, percent * factor) or _close(value * factor, percent):
+                return (
+                    f"{entry.concentration!r} is {percent:.4g} % w/v, but the {where} says {value:g} % "
+                    f"({factor:g} times apart: a slipped decimal point?); correct the concentration or the {where}"
+                )
+    return None
+
+
+def _close(value: float, target: float) -> bool:
+    return target > 0 and abs(value - target) <= COMPOSITION_TOLERANCE * target
+
+
+def dose_ceiling_problem(
+    limit: DoseLimit, solute: str, grams_per_l: float | None, sodium: float | None, osmolarity: float | None
+) -> str | None:
+    """A per-kg dose limit above the plausible ceiling for its solute (`ranges.DOSE_CEILING`), or None.
+
+    The limit is turned into mOsm/kg with the agent's composition, so a limit
+    in g/kg, mL/kg, mmol/kg or mOsm/kg is judged alike; the accepted maximum is
+    given back in the limit's own unit.
+    """
+    ceiling = DOSE_CEILING.get(solute)
+    if ceiling is None or not osmolarity:
+        return None
+    per_unit = {  # mOsm per one of the limit's unit, per kg
+        "g/kg": osmolarity / grams_per_l if grams_per_l else None,
+        "mL/kg": osmolarity / 1000.0,
+        "mmol/kg": osmolarity / sodium if sodium else None,
+        "mOsm/kg": 1.0,
+    }[limit.kind]
+    if per_unit is None or limit.value * per_unit <= ceiling.ceiling_mosm_per_kg * (1 + 1e-9):
+        return None
+    most = ceiling.ceiling_mosm_per_kg / per_unit
+    return (
+        f"{limit.text!r} is above {ceiling.multiple:g} times the largest published dose of {solute}, "
+        f"{ceiling.published} (accepted: up to {most:.3g} {limit.kind})"
+    )

@@ -19,6 +19,8 @@ from osmodose.science.chemistry import SOLUTES, SoluteName
 _FROZEN = ConfigDict(frozen=True)
 
 DoseKind = Literal["g/kg", "mL/kg", "mmol/kg", "mOsm/kg"]
+Route = Literal["central-only", "any-line"]
+DoseWeight = Literal["actual", "ideal", "adjusted"]
 
 
 class DoseLimit(BaseModel):
@@ -39,7 +41,7 @@ class Agent(BaseModel):
     id: str
     label: str
     solute: SoluteName
-    route: Literal["central", "peripheral"]
+    route: Route
     concentration_text: str | None
     solute_g_per_l: float | None
     sodium_mmol_l: float
@@ -49,6 +51,13 @@ class Agent(BaseModel):
     dose_warn: DoseLimit | None = None
     dose_refuse: DoseLimit | None = None
     max_rate_ml_h: float | None = None
+    adult_only: bool = False
+    dose_weight: DoseWeight = "actual"
+
+    @property
+    def central_only(self) -> bool:
+        """Whether the agent may run through a central line only."""
+        return self.route == "central-only"
 
     @property
     def cations_mmol_l(self) -> float:

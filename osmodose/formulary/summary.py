@@ -28,6 +28,8 @@ class AgentRow:
     presentations: str
     dose_limits: str
     max_rate: str
+    adult_only: bool = False
+    dose_weight: str = "actual"
 
 
 @dataclass(frozen=True)
@@ -47,6 +49,8 @@ def agent_rows(formulary: Formulary) -> list[AgentRow]:
         limits = [
             f"warn > {a.dose_warn.text}" if a.dose_warn else "",
             f"refuse > {a.dose_refuse.text}" if a.dose_refuse else "",
+            f"per kg of {a.dose_weight} weight" if a.dose_weight != "actual" else "",
+            "adults only" if a.adult_only else "",
         ]
         rows.append(
             AgentRow(
@@ -58,10 +62,12 @@ def agent_rows(formulary: Formulary) -> list[AgentRow]:
                 sodium_mmol_per_ml=a.sodium_mmol_l / 1000.0,
                 osmolarity_mosm_l=a.osmolarity_mosm_l,
                 solute_g_per_ml=None if a.solute_g_per_l is None else a.solute_g_per_l / 1000.0,
-                route="central line only" if a.route == "central" else "peripheral or central",
+                route="central line only" if a.central_only else "peripheral or central",
                 presentations=", ".join(f"{size:g} mL" for size in a.presentations_ml) or "none listed",
                 dose_limits="; ".join(x for x in limits if x) or "none",
                 max_rate=f"{a.max_rate_ml_h:g} mL/h" if a.max_rate_ml_h is not None else "none",
+                adult_only=a.adult_only,
+                dose_weight=a.dose_weight,
             )
         )
     return rows

@@ -8,18 +8,15 @@ at twice, such as a peripheral agent above the peripheral osmolarity limit.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 from osmodose.errors import FormularyError, FormularyWarning
-from osmodose.formulary.load import COMPOSITION_TOLERANCE, ReadResult, read_formulary
+from osmodose.formulary.file_model import OLD_ROUTE_WORDS
+from osmodose.formulary.load import COMPOSITION_TOLERANCE, LABEL_PERCENT, ReadResult, read_formulary
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, Limits
-
-#: A percentage written in a label: "Sodium chloride 23.4 % 30 mL" (or "0,9 %" with a decimal comma).
-_LABEL_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*%")
 
 
 @dataclass(frozen=True)
@@ -89,6 +86,9 @@ def formulary_warnings(result: ReadResult) -> list[FormularyWarning]:
 
     for index, agent in result.agents:
         where = f"agents[{index}]"
+        problem = old_route_word(result.data, index)
+        if problem:
+            warn(f"{where}.route", problem)
         problem = peripheral_problem(agent, result.limits)
         if problem:
             warn(f"{where}.route", problem)
@@ -98,17 +98,34 @@ def formulary_warnings(result: ReadResult) -> list[FormularyWarning]:
     return warnings
 
 
+def old_route_word(data: dict[str, Any] | None, index: int) -> str | None:
+    """A route written in the old words, which read as their new ones but could be misread.
+
+    "peripheral" meant either line and "central" a central line only; the new
+    words say so ("any-line", "central-only").
+    """
+    agents = (data or {}).get("agents")
+    if not isinstance(agents, list) or index > len(agents) or not isinstance(agents[index - 1], dict):
+        return None
+    word = agents[index - 1].get("route")
+    if word not in OLD_ROUTE_WORDS:
+        return None
+    new = OLD_ROUTE_WORDS[word]
+    meaning = "a central line only" if new == "central-only" else "a peripheral or a central line"
+    return f'{word!r} is the old word for {new!r} ({meaning}): write route = "{new}"'
+
+
 def peripheral_problem(agent: Agent, limits: Limits) -> str | None:
-    """A peripheral route for an infusate above the peripheral osmolarity limit.
+    """An any-line route for an infusate above the peripheral osmolarity limit.
 
     Not an error: 3 % saline (1027 mOsm/L) is widely given peripherally for
     short periods; the unit decides, and every peripheral order is warned.
     """
     limit = limits.peripheral_osmolarity_warn
-    if agent.route != "peripheral" or limit is None or not agent.osmolarity_mosm_l > limit:
+    if agent.route != "any-line" or limit is None or not agent.osmolarity_mosm_l > limit:
         return None
     return (
-        f"'peripheral' for an agent of {agent.osmolarity_mosm_l:.0f} mOsm/L, above peripheral_osmolarity_warn "
+        f"'any-line' for an agent of {agent.osmolarity_mosm_l:.0f} mOsm/L, above peripheral_osmolarity_warn "
         f"({limit:g} mOsm/L): every order on a peripheral line will be warned"
     )
 
@@ -121,7 +138,7 @@ def label_problem(agent: Agent) -> str | None:
     """
     if agent.solute_g_per_l is None:
         return None
-    written = [float(number.replace(",", ".")) for number in _LABEL_PERCENT.findall(agent.label)]
+    written = [float(number.replace(",", ".")) for number in LABEL_PERCENT.findall(agent.label)]
     percent = agent.solute_g_per_l / 10.0
     if not written or any(abs(value - percent) <= COMPOSITION_TOLERANCE * percent for value in written):
         return None

@@ -21,6 +21,9 @@ MOLAR_MASS_G_PER_MOL: dict[str, float] = {
     "sodium chloride": 58.44,  # NaCl
     "mannitol": 182.17,  # C6H14O6
     "glucose": 180.16,  # C6H12O6
+    # Dextrose monohydrate, C6H12O6.H2O: 12.011 x 6 + 1.008 x 14 + 15.999 x 7 = 198.17.  Some labels
+    # weigh glucose as the monohydrate (5 % = 50 g/L -> 252 mOsm/L, not the anhydrous 278).
+    "glucose monohydrate": 198.17,
     "urea": 60.06,  # CH4N2O
     "urea nitrogen": 28.01,  # N2: BUN is reported as mg of nitrogen, two N per urea
     "sodium bicarbonate": 84.01,  # NaHCO3
@@ -33,7 +36,7 @@ def molar_mass(substance: str) -> Quantity:
     return Q_(MOLAR_MASS_G_PER_MOL[substance], "g/mol")
 
 
-SoluteName = Literal["sodium chloride", "mannitol", "sodium bicarbonate", "glucose", "mixed"]
+SoluteName = Literal["sodium chloride", "mannitol", "sodium bicarbonate", "glucose", "glucose monohydrate", "mixed"]
 
 
 @dataclass(frozen=True)
@@ -63,6 +66,8 @@ SOLUTES: dict[str, Solute] = {
         # Glucose is metabolised: the infusate becomes free water, so it projects
         # like a sodium-free fluid (Adrogue-Madias treat 5 % dextrose as Na 0).
         Solute("glucose", MOLAR_MASS_G_PER_MOL["glucose"], 0.0, 0.0, 1.0, True),
+        # The same glucose weighed with its water of crystallisation: one mole gives one osmole.
+        Solute("glucose monohydrate", MOLAR_MASS_G_PER_MOL["glucose monohydrate"], 0.0, 0.0, 1.0, True),
         Solute("mixed", None, 0.0, 0.0, 0.0, True),
     )
 }

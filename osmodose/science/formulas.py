@@ -31,6 +31,11 @@ ETHANOL_FACTOR_EMPIRICAL = 1.25
 #: Total body water as a fraction of weight for the Adrogue-Madias formula
 #: (Adrogue HJ, Madias NE. N Engl J Med 2000;342:1581-9, as restated in reviews).
 TBW_FRACTION_CHILD = 0.6
+#: Infants hold more water than older children: about 75-80 % of weight at birth, falling to
+#: about 60 % by one year (Friis-Hansen B. Pediatrics 1961;28:169-81, from memory); 0.7 is
+#: the middle of the first year.  A formulary setting (`tbw_fraction_infant`) may change it.
+TBW_FRACTION_INFANT = 0.7
+INFANT_AGE_YEARS = 1.0
 TBW_FRACTION_MAN = 0.6
 TBW_FRACTION_ELDERLY_MAN = 0.5
 TBW_FRACTION_WOMAN = 0.5
@@ -64,12 +69,20 @@ def _out(values: np.ndarray) -> Figure:
 
 
 def tbw_fraction(
-    age_years: ArrayLike, male: ArrayLike, elderly_age: float = 65.0, adult_age: float = 18.0
+    age_years: ArrayLike,
+    male: ArrayLike,
+    elderly_age: float = 65.0,
+    adult_age: float = 18.0,
+    infant_age: float = INFANT_AGE_YEARS,
+    infant_fraction: float | None = None,
+    child_fraction: float | None = None,
 ) -> np.ndarray:
     """Adrogue-Madias fraction of body weight that is water.
 
     "Elderly" starts at `elderly_age` (sources say 65 or 70: a unit setting);
-    below `adult_age` the child fraction applies to both sexes.
+    below `adult_age` the child fraction applies to both sexes, and below
+    `infant_age` the infant fraction (both formulary settings; the module's
+    constants when not given).
     """
     age = _arr(age_years)
     is_male = np.asarray(male, dtype=bool)
@@ -79,7 +92,9 @@ def tbw_fraction(
         np.where(elderly, TBW_FRACTION_ELDERLY_MAN, TBW_FRACTION_MAN),
         np.where(elderly, TBW_FRACTION_ELDERLY_WOMAN, TBW_FRACTION_WOMAN),
     )
-    return np.where(age < adult_age, TBW_FRACTION_CHILD, adult)
+    child = TBW_FRACTION_CHILD if child_fraction is None else child_fraction
+    infant = TBW_FRACTION_INFANT if infant_fraction is None else infant_fraction
+    return np.where(age < infant_age, infant, np.where(age < adult_age, child, adult))
 
 
 def tbw_from_fraction(weight_kg: ArrayLike, fraction: ArrayLike) -> Figure:
@@ -186,3 +201,55 @@ def cerebral_perfusion_pressure(mean_arterial_mmhg: ArrayLike, intracranial_mmhg
     """CPP = MAP - ICP (Carney N et al. Guidelines for the Management of Severe Traumatic Brain Injury,
     4th ed. Neurosurgery 2017;80:6-15), in mmHg."""
     return _out(_arr(mean_arterial_mmhg) - _arr(intracranial_mmhg))
+
+
+#: Glucose-corrected sodium: mmol/L added per 100 mg/dL of glucose above 100 mg/dL (Katz MA.
+#: N Engl J Med 1973;289:843: 1.6; Hillier TA et al. Am J Med 1999;106:399: 2.4).
+CORRECTED_SODIUM_KATZ_PER_100_MG_DL = 1.6
+CORRECTED_SODIUM_HILLIER_PER_100_MG_DL = 2.4
+#: The glucose at or below which no correction is made (both papers correct from 100 mg/dL).
+CORRECTED_SODIUM_GLUCOSE_FROM_MG_DL = 100.0
+#: mg/dL per mmol/L of glucose: its molar mass (180.16 g/mol, IUPAC/CIAAW) / 10.
+GLUCOSE_MG_DL_PER_MMOL_L = 18.016
+
+
+def corrected_sodium(sodium_mmol_l: ArrayLike, glucose_mmol_l: ArrayLike, per_100_mg_dl: float) -> Figure:
+    """Serum sodium corrected for high glucose, mmol/L: Na + factor x (glucose - 100 mg/dL) / 100.
+
+    The factor is 1.6 (Katz 1973) or 2.4 (Hillier 1999) mmol/L per 100 mg/dL;
+    no correction at or below 100 mg/dL; NaN without a glucose.
+    """
+    glucose_mg_dl = _arr(glucose_mmol_l) * GLUCOSE_MG_DL_PER_MMOL_L
+    excess = np.maximum(glucose_mg_dl - CORRECTED_SODIUM_GLUCOSE_FROM_MG_DL, 0.0)
+    return _out(_arr(sodium_mmol_l) + per_100_mg_dl * excess / 100.0)
+
+
+def body_mass_index(weight_kg: ArrayLike, height_cm: ArrayLike) -> Figure:
+    """Weight / height squared, kg/m^2 (the WHO's body mass index); NaN without a height."""
+    metres = _arr(height_cm) / 100.0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return _out(_arr(weight_kg) / (metres * metres))
+
+
+#: Devine BJ. Drug Intell Clin Pharm 1974;8:650-5 (as restated in pharmacy references, from
+#: memory): ideal body weight 50 kg (men) or 45.5 kg (women) + 2.3 kg per inch above 5 feet.
+IDEAL_WEIGHT_MAN_KG = 50.0
+IDEAL_WEIGHT_WOMAN_KG = 45.5
+IDEAL_WEIGHT_KG_PER_INCH = 2.3
+CM_PER_INCH = 2.54
+FIVE_FEET_IN_INCHES = 60.0
+#: Adjusted body weight = ideal + 0.4 x (actual - ideal) (common practice, as in drug dosing in obesity).
+ADJUSTED_WEIGHT_FACTOR = 0.4
+
+
+def ideal_body_weight(height_cm: ArrayLike, male: ArrayLike) -> Figure:
+    """Devine ideal body weight, kg, from height and sex (an adult formula)."""
+    inches_over = _arr(height_cm) / CM_PER_INCH - FIVE_FEET_IN_INCHES
+    base = np.where(np.asarray(male, dtype=bool), IDEAL_WEIGHT_MAN_KG, IDEAL_WEIGHT_WOMAN_KG)
+    return _out(base + IDEAL_WEIGHT_KG_PER_INCH * inches_over)
+
+
+def adjusted_body_weight(weight_kg: ArrayLike, ideal_kg: ArrayLike) -> Figure:
+    """Ideal + 0.4 x (actual - ideal), kg (common practice)."""
+    ideal = _arr(ideal_kg)
+    return _out(ideal + ADJUSTED_WEIGHT_FACTOR * (_arr(weight_kg) - ideal))

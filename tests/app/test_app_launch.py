@@ -23,7 +23,7 @@ id = "nacl-3"
 label = "Sodium chloride 3 %"
 solute = "sodium chloride"
 concentration = "3% w/v"
-route = "peripheral"
+route = "any-line"
 colour = "blue"
 """
 
