@@ -49,6 +49,7 @@ from osmodose.check.run import run_check  # noqa: E402
 from osmodose.errors import InputError  # noqa: E402
 from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
 from osmodose.science import formulas  # noqa: E402
+from osmodose.science.ranges import WEIGHT_FOR_AGE  # noqa: E402
 
 HEADER = [
     "order-id",
@@ -136,7 +137,8 @@ def floor_tbw(
     elderly = age >= settings.elderly_age_years
     man = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_MAN, formulas.TBW_FRACTION_MAN)
     woman = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_WOMAN, formulas.TBW_FRACTION_WOMAN)
-    fraction = np.where(age < settings.adult_age_years, formulas.TBW_FRACTION_CHILD, np.where(male, man, woman))
+    child = np.where(age < settings.infant_age_years, settings.tbw_fraction_infant, settings.tbw_fraction_child)
+    fraction = np.where(age < settings.adult_age_years, child, np.where(male, man, woman))
     men = (
         formulas.WATSON_MAN_INTERCEPT
         - formulas.WATSON_MAN_AGE * age
@@ -161,7 +163,10 @@ def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: obj
     osm_l = table([x.osmolarity_mosm_l for x in agents])
     cations = table([x.cations_mmol_l if x.projects_sodium else np.nan for x in agents])
     mannitol = table([1.0 if x.solute == "mannitol" else 0.0 for x in agents]) == 1
-    central = table([1.0 if x.route == "central" else 0.0 for x in agents]) == 1
+    central = table([1.0 if x.central_only else 0.0 for x in agents]) == 1
+    projects = table([1.0 if x.projects_sodium else 0.0 for x in agents]) == 1
+    no_max_rate = table([1.0 if x.max_rate_ml_h is None else 0.0 for x in agents]) == 1
+    adult_only = table([1.0 if x.adult_only else 0.0 for x in agents]) == 1
     w, age, h, male, na = a["weight"], a["age"], a["height"], a["male"] == 1, a["sodium"]
     tbw = floor_tbw(w, age, h, male, a["use_watson"], settings)
     calc = 2 * na + a["glucose"] + a["urea"] + np.nan_to_num(a["ethanol"])
@@ -238,6 +243,27 @@ def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: obj
     worst = np.maximum(worst, np.where(peripheral & central, 2, 0))
     over = osm_l > v["peripheral_osmolarity_warn"] * (1 + 1e-9)
     worst = np.maximum(worst, np.where(peripheral & ~central & over, 1, 0))
+    # The patient and lab rules (osmodose.check.patient_rules).
+    worst = np.maximum(worst, np.where(w < WEIGHT_FOR_AGE.low(age) * (1 - 1e-9), 2, 0))
+    worst = np.maximum(worst, np.where(w > WEIGHT_FOR_AGE.high(age) * (1 + 1e-9), 2, 0))
+    worst = np.maximum(worst, np.where(na < v["hyponatraemia_moderate_warn"] * (1 - 1e-9), 1, 0))
+    worst = np.maximum(worst, np.where(a["potassium"] < v["hypokalaemia_severe_warn"] * (1 - 1e-9), 1, 0))
+    worst = np.maximum(worst, np.where(~mannitol & (gap > v["osmolar_gap_unexplained_warn"] * (1 + 1e-9)), 1, 0))
+    effective = 2 * na + a["glucose"]
+    not_hypotonic = effective >= v["hypotonic_effective_osmolality_below"] * (1 - 1e-9)
+    hyponatraemic = na < v["sodium_rise_applies_below"] * (1 - 1e-9)
+    worst = np.maximum(worst, np.where(has & (rise > 0) & hyponatraemic & not_hypotonic, 1, 0))
+    osmolar_rate = out["osmoles_mosm_per_kg"] / np.where(a["duration"] > 0, a["duration"], np.nan)
+    hypertonic = osm_l > v["osmolar_rate_applies_above"] * (1 + 1e-9)
+    default_rate = has & no_max_rate & hypertonic
+    worst = np.maximum(
+        worst, np.where(default_rate, sev(osmolar_rate, v["osmolar_rate_warn"], v["osmolar_rate_refuse"]), 0)
+    )
+    adult = age >= settings.adult_age_years
+    bmi = w / (h / 100) ** 2
+    obese = bmi >= v["bmi_obese_from"] * (1 - 1e-9)
+    worst = np.maximum(worst, np.where(has & projects & adult & ~a["use_watson"] & obese, 1, 0))
+    worst = np.maximum(worst, np.where(has & adult_only & ~adult, 2, 0))
     out["status"] = worst
     return out
 

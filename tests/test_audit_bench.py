@@ -36,7 +36,8 @@ def test_benchmark_runs_on_a_small_file(bench: ModuleType, capsys: pytest.Captur
         {},
         # A changed fraction or a digit-swapped Watson age coefficient (0.09156) in formulas.py
         # must reach the floor too, or the floor would drift away from the engine unseen.
-        {"TBW_FRACTION_MAN": 0.62, "TBW_FRACTION_ELDERLY_WOMAN": 0.46, "TBW_FRACTION_CHILD": 0.7},
+        # (the children's fractions are formulary settings now, read from the settings by both)
+        {"TBW_FRACTION_MAN": 0.62, "TBW_FRACTION_ELDERLY_WOMAN": 0.46},
         {"WATSON_MAN_AGE": 0.09156, "WATSON_WOMAN_WEIGHT": 0.25, "WATSON_MAN_INTERCEPT": 2.5},
     ],
 )
@@ -50,7 +51,15 @@ def test_floor_total_body_water_takes_the_constants_of_the_formulas(
     age = np.array([5.0, 30.0, 70.0, 5.0, 30.0, 70.0])
     male = np.array([True, True, True, False, False, False])
     w, h = np.array([20.0, 80.0, 70.0, 18.0, 60.0, 55.0]), np.array([110.0, 180.0, 175.0, 105.0, 165.0, 160.0])
-    fraction = formulas.tbw_fraction(age, male, settings.elderly_age_years, settings.adult_age_years)
+    fraction = formulas.tbw_fraction(
+        age,
+        male,
+        settings.elderly_age_years,
+        settings.adult_age_years,
+        settings.infant_age_years,
+        settings.tbw_fraction_infant,
+        settings.tbw_fraction_child,
+    )
     expected_fraction = formulas.tbw_from_fraction(w, fraction)
     expected_watson = formulas.tbw_watson(age, h, w, male)
     for use_watson, expected in ((False, expected_fraction), (True, expected_watson)):

@@ -235,8 +235,9 @@ def test_json_has_every_required_key(capsys: pytest.CaptureFixture[str]) -> None
         assert set(finding) >= REQUIRED_FINDING
         assert finding["severity"] in ("warn", "refuse")
     # Saline is judged by the sodium ceilings, not the mannitol osmolality hold (Hinson 2013: hold mannitol
-    # above 320): the peripheral line is the only finding.
+    # above 320): the peripheral line and the gap of 14 with no mannitol (above the normal 10, McMaster) warn.
     assert result["status"] == "warn"
+    assert [f["code"] for f in result["findings"]] == ["peripheral-osmolarity", "osmolar-gap-unexplained"]
     assert result["patient"] == {
         "weight_kg": 70.0,
         "age_years": 40.0,
@@ -244,6 +245,7 @@ def test_json_has_every_required_key(capsys: pytest.CaptureFixture[str]) -> None
         "height_cm": None,
         "total_body_water_l": 42.0,
         "tbw_method": "fraction",
+        "bmi_kg_m2": None,
     }
     assert result["dose"]["rate_ml_h"] == pytest.approx(1000.0)  # 250 mL in 15 min
     # 2 x 150 + 10 + 6 = 316 calculated; gap 330 - 316 = 14.

@@ -10,6 +10,7 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 from osmodose.case.inputs import parse_check_request
+from osmodose.check.rules import RULES_BY_CODE
 from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
@@ -234,10 +235,14 @@ def test_findings_order_and_status(
         # Every finding is past its limit (where the rule has one): nothing fires at the limit or inside it.
         # Lower limits (a projected sodium too low, a measured osmolality too far below the calculated) are
         # past it from below; the fall is judged as a positive fall against a positive limit.
+        # A flag with a limit fires at or past it ("not hypotonic" at 275 mOsm/kg or more).
         if finding.limit is None or finding.value is None:
             continue
-        if finding.code in ("projected-sodium-low", "osmolar-gap-negative"):
+        kind = RULES_BY_CODE[finding.code].kind
+        if kind == "below":
             assert finding.value < finding.limit
+        elif kind == "flag":
+            assert finding.value >= finding.limit
         elif finding.code != "sodium-fall-24h":
             assert finding.value > finding.limit
 

@@ -35,14 +35,14 @@ id = "nacl-3"
 label = "Sodium chloride 3 %"
 solute = "sodium chloride"
 concentration = "3% w/v"
-route = "peripheral"
+route = "any-line"
 
 [[agents]]
 id = "glucose-5"
 label = "Glucose 5 %"
 solute = "glucose"
 concentration = "5% w/v"
-route = "peripheral"
+route = "any-line"
 """
 
 
@@ -206,8 +206,9 @@ def test_an_osmolar_gap_at_the_limit_is_not_above_it(demo: Formulary) -> None:
 
 def test_sodium_rise_above_the_24h_warn_limit(plain: Formulary) -> None:
     # Na 110, 1 L of 3 % (513.35 mmol/L): 1 x (513.35 - 110) / (42 + 1) = +9.38 mmol/L; 8 < 9.38 <= 10.
+    # Na 110 is below 125 itself: profound hyponatraemia (Spasovski 2014), a warning of the labs.
     result = check(plain, sodium="110", agent="nacl-3", volume="1 L")
-    assert found(result) == [("sodium-rise-24h", "warn")]
+    assert found(result) == [("sodium-rise-24h", "warn"), ("hyponatraemia-profound", "warn")]
     assert only(result, "sodium-rise-24h").message == (
         "projected sodium rise from this order 9.4 mmol/L is above the warn limit of 8 mmol/L"
     )
@@ -217,7 +218,7 @@ def test_sodium_rise_above_the_24h_refuse_limit(plain: Formulary) -> None:
     # 1.5 L: 1.5 x 403.35 / 43.5 = +13.91 mmol/L > 10.
     result = check(plain, sodium="110", agent="nacl-3", volume="1500")
     assert result.projected_sodium_rise_mmol_l == pytest.approx(13.909, abs=1e-3)
-    assert found(result) == [("sodium-rise-24h", "refuse")]
+    assert found(result) == [("sodium-rise-24h", "refuse"), ("hyponatraemia-profound", "warn")]
 
 
 def test_sodium_fall_above_the_24h_warn_limit(plain: Formulary) -> None:
@@ -270,7 +271,7 @@ def test_the_rise_limits_do_not_judge_osmotherapy_from_a_normal_sodium(plain: Fo
 def test_high_risk_of_osmotic_demyelination_refuses_a_rise_above_eight(plain: Formulary) -> None:
     # Na 110 with potassium 3.0 (hypokalaemia: high risk, Verbalis 2013): 1 L of 3 % gives +9.38, above 8.
     result = check(plain, sodium="110", potassium="3.0", agent="nacl-3", volume="1 L")
-    assert found(result) == [("sodium-rise-24h", "refuse")]
+    assert found(result) == [("sodium-rise-24h", "refuse"), ("hyponatraemia-profound", "warn")]
     assert only(result, "sodium-rise-24h").limit == 8.0
 
 
@@ -349,11 +350,12 @@ def test_maximum_rate_message(demo: Formulary) -> None:
 
 
 def test_a_central_only_agent_on_a_peripheral_line_is_refused(demo: Formulary) -> None:
-    # 23.4 % NaCl: 8008 mOsm/L (234 / 58.44 x 2 x 1000), central line only (common practice).
+    # 23.4 % NaCl labelled 4 mEq/mL: 2 x 4000 = 8000 mOsm/L (the label sodium, product labels; 234 g/L
+    # alone would give 234 / 58.44 x 2 x 1000 = 8008), central line only (common practice).
     result = check(demo, sodium="140", agent="nacl-23.4", volume="30", line="peripheral")
     assert found(result) == [("central-line-only", "refuse")]
     finding = only(result, "central-line-only")
-    assert finding.message == "this agent (8008 mOsm/L) is for a central line only and is ordered peripheral"
+    assert finding.message == "this agent (8000 mOsm/L) is for a central line only and is ordered peripheral"
     assert finding.limit is None
 
 
@@ -391,6 +393,7 @@ def test_refusals_are_listed_first_and_the_status_is_the_worst(demo: Formulary) 
         ("dose-per-kg", "refuse"),
         ("sodium-rise-24h", "warn"),
         ("peripheral-osmolarity", "warn"),
+        ("hyponatraemia-profound", "warn"),  # Na 110 < 125 (Spasovski 2014)
     ]
     assert result.status == "refuse"
 
@@ -427,13 +430,16 @@ def test_rules_over_a_batch_give_each_row_the_findings_of_its_own_check(demo: Fo
 
     def column(name: str) -> object:
         values = [getattr(case, name) for case in singles]
+        if values[0] is None:
+            return None
         if isinstance(values[0], dict):
             return {key: np.concatenate([v[key] for v in values]) for key in values[0]}
         return np.concatenate(values)
 
     batch = Cases(**{name: column(name) for name in Cases.__dataclass_fields__})
     figures = compute(batch, demo.agents, demo.settings)
-    outcomes = apply_rules(batch, figures, demo.agents, demo.limits, np.array([r.line or "" for r in requests]))
+    lines = np.array([r.line or "" for r in requests])
+    outcomes = apply_rules(batch, figures, demo.agents, demo.limits, lines, demo.settings)
     severity = {WARN: "warn", REFUSE: "refuse"}
     for row, request in enumerate(requests):
         in_batch = sorted((o.code, severity[int(o.severity[row])]) for o in outcomes if o.severity[row] > 0)

@@ -31,6 +31,8 @@ def verify_args(log: Path, *order: str) -> list[str]:
                 "mannitol-20",
                 "--volume",
                 "350",
+                "--duration",
+                "20",
                 "--line",
                 "central",
                 "--stated-dose",
@@ -69,7 +71,8 @@ def test_refuse_cannot_be_accepted_from_the_command_line(tmp_path, capsys) -> No
 
 def test_text_output_names_the_saved_record(tmp_path, capsys) -> None:
     log = tmp_path / "log.jsonl"
-    assert main(verify_args(log, "--agent", "mannitol-20", "--volume", "250", "--line", "central")) == 0
+    args = verify_args(log, "--agent", "mannitol-20", "--volume", "250", "--duration", "20", "--line", "central")
+    assert main(args) == 0
     lines = capsys.readouterr().out.splitlines()
     assert lines[0] == "osmodose verification  [RELEASED] no limit crossed and nothing contradicts the order"
     assert lines[-2] == f"saved as record 1 in {log}"

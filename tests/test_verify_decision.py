@@ -15,7 +15,7 @@ REASON = "drawn from a 500 mL bag, 150 mL discarded"
 
 def test_unaccepted_warning_holds_the_order(demo) -> None:
     # 350 mL of mannitol 20 % is not a whole number of 250 or 500 mL bags: a warn.
-    record = verify(demo, agent="mannitol-20", volume="350", line="central", stated_dose="1g/kg")
+    record = verify(demo, agent="mannitol-20", volume="350", duration="20", line="central", stated_dose="1g/kg")
     assert record.decision.outcome == "held"
     assert record.decision.open_warnings == ["volume-not-a-presentation"]
     assert record.decision.accepted == []
@@ -26,6 +26,7 @@ def test_warning_accepted_with_a_reason_releases_the_order(demo) -> None:
         demo,
         agent="mannitol-20",
         volume="350",
+        duration="20",
         line="central",
         stated_dose="1g/kg",
         accept={"volume-not-a-presentation": REASON},
@@ -82,7 +83,7 @@ def test_accepted_warnings_beside_a_refusal_are_recorded_but_the_order_stays_ref
 
 def test_acceptance_naming_no_finding_is_an_input_error(demo) -> None:
     with pytest.raises(InputError) as caught:
-        verify(demo, agent="mannitol-20", volume="350", line="central", accept={"rate-to-fast": REASON})
+        verify(demo, agent="mannitol-20", volume="350", duration="20", line="central", accept={"rate-to-fast": REASON})
     assert str(caught.value) == (
         "accept: rate-to-fast is not a finding of this order (accepted: a warning code: volume-not-a-presentation)"
     )
@@ -90,7 +91,14 @@ def test_acceptance_naming_no_finding_is_an_input_error(demo) -> None:
 
 def test_acceptance_on_a_clean_order_is_an_input_error(demo) -> None:
     with pytest.raises(InputError) as caught:
-        verify(demo, agent="mannitol-20", volume="250", line="central", accept={"volume-not-a-presentation": REASON})
+        verify(
+            demo,
+            agent="mannitol-20",
+            volume="250",
+            duration="20",
+            line="central",
+            accept={"volume-not-a-presentation": REASON},
+        )
     assert str(caught.value) == (
         "accept: volume-not-a-presentation is not a finding of this order "
         "(accepted: a warning code: none: this order has no warning)"

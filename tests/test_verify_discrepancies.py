@@ -128,12 +128,16 @@ def test_central_only_agent_ordered_peripheral_is_refused(demo) -> None:
     assert central.result.projected_sodium_mmol_l == pytest.approx(143.76, abs=0.01)
 
 
-def test_central_only_agent_with_no_line_named_is_warned(demo) -> None:
+def test_central_only_agent_with_no_line_named_is_held_and_cannot_be_accepted(demo) -> None:
     record = verify(demo, agent="nacl-23.4", volume="30", duration="15")
     assert codes(record) == {"line-not-stated": "warn"}
-    assert discrepancy(record, "line-not-stated").message == (
-        "nacl-23.4 is for a central line only and the order names no line"
-    )
+    found = discrepancy(record, "line-not-stated")
+    assert found.message == "nacl-23.4 is for a central line only and the order names no line: state the line"
+    assert found.acceptable is False
+    accepted = verify(demo, agent="nacl-23.4", volume="30", duration="15", accept={"line-not-stated": "line in place"})
+    assert accepted.decision.outcome == "held"
+    [attempt] = accepted.decision.not_accepted
+    assert attempt.why == "the order must state it: leaving it out cannot be accepted"
 
 
 def test_agent_above_the_peripheral_limit_with_no_line_named_is_warned(demo) -> None:
@@ -143,6 +147,8 @@ def test_agent_above_the_peripheral_limit_with_no_line_named_is_warned(demo) -> 
     assert discrepancy(record, "line-not-stated").message == (
         "mannitol-20 (1098 mOsm/L) is above the peripheral-line limit of 900 mOsm/L and the order names no line"
     )
+    # Either line is allowed for it, and the worst a peripheral line gives is a warning: this one may be accepted.
+    assert discrepancy(record, "line-not-stated").acceptable is True
     # 0.9 % saline (308 mOsm/L) needs no line named.
     saline = verify(demo, agent="nacl-0.9", volume="1000", duration="60")
     assert codes(saline) == {}

@@ -125,7 +125,7 @@ def test_request_with_its_own_dose_is_a_programming_error(demo) -> None:
 
 
 def test_record_json_round_trips(demo) -> None:
-    record = verify(demo, agent="mannitol-20", volume="3500", stated_dose="1g/kg", line="peripheral")
+    record = verify(demo, agent="mannitol-20", volume="3500", duration="30", stated_dose="1g/kg", line="peripheral")
     text = json.dumps(record.to_json(), allow_nan=False)
     again = VerificationRecord.model_validate_json(text)
     assert again == record

@@ -125,8 +125,11 @@ class VerifyState:
 
     @property
     def acceptable(self) -> list[str]:
-        """Codes of the warnings a verifier may accept (never a code that is also refused)."""
-        return list(self.preview.decision.open_warnings) if self.preview else []
+        """Codes of the warnings a verifier may accept (never one refused, nor one the order must state)."""
+        if self.preview is None:
+            return []
+        decision = self.preview.decision
+        return [code for code in decision.open_warnings if code not in decision.must_state]
 
     @property
     def refusals(self) -> list[str]:
@@ -150,7 +153,7 @@ def evaluate(entry: Entry, formulary: Formulary, now: datetime | None = None) ->
         return VerifyState(None, None, error, error.field, error.value is None)
     acceptances = []
     for code in preview.decision.open_warnings:
-        if not entry.accepted.get(code):
+        if code in preview.decision.must_state or not entry.accepted.get(code):
             continue
         reason = entry.reasons.get(code, "")
         try:

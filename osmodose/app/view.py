@@ -15,7 +15,7 @@ from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
-from osmodose.check.report import fmt, signed, status_words
+from osmodose.check.report import corrected_sodium_text, fmt, rise_budget_text, signed, status_words
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.errors import InputError
@@ -170,6 +170,29 @@ def dose_texts(result: CheckResult) -> dict[str, str]:
         "projected-na": f"{fmt(result.projected_sodium_mmol_l, 'mmol/L')} "
         f"({signed(result.projected_sodium_rise_mmol_l)})",
     }
+
+
+#: (id, label) of the patient-level figures added for the safety checks (body size, tonicity, the rise
+#: budget), shown only where the case has them; not yet laid out on a screen.
+SAFETY_FIGURES: tuple[tuple[str, str], ...] = (
+    ("bmi", "body mass index"),
+    ("corrected-na", "Na corrected for glucose"),
+    ("rise-budget", "24 h rise"),
+)
+
+
+def safety_texts(result: CheckResult) -> dict[str, str]:
+    """Shown text of each `SAFETY_FIGURES` figure the result has (the report's own words)."""
+    texts = {}
+    if result.patient.bmi_kg_m2 is not None:
+        texts["bmi"] = fmt(result.patient.bmi_kg_m2, "kg/m^2")
+    corrected = corrected_sodium_text(result)
+    if corrected is not None:
+        texts["corrected-na"] = corrected
+    budget = rise_budget_text(result)
+    if budget is not None:
+        texts["rise-budget"] = budget
+    return texts
 
 
 def stock_rows(result: CheckResult) -> list[str]:

@@ -23,7 +23,8 @@ from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
 from osmodose.case.fields import FIELDS, LAB_FIELDS, CaseField
 from osmodose.case.inputs import DoseRequest, parse_dose
-from osmodose.check.engine import DOSE_UNITS, Cases, dose_unit_codes
+from osmodose.check.engine import DOSE_UNITS, DOSE_WEIGHTS, Cases, dose_unit_codes
+from osmodose.check.patient_figures import dose_weight_height_error, dose_weight_problems
 from osmodose.check.run import dose_misfit, height_required_error
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
@@ -54,6 +55,7 @@ class Converted:
     shown: Callable[[str, int], str]
     use_watson: np.ndarray
     line: np.ndarray
+    raised_icp: np.ndarray | None = None
 
     def good(self) -> np.ndarray:
         mask = np.ones(len(self.mode), dtype=bool)
@@ -76,6 +78,7 @@ class Converted:
             dose_per_kg=self.dose_per_kg[take],
             duration_min=c["duration"],
             use_watson=self.use_watson[take],
+            raised_icp=None if self.raised_icp is None else self.raised_icp[take],
         )
 
     def dose_text(self, row: int) -> str:
@@ -172,6 +175,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     number("age", required=True)
     male = choice("sex") == "male"
     number("height")
+    raised_icp = choice("raised-icp") == "yes"
     for field in LAB_FIELDS_TYPED:
         if field.into is not None:
             reasons.add(chunk.number(field.key).given & chunk.number(field.into).given, _both(field, chunk))
@@ -228,6 +232,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, chunk.order_text, reasons)
     height_given = given["height"]
     reasons.add(use_watson & ~height_given, lambda i: str(height_required_error()))
+    _dose_weights(formulary, agent_index, np.where(height_given, values["height"], np.nan), values["age"], reasons)
 
     columns = {**values, "male": male.astype(float)}
     for field in LAB_FIELDS_TYPED:
@@ -247,7 +252,23 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         shown=chunk.shown,
         use_watson=use_watson,
         line=line,
+        raised_icp=raised_icp,
     )
+
+
+def _dose_weights(
+    formulary: Formulary, agent_index: np.ndarray, height: np.ndarray, age: np.ndarray, reasons: _Reasons
+) -> None:
+    """Orders dosed on ideal or adjusted weight with no height: check's own error (`run.dose_weight_error`)."""
+    codes = np.asarray([*(DOSE_WEIGHTS.index(a.dose_weight) for a in formulary.agents), 0], dtype=np.int8)
+    safe = np.where(agent_index >= 0, agent_index, len(formulary.agents))
+    missing = dose_weight_problems(codes[safe], agent_index >= 0, height, age, formulary.settings.adult_age_years)
+
+    def message(i: int) -> str:
+        agent = formulary.agents[int(agent_index[i])]
+        return str(dose_weight_height_error(agent.id, agent.dose_weight))
+
+    reasons.add(missing, message)
 
 
 def _read_doses(

@@ -115,6 +115,10 @@ def _finding_texts(chunk: ChunkResult) -> dict[int, list[tuple[bool, str, str]]]
             severity[fired].tolist(),
             strict=True,
         ):
+            if outcome.extra is not None:  # words from more of the row than (value, limit): no memo
+                name = SEVERITY_NAMES[level]
+                found.setdefault(k, []).append((name == "refuse", f"{outcome.code}:{name}", outcome.message(k)))
+                continue
             item = memo.get((value, limit, level))
             if item is None:
                 name = SEVERITY_NAMES[level]

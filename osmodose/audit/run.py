@@ -122,7 +122,7 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     cases = converted.cases()
     with np.errstate(all="ignore"):
         figures = compute(cases, formulary.agents, formulary.settings)
-        outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, converted.line)
+        outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, converted.line, formulary.settings)
         unreachable, implausible = volume_problems(converted.mode, figures.volume_ml)
         weight = cases.weight_kg
         bad_tbw = good & tbw_problems(

@@ -17,6 +17,7 @@ Line = Literal["central", "peripheral"]
 TbwMethod = Literal["fraction", "watson"]
 DoseMode = Literal["dose", "volume", "target-rise"]
 EthanolFactor = Literal["molar", "empirical"]
+YesNo = Literal["yes", "no"]
 
 
 T = TypeVar("T", bound=str)
@@ -53,3 +54,4 @@ TBW_METHOD: Choice[TbwMethod] = Choice(
     "method", get_args(TbwMethod), {"fraction": "fraction of weight", "watson": "Watson"}
 )
 DOSE_MODE: Choice[DoseMode] = Choice("dose style", get_args(DoseMode), {"target-rise": "target Na change"})
+YES_NO: Choice[YesNo] = Choice("answer", get_args(YesNo))

@@ -18,14 +18,14 @@ import functools
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
+from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, YES_NO, Choice
 from osmodose.errors import InputError
 from osmodose.science.chemistry import molar_mass
 from osmodose.science.ranges import Range
 from osmodose.science.units import Q_, Quantity, as_osmolar, is_bare_number, parse_quantity, ureg
 
-Group = Literal["patient", "labs", "order", "written", "reading", "entry"]
-Kind = Literal["quantity", "choice", "text", "dose"]
+Group = Literal["patient", "condition", "labs", "order", "written", "reading", "entry"]
+Kind = Literal["quantity", "choice", "text", "dose", "flag"]
 
 
 @dataclass(frozen=True)
@@ -172,6 +172,19 @@ FIELDS: dict[str, CaseField] = {
             choice=TBW_METHOD,
             attr="tbw_method",
             empty="default",
+        ),
+        # --- the patient's condition, as the bedside knows it ------------------------------------
+        # A flag: given on the command line as `--raised-icp` alone; "yes"/"no" in a form or a
+        # column.  A course knows it from its ICP readings instead.
+        CaseField(
+            "raised-icp",
+            "condition",
+            "raised ICP",
+            "the patient has raised intracranial pressure: an order that lowers sodium (a hypotonic fluid) is warned",
+            kind="flag",
+            choice=YES_NO,
+            attr="raised_icp",
+            empty="no",
         ),
         # --- serum labs, SI units ------------------------------------------------------------
         _lab("sodium", "serum sodium", 90.0, 200.0, required=True),
@@ -341,6 +354,8 @@ def keys(*groups: Group) -> tuple[str, ...]:
 WRITTEN_ORDER_KEYS: tuple[str, ...] = tuple(
     f.key for f in FIELDS.values() if f.group in ("order", "written") and f.key not in ("dose", "target-rise")
 )
+#: What a check takes besides the order: the patient, the patient's condition and the labs.
+CASE_KEYS: tuple[str, ...] = tuple(f.key for f in FIELDS.values() if f.group in ("patient", "condition", "labs"))
 
 
 def _convert(quantity: Quantity, unit: str, substance: str | None) -> float:

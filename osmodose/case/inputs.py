@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, create_model
 
-from osmodose.case.choices import LINE, SEX, TBW_METHOD, DoseMode, Line, Sex, TbwMethod
+from osmodose.case.choices import LINE, SEX, TBW_METHOD, YES_NO, DoseMode, Line, Sex, TbwMethod
 from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read
 from osmodose.errors import InputError
 from osmodose.science.units import Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
@@ -135,6 +135,8 @@ class CheckRequest(BaseModel):
     """Total-body-water method; None takes the formulary's default."""
     entered: dict[str, str] = Field(default_factory=dict)
     """Each field as the user typed it."""
+    raised_icp: bool = False
+    """The patient has raised intracranial pressure (`--raised-icp`, or ICP readings in a course)."""
 
 
 def given_fields(fields: dict[str, object]) -> dict[str, object]:
@@ -172,7 +174,18 @@ def parse_check_request(fields: dict[str, object], dose_mode: DoseMode | None = 
         line=line,
         tbw_method=tbw_method,
         entered=entered,
+        raised_icp=read_flag("raised-icp", given),
     )
+
+
+def read_flag(key: str, given: dict[str, object]) -> bool:
+    """A flag field: True for "yes" (or True), False when "no" or not given; other words are an InputError."""
+    if key not in given:
+        return False
+    raw = given[key]
+    if isinstance(raw, bool):
+        return raw
+    return YES_NO.read(key, raw) == "yes"
 
 
 def parse_labs(fields: dict[str, object]) -> Labs:

@@ -20,6 +20,9 @@ from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.model import Agent
 from osmodose.science import formulas as f
 
+#: The weights a per-kg dose can be worked on (an agent's `dose_weight`), by code.
+DOSE_WEIGHTS: tuple[str, ...] = ("actual", "ideal", "adjusted")
+
 #: Codes of the dose units in `Cases.dose_unit`.
 DOSE_UNITS: tuple[str, ...] = ("", "g", "mL", "mmol", "mOsm", "mmol/L")
 _UNIT_G, _UNIT_ML, _UNIT_MMOL, _UNIT_MOSM, _UNIT_RISE = range(1, len(DOSE_UNITS))
@@ -50,6 +53,8 @@ class AgentColumns:
     projects_sodium: np.ndarray
     is_mannitol: np.ndarray
     central_only: np.ndarray
+    adult_only: np.ndarray
+    dose_weight_code: np.ndarray  # index into DOSE_WEIGHTS: the weight a per-kg dose uses
 
     @classmethod
     def gather(cls, agents: Sequence[Agent], index: np.ndarray) -> AgentColumns:
@@ -73,7 +78,11 @@ class AgentColumns:
             osmolarity_mosm_l=column([a.osmolarity_mosm_l for a in agents]),
             projects_sodium=flags([a.projects_sodium for a in agents]),
             is_mannitol=flags([a.solute == "mannitol" for a in agents]),
-            central_only=flags([a.route == "central" for a in agents]),
+            central_only=flags([a.central_only for a in agents]),
+            adult_only=flags([a.adult_only for a in agents]),
+            dose_weight_code=np.asarray([*(DOSE_WEIGHTS.index(a.dose_weight) for a in agents), 0], dtype=np.int8)[
+                index
+            ],
         )
 
     def column(self, pick: Callable[[Agent], float | None]) -> np.ndarray:
@@ -101,6 +110,7 @@ class Cases:
     dose_per_kg: np.ndarray
     duration_min: np.ndarray
     use_watson: np.ndarray
+    raised_icp: np.ndarray | None = None  # None: no case has raised intracranial pressure
 
     def __len__(self) -> int:
         return int(np.size(self.male))
@@ -138,23 +148,58 @@ class Figures:
     sodium_change_per_litre: np.ndarray
     projected_sodium: np.ndarray
     projected_rise: np.ndarray
+    # Added for the patient's own figures and for judging every rate.
+    corrected_sodium_katz: np.ndarray
+    corrected_sodium_hillier: np.ndarray
+    bmi: np.ndarray
+    dosing_weight_kg: np.ndarray
+    osmoles_mosm_per_kg_min: np.ndarray
 
 
 def total_body_water(cases: Cases, settings: SettingsTable) -> np.ndarray:
     """TBW in litres: Watson where asked (and height given), else the fractions."""
-    fraction = f.tbw_fraction(cases.age_years, cases.male, settings.elderly_age_years, settings.adult_age_years)
+    fraction = f.tbw_fraction(
+        cases.age_years,
+        cases.male,
+        settings.elderly_age_years,
+        settings.adult_age_years,
+        settings.infant_age_years,
+        settings.tbw_fraction_infant,
+        settings.tbw_fraction_child,
+    )
     by_fraction = f.tbw_from_fraction(cases.weight_kg, fraction)
     watson = f.tbw_watson(cases.age_years, cases.height_cm, cases.weight_kg, cases.male)
     return np.asarray(np.where(cases.use_watson, watson, by_fraction), dtype=float)
 
 
-def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray) -> np.ndarray:
+def dosing_weight(cases: Cases, agent: AgentColumns, adult_age: float) -> np.ndarray:
+    """The weight each case's per-kg dose and per-kg figures use, kg: its agent's `dose_weight`.
+
+    "actual" (the default, and always for a child or with no order) is the weight
+    given; "ideal" is the Devine ideal weight, never above the actual one;
+    "adjusted" is ideal + 0.4 x the excess, for a patient above the ideal weight
+    (common practice).  Both need a height (NaN without one: `run_check` asks
+    for it first).
+    """
+    weight = cases.weight_kg
+    ideal = np.asarray(f.ideal_body_weight(cases.height_cm, cases.male), dtype=float)
+    adjusted = np.where(weight > ideal, f.adjusted_body_weight(weight, ideal), weight)
+    adult = ~(np.asarray(cases.age_years) < adult_age)
+    code = agent.dose_weight_code
+    return np.asarray(
+        np.select([adult & (code == 1), adult & (code == 2)], [np.minimum(weight, ideal), adjusted], weight),
+        dtype=float,
+    )
+
+
+def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray, weight_kg: np.ndarray) -> np.ndarray:
     """The volume each dose request comes to; NaN where it cannot be had.
 
     A request in mmol is of sodium, so it needs a sodium-containing agent; one
     in grams needs a single solute; a target change needs the sodium projection.
+    A per-kg request is per kg of `weight_kg` (the dosing weight).
     """
-    amount = np.where(cases.dose_per_kg, cases.dose_amount * cases.weight_kg, cases.dose_amount)
+    amount = np.where(cases.dose_per_kg, cases.dose_amount * weight_kg, cases.dose_amount)
     unit = dose_unit_codes(cases.dose_unit)
     by_grams = f.volume_for_amount(amount, agent.solute_g_per_l)
     by_mmol = f.volume_for_amount(amount, np.where(agent.sodium_mmol_l > 0, agent.sodium_mmol_l, np.nan))
@@ -182,8 +227,8 @@ def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> F
     effective = np.asarray(f.effective_osmolality(cases.sodium, labs["glucose"]), dtype=float)
     gap = np.asarray(f.osmolar_gap(cases.osmolality, calculated), dtype=float)
 
-    volume_ml = dose_volume_ml(cases, agent, tbw_l)
-    weight = cases.weight_kg
+    weight = dosing_weight(cases, agent, settings.adult_age_years)
+    volume_ml = dose_volume_ml(cases, agent, tbw_l, weight)
     solute_g = np.asarray(f.amount_in_volume(volume_ml, agent.solute_g_per_l), dtype=float)
     sodium_mmol = np.asarray(f.amount_in_volume(volume_ml, agent.sodium_mmol_l), dtype=float)
     osmoles = np.asarray(f.amount_in_volume(volume_ml, agent.osmolarity_mosm_l), dtype=float)
@@ -210,4 +255,13 @@ def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> F
         sodium_change_per_litre=per_litre,
         projected_sodium=projected,
         projected_rise=projected - cases.sodium,
+        corrected_sodium_katz=np.asarray(
+            f.corrected_sodium(cases.sodium, labs["glucose"], f.CORRECTED_SODIUM_KATZ_PER_100_MG_DL), dtype=float
+        ),
+        corrected_sodium_hillier=np.asarray(
+            f.corrected_sodium(cases.sodium, labs["glucose"], f.CORRECTED_SODIUM_HILLIER_PER_100_MG_DL), dtype=float
+        ),
+        bmi=np.asarray(f.body_mass_index(cases.weight_kg, cases.height_cm), dtype=float),
+        dosing_weight_kg=weight,
+        osmoles_mosm_per_kg_min=osmoles / weight / duration,
     )

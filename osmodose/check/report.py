@@ -7,6 +7,7 @@ printout say the same thing in the same words.
 from __future__ import annotations
 
 from osmodose.check.results import CheckResult
+from osmodose.science.formulas import CORRECTED_SODIUM_GLUCOSE_FROM_MG_DL, GLUCOSE_MG_DL_PER_MMOL_L
 
 STATUS_MARK = {"ok": "[OK]", "warn": "[WARN]", "refuse": "[REFUSE]"}
 STATUS_WORDS = {
@@ -54,6 +55,7 @@ def render_text(result: CheckResult) -> str:
         f"calculated osmolality: {fmt(result.calculated_osmolality_mosm_kg, 'mOsm/kg')}"
         f"   effective: {fmt(result.effective_osmolality_mosm_kg, 'mOsm/kg')}"
         f"   osmolar gap: {fmt(result.osmolar_gap_mosm_kg, 'mOsm/kg')}",
+        *patient_lines(result),
     ]
     dose = result.dose
     if dose is not None:
@@ -83,6 +85,7 @@ def render_text(result: CheckResult) -> str:
             f"   projected {fmt(result.projected_sodium_mmol_l, 'mmol/L')}"
             f" ({signed(result.projected_sodium_rise_mmol_l, 'mmol/L')})"
         )
+        lines += order_lines(result)
     lines.append("")
     if result.findings:
         lines.append("checks:")
@@ -94,6 +97,68 @@ def render_text(result: CheckResult) -> str:
         lines += [f"  - {note}" for note in result.notes]
     lines += ["", result.caution]
     return "\n".join(lines) + "\n"
+
+
+def corrected_sodium_text(result: CheckResult) -> str | None:
+    """The glucose-corrected sodium, when glucose is above the 100 mg/dL both corrections start from."""
+    corrected, glucose = result.corrected_sodium_mmol_l, result.labs.get("glucose_mmol_l")
+    if (
+        corrected is None
+        or glucose is None
+        or glucose * GLUCOSE_MG_DL_PER_MMOL_L <= CORRECTED_SODIUM_GLUCOSE_FROM_MG_DL
+    ):
+        return None
+    return (
+        f"{corrected.katz:.1f} mmol/L (Katz, 1.6 per 100 mg/dL of glucose above 100) / "
+        f"{corrected.hillier:.1f} mmol/L (Hillier, 2.4)"
+    )
+
+
+def rise_budget_text(result: CheckResult) -> str | None:
+    """How much of the 24 h rise limits the order uses: "+6.0 of 8 mmol/L in 24 h (refused above 10); goal 4-8"."""
+    budget = result.sodium_rise_budget
+    if budget is None:
+        return None
+    used = budget.already_used_mmol_l
+    text = f"{budget.total_mmol_l:+.1f}"
+    if used is not None:
+        text += f" ({used:+.1f} measured in the 24 h before, {budget.rise_mmol_l:+.1f} this order)"
+    text += f" of {fmt_limit(budget.warn_mmol_l)} mmol/L in 24 h (refused above {fmt_limit(budget.refuse_mmol_l)})"
+    if budget.target_low_mmol_l is not None and budget.target_high_mmol_l is not None:
+        text += f"; goal {budget.target_low_mmol_l:g}-{budget.target_high_mmol_l:g} mmol/L"
+        if budget.high_risk:
+            text += " (high risk of osmotic demyelination)"
+    return text
+
+
+def fmt_limit(value: float | None) -> str:
+    return "n/a" if value is None else f"{value:g}"
+
+
+def patient_lines(result: CheckResult) -> list[str]:
+    """Body mass index and the glucose-corrected sodium, where there are such figures."""
+    lines = []
+    if result.patient.bmi_kg_m2 is not None:
+        lines.append(f"body mass index: {result.patient.bmi_kg_m2:.1f} kg/m^2")
+    corrected = corrected_sodium_text(result)
+    if corrected is not None:
+        lines.append(f"sodium corrected for glucose: {corrected}")
+    return lines
+
+
+def order_lines(result: CheckResult) -> list[str]:
+    """The order's dosing weight (when not actual), osmolar rate and share of the 24 h rise limits."""
+    dose, lines = result.dose, list[str]()
+    if dose is None:
+        return lines
+    if dose.dose_weight != "actual" and dose.dosing_weight_kg is not None:
+        lines.append(f"  per kg of {dose.dose_weight} body weight: {dose.dosing_weight_kg:.1f} kg")
+    if dose.osmolar_rate_mosm_kg_min is not None:
+        lines.append(f"  osmolar rate {dose.osmolar_rate_mosm_kg_min:.2f} mOsm/kg/min")
+    budget = rise_budget_text(result)
+    if budget is not None:
+        lines.append(f"  24 h rise: {budget}")
+    return lines
 
 
 def _method(method: str) -> str:

@@ -55,6 +55,8 @@ class PatientFigures(BaseModel):
     height_cm: float | None
     total_body_water_l: float
     tbw_method: Literal["fraction", "watson"]
+    bmi_kg_m2: float | None = None
+    """Body mass index, kg/m^2, when a height is given."""
 
 
 class PresentationFit(BaseModel):
@@ -83,6 +85,42 @@ class DoseFigures(BaseModel):
     rate_ml_h: float | None
     duration_min: float | None
     presentations: list[PresentationFit]
+    dose_weight: Literal["actual", "ideal", "adjusted"] = "actual"
+    """The weight the per-kg figures use: the agent's `dose_weight` (always actual for a child)."""
+    dosing_weight_kg: float | None = None
+    osmolar_rate_mosm_kg_min: float | None = None
+    """Osmoles per kg per minute: what the default rate limits judge (null without a duration)."""
+
+
+class CorrectedSodium(BaseModel):
+    """Serum sodium corrected for high glucose, mmol/L, by each published factor."""
+
+    model_config = _FROZEN
+
+    katz: float
+    """1.6 mmol/L per 100 mg/dL of glucose above 100 mg/dL (Katz MA. N Engl J Med 1973)."""
+    hillier: float
+    """2.4 mmol/L per 100 mg/dL of glucose above 100 mg/dL (Hillier TA et al. Am J Med 1999)."""
+
+
+class RiseBudget(BaseModel):
+    """How much of the 24 h rise limits an order uses, where they apply (a starting sodium below 135)."""
+
+    model_config = _FROZEN
+
+    rise_mmol_l: float
+    """This order's projected rise."""
+    already_used_mmol_l: float | None = None
+    """The rise already measured in the 24 h before, when a course is open (else null)."""
+    total_mmol_l: float
+    """Already used plus this order."""
+    warn_mmol_l: float | None
+    refuse_mmol_l: float | None
+    """The refuse limit in force: the high-risk one at high risk of osmotic demyelination."""
+    high_risk: bool
+    target_low_mmol_l: float | None
+    target_high_mmol_l: float | None
+    """The goal band shown (4-8 mmol/L in 24 h; 4-6 at high risk: Verbalis 2013)."""
 
 
 class CheckResult(BaseModel):
@@ -106,6 +144,10 @@ class CheckResult(BaseModel):
     projected_sodium_rise_mmol_l: float | None
     program_version: str
     caution: str = CAUTION
+    corrected_sodium_mmol_l: CorrectedSodium | None = None
+    """Sodium corrected for glucose (null without a glucose); equal to the measured at or below 100 mg/dL."""
+    sodium_rise_budget: RiseBudget | None = None
+    """The order's share of the 24 h rise limits, where they apply (null otherwise)."""
 
     def to_json(self) -> dict[str, Any]:
         """The public JSON object (plain types only)."""

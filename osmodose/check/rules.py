@@ -22,22 +22,27 @@ from typing import Literal
 
 import numpy as np
 
+from osmodose.check import patient_rules as p
 from osmodose.check.engine import AgentColumns, Cases, Figures
 from osmodose.check.judging import (
     NONE,
     REFUSE,
     SEVERITY_NAMES,
     WARN,
+    Severity,
     high_risk,
     judged_osmolality,
     rise_limits,
     threshold,
     threshold_below,
 )
+from osmodose.check.patient_rules import PatientColumns
+from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.model import Agent, DoseKind, Limits
 
 Describe = Callable[[float, float, str], str]
 LimitOf = Callable[["Batch"], "np.ndarray | float"]
+Detail = Callable[[PatientColumns, int], str]
 
 
 @dataclass(frozen=True)
@@ -50,10 +55,12 @@ class RuleOutcome:
     limit: np.ndarray
     unit: str
     describe: Describe
+    extra: Callable[[int], str] | None = None  # more words for a row, from more of the case than (value, limit)
 
     def message(self, row: int) -> str:
         sev = SEVERITY_NAMES[int(self.severity[row])]
-        return self.describe(float(self.value[row]), float(self.limit[row]), sev)
+        text = self.describe(float(self.value[row]), float(self.limit[row]), sev)
+        return text if self.extra is None else text + self.extra(row)
 
 
 def shown(value: float, limit: float) -> str:
@@ -96,9 +103,19 @@ class Batch:
     rise_refuse: np.ndarray
     central_only_peripheral: np.ndarray
     other_peripheral: np.ndarray
+    # The patient and lab rules' figures and conditions (`check.patient_rules`).
+    patient: PatientColumns
 
     @classmethod
-    def of(cls, cases: Cases, figures: Figures, agents: Sequence[Agent], limits: Limits, line: np.ndarray) -> Batch:
+    def of(
+        cls,
+        cases: Cases,
+        figures: Figures,
+        agents: Sequence[Agent],
+        limits: Limits,
+        line: np.ndarray,
+        settings: SettingsTable | None = None,
+    ) -> Batch:
         agent = AgentColumns.gather(agents, cases.agent_index)
         has_agent = agent.has_agent
         sodium = cases.sodium
@@ -109,6 +126,8 @@ class Batch:
             not_lowering = ~(rise < 0)  # NaN compares False: judged
         applies, _, refuse = rise_limits_in_force(limits, sodium, high_risk(sodium, cases.potassium))
         peripheral = np.asarray(line) == "peripheral"
+        lowering = has_agent & ~not_lowering
+        patient = PatientColumns.of(cases, figures, agent, limits, settings or SettingsTable(), lowering)
         return cls(
             limits=limits,
             agent=agent,
@@ -125,7 +144,7 @@ class Batch:
             has_agent=has_agent,
             not_lowering=not_lowering,
             order_not_lowering=has_agent & not_lowering,
-            lowering=has_agent & ~not_lowering,
+            lowering=lowering,
             mannitol=agent.is_mannitol,
             mannitol_or_no_order=agent.is_mannitol | ~has_agent,
             # The 24 h rise limits come from correcting chronic hyponatraemia: they protect a
@@ -135,13 +154,21 @@ class Batch:
             rise_refuse=refuse,
             central_only_peripheral=peripheral & agent.central_only,
             other_peripheral=peripheral & ~agent.central_only,
+            patient=patient,
         )
 
     def figure(self, name: str) -> np.ndarray:
-        """A judged figure: one the batch derives (`osmolality`, `rise`) or one of the engine's `Figures`."""
+        """A judged figure: one the batch derives (`osmolality`, `rise`), a patient column or an engine figure."""
         found = getattr(self, name, None)
+        if found is None:
+            found = getattr(self.patient, name, None)
         value = getattr(self.figures, name) if found is None else found
         return np.asarray(value, dtype=float)
+
+    def condition(self, name: str) -> np.ndarray:
+        """Where a rule applies: a condition of the batch or of the patient columns."""
+        found = getattr(self, name, None)
+        return np.asarray(getattr(self.patient, name) if found is None else found, dtype=bool)
 
 
 def rise_limits_in_force(
@@ -181,6 +208,8 @@ class Rule:
     applies: str
     kind: Kind = "above"
     describe: Describe | None = None
+    flags: Severity = "refuse"  # the severity of a `flag` rule
+    detail: Detail | None = None  # words from more of the case, after the message
 
     def named_limits(self, limits: Limits) -> tuple[float | None, float | None]:
         """(warn, refuse) of a rule whose limits are formulary names, for judging a single figure."""
@@ -211,7 +240,7 @@ class Rule:
 
     def judge(self, batch: Batch) -> RuleOutcome:
         value = batch.figure(self.figure)
-        applies = getattr(batch, self.applies)
+        applies = batch.condition(self.applies)
         warn, refuse = self.limit(self.warn, batch), self.limit(self.refuse, batch)
         if self.kind == "above":
             severity = threshold(value, warn, refuse)
@@ -220,12 +249,14 @@ class Rule:
         elif self.kind == "missing":
             severity = np.where(np.isnan(value), WARN, NONE)
         else:
-            severity = np.full(np.shape(value), REFUSE)
+            severity = np.full(np.shape(value), REFUSE if self.flags == "refuse" else WARN)
         severity = np.where(applies, severity, NONE).astype(np.int8)
         limit = np.where(severity == REFUSE, refuse, warn)
         if self.kind in ("missing", "flag") and self.warn is None:
             limit = np.full(np.shape(value), np.nan)
-        return RuleOutcome(self.code, severity, value, np.asarray(limit, dtype=float), self.unit, self.words())
+        detail = self.detail
+        extra = None if detail is None else (lambda row: detail(batch.patient, row))
+        return RuleOutcome(self.code, severity, value, np.asarray(limit, dtype=float), self.unit, self.words(), extra)
 
 
 def _negative_gap(value: float, limit: float, _severity: str) -> str:
@@ -411,6 +442,132 @@ RULES: tuple[Rule, ...] = (
         None,
         "other_peripheral",
     ),
+    # --- the patient and the labs themselves, with or without an order (`check.patient_rules`) ---
+    Rule(
+        "weight-low-for-age",
+        "weight_kg",
+        "weight",
+        "kg",
+        None,
+        lambda batch: batch.patient.lightest_for_age,
+        "always",
+        kind="below",
+        describe=p.weight_low,
+        detail=p.weight_detail,
+    ),
+    Rule(
+        "weight-high-for-age",
+        "weight_kg",
+        "weight",
+        "kg",
+        None,
+        lambda batch: batch.patient.heaviest_for_age,
+        "always",
+        describe=p.weight_high,
+        detail=p.weight_detail,
+    ),
+    Rule(
+        "hyponatraemia-profound",
+        "sodium",
+        "serum sodium",
+        "mmol/L",
+        "hyponatraemia_profound_warn",
+        None,
+        "always",
+        kind="below",
+        describe=p.profound,
+    ),
+    Rule(
+        "hyponatraemia-moderate",
+        "sodium",
+        "serum sodium",
+        "mmol/L",
+        "hyponatraemia_moderate_warn",
+        None,
+        "not_profound",
+        kind="below",
+        describe=p.moderate,
+    ),
+    Rule(
+        "hypokalaemia-severe",
+        "potassium",
+        "serum potassium",
+        "mmol/L",
+        "hypokalaemia_severe_warn",
+        None,
+        "always",
+        kind="below",
+        describe=p.hypokalaemia,
+    ),
+    Rule(
+        "osmolar-gap-unexplained",
+        "osmolar_gap",
+        "osmolar gap",
+        "mOsm/kg",
+        "osmolar_gap_unexplained_warn",
+        None,
+        "not_mannitol",
+        describe=p.gap_unexplained,
+    ),
+    # --- the order against the patient -------------------------------------------------------
+    Rule(
+        "hyponatraemia-not-hypotonic",
+        "effective_osmolality",
+        "effective osmolality",
+        "mOsm/kg",
+        "hypotonic_effective_osmolality_below",
+        None,
+        "raising_not_hypotonic",
+        kind="flag",
+        describe=p.not_hypotonic,
+        flags="warn",
+    ),
+    Rule(
+        "osmolar-rate-high",
+        "osmoles_mosm_per_kg_min",
+        "osmolar rate",
+        "mOsm/kg/min",
+        "osmolar_rate_warn",
+        "osmolar_rate_refuse",
+        "default_rate_applies",
+        describe=p.osmolar_rate,
+    ),
+    Rule(
+        "body-water-obesity",
+        "bmi",
+        "body mass index",
+        "kg/m^2",
+        "bmi_obese_from",
+        None,
+        "obese_on_fraction",
+        kind="flag",
+        describe=p.obesity,
+        flags="warn",
+        detail=p.obesity_detail,
+    ),
+    Rule(
+        "adult-only-agent",
+        "age_years",
+        "age",
+        "years",
+        None,
+        None,
+        "adult_only_for_child",
+        kind="flag",
+        describe=p.adult_only,
+    ),
+    Rule(
+        "hypotonic-raised-icp",
+        "rise",
+        "projected sodium change",
+        "mmol/L",
+        None,
+        None,
+        "lowering_with_raised_icp",
+        kind="flag",
+        describe=p.hypotonic_raised_icp,
+        flags="warn",
+    ),
 )
 
 #: Each rule by its code; "dose-per-kg" has one row per dose unit, the first here.
@@ -420,8 +577,16 @@ for _rule in RULES:
 
 
 def apply_rules(
-    cases: Cases, figures: Figures, agents: Sequence[Agent], limits: Limits, line: np.ndarray
+    cases: Cases,
+    figures: Figures,
+    agents: Sequence[Agent],
+    limits: Limits,
+    line: np.ndarray,
+    settings: SettingsTable | None = None,
 ) -> list[RuleOutcome]:
-    """Every rule of the table over every case; `line` holds "", "central" or "peripheral" per case."""
-    batch = Batch.of(cases, figures, agents, limits, line)
+    """Every rule of the table over every case; `line` holds "", "central" or "peripheral" per case.
+
+    `settings` (the formulary's) gives the adult age; without it, the default.
+    """
+    batch = Batch.of(cases, figures, agents, limits, line, settings)
     return [rule.judge(batch) for rule in RULES]

@@ -21,6 +21,15 @@ from osmodose.check.judging import (
     SEVERITY_NAMES,
     worst_status,
 )
+from osmodose.check.patient_figures import (
+    HIGH_RISK_OUTSIDE_NOTE,
+    POTASSIUM_NOTE,
+    corrected_sodium,
+    dose_weight_error,
+    rate_unchecked_note,
+    rise_budget,
+    safety_notes,
+)
 from osmodose.check.presentations import fit_presentations
 from osmodose.check.results import (
     CheckResult,
@@ -87,6 +96,7 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         dose_per_kg=np.array([bool(dose and dose.per_kg)]),
         duration_min=np.array([_nan(dose.duration_min if dose else None)]),
         use_watson=np.array([use_watson]),
+        raised_icp=np.array([request.raised_icp]),
     )
 
 
@@ -103,6 +113,9 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     method = request.tbw_method or formulary.settings.tbw_method
     if method == "watson" and request.patient.height_cm is None:
         raise height_required_error()
+    dose_weight_problem = dose_weight_error(request, agent, formulary.settings.adult_age_years)
+    if dose_weight_problem is not None:
+        raise dose_weight_problem
     cases = cases_from_request(request, agent_index, method == "watson")
     figures = compute(cases, formulary.agents, formulary.settings)
     problem = tbw_error(
@@ -115,7 +128,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         if problem is not None:
             raise problem
     line = np.array([request.line or ""])
-    outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, line)
+    outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, line, formulary.settings)
     findings = [
         Finding(
             code=o.code,
@@ -132,7 +145,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     return CheckResult(
         status=worst_status(x.severity for x in findings),
         findings=findings,
-        notes=_notes(request, agent, figures, formulary.limits),
+        notes=_notes(request, agent, figures, formulary.limits) + safety_notes(request, agent, figures, formulary),
         formulary=FormularyRef(
             name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
         ),
@@ -143,17 +156,20 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
             height_cm=request.patient.height_cm,
             total_body_water_l=float(figures.tbw_l[0]),
             tbw_method="watson" if method == "watson" else "fraction",
+            bmi_kg_m2=_opt(figures.bmi[0]),
         ),
         labs=request.labs.model_dump(),
         line=request.line,
         calculated_osmolality_mosm_kg=_opt(figures.calculated_osmolality[0]),
         effective_osmolality_mosm_kg=_opt(figures.effective_osmolality[0]),
         osmolar_gap_mosm_kg=_opt(figures.osmolar_gap[0]),
-        dose=_dose_figures(request, agent, figures),
+        dose=_dose_figures(request, agent, figures, formulary.settings.adult_age_years),
         sodium_change_per_litre_mmol_l=_opt(figures.sodium_change_per_litre[0]),
         projected_sodium_mmol_l=_opt(figures.projected_sodium[0]),
         projected_sodium_rise_mmol_l=_opt(figures.projected_rise[0]),
         program_version=__version__,
+        corrected_sodium_mmol_l=corrected_sodium(figures),
+        sodium_rise_budget=rise_budget(request, agent, figures, formulary.limits),
     )
 
 
@@ -259,7 +275,7 @@ def volume_error(dose: DoseRequest, agent: Agent, serum_sodium_mmol_l: float, vo
     return None
 
 
-def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures) -> DoseFigures | None:
+def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures, adult_age: float) -> DoseFigures | None:
     if agent is None or request.dose is None:
         return None
     volume = float(figures.volume_ml[0])
@@ -277,6 +293,9 @@ def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures) 
         rate_ml_h=_opt(figures.rate_ml_h[0]),
         duration_min=request.dose.duration_min,
         presentations=fit_presentations(volume, agent.presentations_ml),
+        dose_weight=agent.dose_weight if request.patient.age_years >= adult_age else "actual",
+        dosing_weight_kg=_opt(figures.dosing_weight_kg[0]),
+        osmolar_rate_mosm_kg_min=_opt(figures.osmoles_mosm_per_kg_min[0]),
     )
 
 
@@ -297,6 +316,8 @@ def _notes(request: CheckRequest, agent: Agent | None, figures: Figures, limits:
         notes.append(FILTER_NOTE)
     if agent.max_rate_ml_h is not None and request.dose is not None and request.dose.duration_min is None:
         notes.append(RATE_UNCHECKED_NOTE.format(rate=agent.max_rate_ml_h))
+    elif request.dose is not None and request.dose.duration_min is None:
+        notes.append(rate_unchecked_note(agent, limits))
     rise = float(figures.projected_rise[0])
     below = limits.sodium_rise_applies_below
     warn = limits.sodium_rise_24h_warn
@@ -309,5 +330,13 @@ def _notes(request: CheckRequest, agent: Agent | None, figures: Figures, limits:
         reasons.append("hypokalaemia")
     limit = limits.sodium_rise_24h_high_risk_refuse
     if reasons and limit is not None and not math.isnan(rise) and rise > 0:
-        notes.append(HIGH_RISK_NOTE.format(reason=", ".join(reasons), limit=limit))
+        if below is None or labs.sodium_mmol_l < below:
+            notes.append(HIGH_RISK_NOTE.format(reason=", ".join(reasons), limit=limit))
+        else:
+            reason = ", ".join(reasons)
+            notes.append(
+                HIGH_RISK_OUTSIDE_NOTE.format(reason=reason, limit=limit, below=below, sodium=labs.sodium_mmol_l)
+            )
+        if "hypokalaemia" in reasons:
+            notes.append(POTASSIUM_NOTE)
     return notes

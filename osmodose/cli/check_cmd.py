@@ -5,12 +5,14 @@ from __future__ import annotations
 import argparse
 import json
 
-from osmodose.case.inputs import parse_check_request
+from osmodose.case.inputs import CheckRequest, parse_check_request
 from osmodose.check.report import render_text
+from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.cli.exit_codes import BY_STATUS
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
+from osmodose.formulary.model import Formulary
 
 HELP = "compute osmolality, total body water, a dose and its sodium projection, and check the limits"
 
@@ -19,6 +21,13 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser = subparsers.add_parser("check", help=HELP, description=HELP + ".")
     add_formulary_option(parser)
     add_case_options(parser)
+    parser.add_argument(
+        "--episode",
+        metavar="FILE",
+        default=None,
+        help="a patient's episode file (osmodose course): show the 24 h rise already used, judge the order by the "
+        "course's rise limits, and take raised ICP from its readings",
+    )
     parser.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
     parser.set_defaults(handler=run)
 
@@ -26,9 +35,20 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     formulary = formulary_from_args(args)
     request = parse_check_request(case_fields(args))
-    result = run_check(request, formulary)
+    episode = args.episode
+    result = run_check(request, formulary) if episode is None else _with_episode(request, formulary, episode)
     if args.json:
         print(json.dumps(result.to_json(), indent=2))
     else:
         print(render_text(result), end="")
     return BY_STATUS[result.status]
+
+
+def _with_episode(request: CheckRequest, formulary: Formulary, path: str) -> CheckResult:
+    """The check as at now with the episode at `path` open beside it (the course modules load only here)."""
+    from datetime import datetime  # noqa: PLC0415 (kept out of start-up)
+
+    from osmodose.course.plan import check_with_course  # noqa: PLC0415 (kept out of start-up)
+    from osmodose.course.store import load_episode  # noqa: PLC0415 (kept out of start-up)
+
+    return check_with_course(request, formulary, load_episode(path), datetime.now().astimezone())

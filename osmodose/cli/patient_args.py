@@ -13,7 +13,12 @@ from collections.abc import Iterable
 from osmodose.case.fields import FIELDS, Group, keys
 
 #: The groups `check` takes, with the titles of their help sections.
-CASE_GROUPS: tuple[tuple[Group, str], ...] = (("patient", "patient"), ("labs", "labs"), ("order", "order"))
+CASE_GROUPS: tuple[tuple[Group, str], ...] = (
+    ("patient", "patient"),
+    ("condition", "patient condition"),
+    ("labs", "labs"),
+    ("order", "order"),
+)
 
 
 def add_field_options(
@@ -27,6 +32,9 @@ def add_field_options(
     for key in names:
         field = FIELDS[key]
         text = (help_for or {}).get(key, field.help)
+        if field.kind == "flag":  # given alone: `--raised-icp`
+            parser.add_argument(field.option, action="store_const", const="yes", default=None, help=text)
+            continue
         metavar = "|".join(field.choice.values) if field.choice is not None else "VALUE"
         parser.add_argument(field.option, required=key in must, help=text, metavar=metavar)
 
@@ -42,5 +50,5 @@ def add_case_options(parser: argparse.ArgumentParser, order: bool = True) -> Non
 
 def case_fields(args: argparse.Namespace, names: Iterable[str] | None = None) -> dict[str, object]:
     """The typed text of every field option given to the parser, keyed as the field table keys it."""
-    wanted = keys("patient", "labs", "order") if names is None else tuple(names)
+    wanted = keys("patient", "condition", "labs", "order") if names is None else tuple(names)
     return {key: getattr(args, key.replace("-", "_")) for key in wanted if hasattr(args, key.replace("-", "_"))}

@@ -19,6 +19,7 @@ import numpy as np
 from osmodose.check.judging import count_crossing, limit_crossed, severity_of, threshold
 from osmodose.check.rules import RULES_BY_CODE
 from osmodose.course.judging import CourseFinding, when
+from osmodose.course.multi_day import multi_day_findings
 from osmodose.course.projection import Projection
 from osmodose.course.sodium_rules import projected_findings, sodium_window_findings
 from osmodose.course.timeline import SECONDS_PER_HOUR, Timeline, mannitol_between
@@ -35,6 +36,7 @@ def course_findings(timeline: Timeline, limits: Limits, projection: Projection |
     """Every course finding, refusals first."""
     found = [
         *sodium_window_findings(timeline, limits),
+        *multi_day_findings(timeline, limits),
         *_ceilings(timeline, limits),
         *_osmolar_gap(timeline, limits),
         *_mannitol_24h(timeline, limits),

@@ -21,6 +21,7 @@ in neither figure: the plan warns to re-measure.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from datetime import datetime
@@ -28,18 +29,28 @@ from datetime import datetime
 import numpy as np
 
 from osmodose.case.fields import keys
-from osmodose.case.inputs import parse_check_request
-from osmodose.check.judging import severity_of, worst_status
-from osmodose.check.results import CheckResult
+from osmodose.case.inputs import CheckRequest, parse_check_request
+from osmodose.check.judging import high_risk, severity_of, threshold, worst_status
+from osmodose.check.patient_figures import budget_of
+from osmodose.check.results import CheckResult, Finding
 from osmodose.check.run import run_check
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
+from osmodose.course.multi_day import rise_used
 from osmodose.course.plan_osmolality import carried_osmolality, osmolality_findings
 from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
-from osmodose.course.timeline import SECONDS_PER_HOUR, WINDOW_H, Timeline, build_timeline, latest_lab_at
+from osmodose.course.timeline import (
+    LOOKBACK_H,
+    SECONDS_PER_HOUR,
+    WINDOW_H,
+    Timeline,
+    build_timeline,
+    latest_lab_at,
+    lookback,
+)
 from osmodose.errors import InputError
-from osmodose.formulary.model import Formulary
+from osmodose.formulary.model import Formulary, Limits
 
 STALE_OSMOLALITY_NOTE = (
     "The check's osmolality figures use the latest lab's glucose and urea with the projected sodium; "
@@ -80,6 +91,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
         raise InputError("plan", None, f"needs a lab drawn at or before {when(at)}", "osmodose course add-lab FILE ...")
     lab = episode.labs[projection.lab_index]
     carried = carried_osmolality(lab, projection)  # None: the measured osmolality still holds
+    raised_icp = icp_raised_within_24h(timeline, formulary.limits, at)
     p = episode.patient
     request = parse_check_request(
         {
@@ -92,9 +104,10 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
             "sodium": projection.sodium_now,
             "osmolality": lab.osmolality_mosm_kg if carried is None else None,
             **{name: fields.get(name) for name in ORDER_KEYS},
+            "raised-icp": "yes" if raised_icp else fields.get("raised-icp"),
         }
     )
-    check = run_check(request, formulary)
+    check = with_course_context(run_check(request, formulary), timeline, formulary, projection, at)
     findings: list[CourseFinding] = []
     if check.projected_sodium_mmol_l is not None:
         findings += projected_findings(
@@ -116,6 +129,89 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     if len(projection.dose_rows):
         notes.append(STALE_OSMOLALITY_NOTE)
     return Plan(at=at, tbw_l=tbw_l, lab=lab, projection=projection, check=check, findings=findings, notes=notes)
+
+
+def check_with_course(request: CheckRequest, formulary: Formulary, episode: Episode, at: datetime) -> CheckResult:
+    """`osmodose check --episode`: the typed case checked as at `at`, with the course open beside it.
+
+    The typed sodium is taken as the sodium now.  As for a plan, ICP readings
+    above the treatment threshold in the 24 h before mark raised intracranial
+    pressure, the rise budget counts the rise already measured in the 24 h
+    before, and the course's projected rise rules (24 h, 48 h, a later 24 h,
+    from the lowest sodium measured) judge the order's projected sodium.
+    """
+    timeline = build_timeline(episode, formulary)
+    if icp_raised_within_24h(timeline, formulary.limits, at):
+        request = request.model_copy(update={"raised_icp": True})
+    check = run_check(request, formulary)
+    index = latest_lab_at(timeline.labs, at.timestamp())
+    if index < 0:
+        return check
+    sodium = request.labs.sodium_mmol_l
+    now = Projection(
+        at=at,
+        lab_index=index,
+        lab_sodium=sodium,
+        dose_rows=np.zeros(0, dtype=int),
+        after_each=np.zeros(0),
+        sodium_now=sodium,
+        skipped_mannitol=0,
+    )
+    check = with_course_context(check, timeline, formulary, now, at)
+    after = check.projected_sodium_mmol_l
+    if after is None:
+        return check
+    found = projected_findings(timeline, formulary.limits, now, after, sodium, "projected sodium after this order")
+    judged = {"projected-sodium-high", *(x.code for x in check.findings)}
+    extra = [Finding(**x.model_dump(exclude={"time"})) for x in found if x.code not in judged]
+    findings = sorted([*check.findings, *extra], key=lambda item: item.severity != "refuse")
+    return check.model_copy(update={"findings": findings, "status": worst_status(x.severity for x in findings)})
+
+
+def icp_raised_within_24h(timeline: Timeline, limits: Limits, at: datetime) -> bool:
+    """Whether an ICP reading in the 24 h up to `at` is above `icp_treat_above` (22 mmHg, Carney 2017).
+
+    The check then treats the patient as having raised intracranial pressure
+    (a hypotonic fluid is warned), as `--raised-icp` does.
+    """
+    readings, t_at = timeline.readings, at.timestamp()
+    recent = (readings.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (readings.t <= t_at)
+    return bool(np.any(threshold(readings.icp[recent], limits.icp_treat_above, None)))
+
+
+def with_course_context(
+    check: CheckResult, timeline: Timeline, formulary: Formulary, projection: Projection, at: datetime
+) -> CheckResult:
+    """The check of a planned dose, seen with the course: the rise already used, and a gap mannitol explains.
+
+    The rise budget counts the rise already measured in the 24 h before (from
+    the lowest sodium in them) and takes the limits in force from the lowest
+    sodium and the risk factors of the 48 h before, as the course's own rise
+    rules do.  An osmolar gap after mannitol given in the course is judged by
+    the course's gap rules, so the check's "no mannitol ordered" warning is
+    left out.
+    """
+    labs, limits = timeline.labs, formulary.limits
+    update: dict[str, object] = {}
+    rise = check.projected_sodium_rise_mmol_l
+    if rise is not None:
+        used = rise_used(labs, at, projection.sodium_now)
+        t_at = at.timestamp()
+        back = lookback(
+            labs.t, labs.sodium, labs.potassium, np.array([t_at - LOOKBACK_H * SECONDS_PER_HOUR]), np.array([t_at])
+        )
+        lowest = min(float(back.lowest_sodium[0]), projection.sodium_now)
+        potassium = check.labs.get("potassium_mmol_l")
+        at_risk = bool(back.high_risk[0]) or bool(
+            high_risk(np.array([projection.sodium_now]), np.array([math.nan if potassium is None else potassium]))[0]
+        )
+        update["sodium_rise_budget"] = budget_of(rise, used.rise_mmol_l if used else None, lowest, at_risk, limits)
+    doses = timeline.doses
+    mannitol_before = np.any(doses.agent.is_mannitol & (doses.t < labs.t[projection.lab_index]))
+    if mannitol_before:
+        kept = [x for x in check.findings if x.code != "osmolar-gap-unexplained"]
+        update |= {"findings": kept, "status": worst_status(x.severity for x in kept)}
+    return check.model_copy(update=update)
 
 
 def _stale(timeline: Timeline, formulary: Formulary, at: datetime) -> list[CourseFinding]:

@@ -12,6 +12,8 @@ judged.  When the risk of osmotic demyelination is high (sodium 105 mmol/L or
 below, or potassium below 3.5 mmol/L, in those 48 h) the refuse limit is
 `sodium_rise_24h_high_risk_refuse` (8 mmol/L, Verbalis 2013).
 
+The 48 h limit and the limit on each later 24 h are in `course.multi_day`.
+
 Falls are judged whatever the sodium: `sodium_fall_24h_warn` / `_refuse`; and
 a projected sodium that a dose lowers is judged against `sodium_low_warn` /
 `_refuse`.
@@ -33,6 +35,7 @@ from osmodose.check.judging import (
 )
 from osmodose.check.rules import RULES_BY_CODE, rise_limits_in_force
 from osmodose.course.judging import CourseFinding, when
+from osmodose.course.multi_day import projected_multi_day_findings
 from osmodose.course.projection import Projection
 from osmodose.course.timeline import LOOKBACK_H, SECONDS_PER_HOUR, WINDOW_H, Timeline, latest_lab_at, lookback
 from osmodose.formulary.model import Limits
@@ -179,4 +182,4 @@ def projected_findings(
             + (f" ({HIGH_RISK_WORDS})" if risky else "")
         )
         add(code, severity, message, change, limit)
-    return out
+    return out + projected_multi_day_findings(labs, limits, at, sodium, what)

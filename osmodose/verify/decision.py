@@ -6,6 +6,10 @@ Rules (the same for every front end):
   initials; every warn must be accepted before the order is released;
 * a refuse can never be accepted: an attempt is recorded as not accepted,
   and the order stays refused;
+* a warning that the order leaves out what a high-alert agent needs (the
+  line of a central-only agent, the duration or rate of an agent whose rate
+  is judged) can never be accepted either: the order stays held until it
+  states it, so leaving a field out never turns a refusal into a release;
 * an acceptance that names no finding of this order is an input error (a
   typo must not look like a sign-off).
 
@@ -35,6 +39,7 @@ _INITIALS = re.compile(r"^[^\W\d_](?:[^\W\d_]|-){0,4}[^\W\d_]$")
 INITIALS_ACCEPTED = "2 to 6 letters, e.g. AB"
 ACCEPT_FORM = "CODE=REASON, e.g. volume-not-a-presentation=drawn from a 500 mL bag"
 NOT_ACCEPTABLE = "a refuse cannot be accepted: the order must be changed"
+MUST_BE_STATED = "the order must state it: leaving it out cannot be accepted"
 
 
 class Judged(Protocol):
@@ -93,6 +98,8 @@ class Decision(BaseModel):
     """Codes of warnings not accepted (the order is held while any remain)."""
     refusals: list[str]
     """Codes of refusals (the order is refused while any remain)."""
+    must_state: list[str] = []
+    """Codes of open warnings no reason can accept: the order must state what it leaves out."""
 
 
 def parse_initials(raw: object) -> str:
@@ -137,6 +144,7 @@ def decide(items: Sequence[Judged], acceptances: Sequence[Acceptance], initials:
         by_code.setdefault(item.code, []).append(item)
     refused_codes = [code for code, group in by_code.items() if any(i.severity == "refuse" for i in group)]
     warn_codes = [code for code in by_code if code not in refused_codes]
+    unstated = {code for code, group in by_code.items() if any(not getattr(i, "acceptable", True) for i in group)}
     seen: set[str] = set()
     accepted: list[AcceptedWarning] = []
     not_accepted: list[RefusedAcceptance] = []
@@ -146,10 +154,14 @@ def decide(items: Sequence[Judged], acceptances: Sequence[Acceptance], initials:
             raise InputError("accept", code, "is accepted twice", "one --accept per code")
         seen.add(code)
         if code not in by_code:
-            known = ", ".join(warn_codes) if warn_codes else "none: this order has no warning"
+            acceptable = [c for c in warn_codes if c not in unstated]
+            known = ", ".join(acceptable) if acceptable else "none: this order has no warning"
             raise InputError("accept", code, "is not a finding of this order", f"a warning code: {known}")
         if code in refused_codes:
             not_accepted.append(RefusedAcceptance(code=code, reason=acceptance.reason, why=NOT_ACCEPTABLE))
+            continue
+        if code in unstated:
+            not_accepted.append(RefusedAcceptance(code=code, reason=acceptance.reason, why=MUST_BE_STATED))
             continue
         accepted.append(
             AcceptedWarning(
@@ -177,4 +189,5 @@ def decide(items: Sequence[Judged], acceptances: Sequence[Acceptance], initials:
         not_accepted=not_accepted,
         open_warnings=open_warnings,
         refusals=refused_codes,
+        must_state=[code for code in open_warnings if code in unstated],
     )

@@ -14,10 +14,13 @@ volume (`run_check`) is the truth the order will deliver.  Severities:
   chosen so that every 10-fold error is refused).
 * A volume that is no whole number of the unit's bags or vials is a **warn**:
   a part bag is often meant (350 mL drawn from 500 mL), but it is worth a look.
-* An order naming no line for a central-only agent or for one above the
-  peripheral osmolarity limit, or giving neither duration nor rate for an
-  agent with a maximum rate, is a **warn**: the check cannot judge what the
-  order does not say.
+* An order naming no line for a central-only agent, or giving neither
+  duration nor rate for an agent whose rate is judged (a maximum rate, or the
+  default osmolar rate limits of a hypertonic agent), is a **warn that cannot
+  be accepted**: the order is held until it says (high-alert agents; leaving a
+  field out must never turn a refusal into a release).  No line for an agent
+  above the peripheral osmolarity limit is a warn that may be accepted: the
+  worst the line could give is that warning itself.
 
 A rate above the agent's maximum and a central-only agent ordered peripheral
 are the check's own refusals (`rate-too-fast`, `central-line-only`) and are
@@ -28,6 +31,7 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.check.patient_rules import rate_judged_by_default
 from osmodose.check.presentations import matches_presentation
 from osmodose.check.results import CheckResult, DoseFigures, Severity
 from osmodose.errors import InputError
@@ -69,6 +73,8 @@ class Discrepancy(BaseModel):
     stated: float | None
     recomputed: float | None
     unit: str
+    acceptable: bool = True
+    """False: a warning no reason can accept (the order must state what it leaves out)."""
 
 
 def _judge_ratio(stated: float, recomputed: float, tolerance_percent: float) -> Severity | None:
@@ -97,7 +103,7 @@ def find_discrepancies(order: Order, result: CheckResult, agent: Agent, limits: 
         _stated_sodium(order, result, agent, limits),
         _presentation(order, agent),
         _line(order, agent, limits),
-        _duration(order, agent),
+        _duration(order, agent, limits),
     ]
     items = [d for d in found if d is not None]
     return sorted(items, key=lambda d: d.severity != "refuse")
@@ -239,8 +245,17 @@ def _line(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
     """The line decides two of the check's rules; an order that names none cannot be judged on them."""
     if order.line is not None:
         return None
-    if agent.route == "central":
-        message = f"{agent.id} is for a central line only and the order names no line"
+    if agent.central_only:
+        message = f"{agent.id} is for a central line only and the order names no line: state the line"
+        return Discrepancy(
+            code=LINE_NOT_STATED,
+            severity="warn",
+            message=message,
+            stated=None,
+            recomputed=None,
+            unit="",
+            acceptable=False,
+        )
     else:
         peripheral_limit = limits.peripheral_osmolarity_warn
         if peripheral_limit is None or agent.osmolarity_mosm_l <= peripheral_limit:
@@ -252,17 +267,36 @@ def _line(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
     return Discrepancy(code=LINE_NOT_STATED, severity="warn", message=message, stated=None, recomputed=None, unit="")
 
 
-def _duration(order: Order, agent: Agent) -> Discrepancy | None:
-    if agent.max_rate_ml_h is None or order.duration_for_check is not None:
+def _duration(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
+    """No duration or rate for an agent whose rate is judged: held until the order states one."""
+    if order.duration_for_check is not None:
+        return None
+    if agent.max_rate_ml_h is not None:
+        message = (
+            f"{agent.id} has a maximum rate of {agent.max_rate_ml_h:g} mL/h and the order gives neither duration "
+            "nor rate: state one"
+        )
+        return Discrepancy(
+            code=DURATION_NOT_STATED,
+            severity="warn",
+            message=message,
+            stated=None,
+            recomputed=agent.max_rate_ml_h,
+            unit="mL/h",
+            acceptable=False,
+        )
+    if not rate_judged_by_default(agent, limits):
         return None
     message = (
-        f"{agent.id} has a maximum rate of {agent.max_rate_ml_h:g} mL/h and the order gives neither duration nor rate"
+        f"{agent.id} ({agent.osmolarity_mosm_l:.0f} mOsm/L) is judged by the default osmolar rate limits and the "
+        "order gives neither duration nor rate: state one"
     )
     return Discrepancy(
         code=DURATION_NOT_STATED,
         severity="warn",
         message=message,
         stated=None,
-        recomputed=agent.max_rate_ml_h,
+        recomputed=None,
         unit="mL/h",
+        acceptable=False,
     )

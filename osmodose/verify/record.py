@@ -185,7 +185,10 @@ def render_record(record: VerificationRecord) -> str:
         lines.append(f"  accepted by {accepted.initials}: {accepted.code}: {accepted.reason}")
     for refused in decision.not_accepted:
         lines.append(f"  not accepted: {refused.code}: {refused.reason} ({refused.why})")
-    if decision.open_warnings:
-        lines.append("  open warnings (need a reason and initials): " + ", ".join(decision.open_warnings))
+    acceptable = [code for code in decision.open_warnings if code not in decision.must_state]
+    if acceptable:
+        lines.append("  open warnings (need a reason and initials): " + ", ".join(acceptable))
+    if decision.must_state:
+        lines.append("  held until the order states it (cannot be accepted): " + ", ".join(decision.must_state))
     lines += ["", record.caution]
     return "\n".join(lines) + "\n"

@@ -1,0 +1,147 @@
+"""Sodium rises over 48 h and over each 24 h after the first, and the 24 h rise already used.
+
+Beside the 24 h windows (`course.sodium_rules`), two more limits judge a
+correction of hyponatraemia across days, where the rise limits apply (the
+lowest sodium of the 48 h up to the window's end below
+`sodium_rise_applies_below`):
+
+* the rise within any 48 h, refused above `sodium_rise_48h_refuse` (18 mmol/L:
+  Verbalis JG et al. Am J Med 2013);
+* the rise within a 24 h window that starts a day or more after the correction
+  began, refused above `sodium_rise_later_24h_refuse` (8 mmol/L: "at most 8 in
+  each later 24 h", Spasovski G et al. Eur J Endocrinol 2014, from memory of the
+  numbers).  The correction begins at the lowest sodium measured in the 48 h up
+  to the window's end; a window is a later one when its own lowest sample was
+  drawn 24 h or more after that.
+
+Both are judged through `check.judging.threshold`, like every limit.
+`rise_used` gives what a check or a plan shows as the rise already used: the
+sodium now less the lowest measured in the 24 h before.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime
+
+import numpy as np
+
+from osmodose.check.judging import SEVERITY_NAMES, severity_of, threshold, worst_index
+from osmodose.check.rules import rise_limits_in_force
+from osmodose.course.judging import CourseFinding, when
+from osmodose.course.timeline import LOOKBACK_H, SECONDS_PER_HOUR, WINDOW_H, LabColumns, Timeline, window_change
+from osmodose.formulary.model import Limits
+
+#: A 24 h window whose lowest sample is this long after the lowest of the correction is a later day's.
+LATER_DAY_H = 24.0
+
+
+def _nadir_times(t: np.ndarray, sodium: np.ndarray, t_to: np.ndarray) -> np.ndarray:
+    """Per end time: when the lowest sodium of the 48 h up to it was drawn (the correction's start)."""
+    inside = (t[None, :] >= (t_to - LOOKBACK_H * SECONDS_PER_HOUR)[:, None]) & (t[None, :] <= t_to[:, None])
+    lowest = np.argmin(np.where(inside, sodium[None, :], np.inf), axis=1)
+    return t[lowest] if len(t) else np.zeros(0)
+
+
+def multi_day_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
+    """The worst measured rise over 48 h, and in a later 24 h, past its limit (where the rise limits apply)."""
+    labs = timeline.labs
+    if len(labs.t) < 2:
+        return []
+    back = labs.sodium_lookback
+    applies, _, _ = rise_limits_in_force(limits, back.lowest_sodium, back.high_risk)
+    window = labs.sodium_window
+    two_days = window_change(labs.t, labs.sodium, LOOKBACK_H)
+    later = labs.t[window.low_index] >= _nadir_times(labs.t, labs.sodium, labs.t) + LATER_DAY_H * SECONDS_PER_HOUR
+    out = []
+    for code, change, start, judged, limit, within in (
+        ("sodium-rise-48h", two_days.rise, two_days.low_index, applies, limits.sodium_rise_48h_refuse, "48 h"),
+        (
+            "sodium-rise-later-24h",
+            window.rise,
+            window.low_index,
+            applies & later,
+            limits.sodium_rise_later_24h_refuse,
+            "24 h, a day or more after the lowest sodium",
+        ),
+    ):
+        severity = np.where(judged, threshold(change, None, limit), 0)
+        if not np.any(severity):
+            continue
+        j = worst_index(severity, change)
+        i = int(start[j])
+        value = float(change[j])
+        message = (
+            f"measured sodium rose {value:.1f} mmol/L within {within} (from {labs.sodium[i]:.1f} at "
+            f"{when(labs.times[i])} to {labs.sodium[j]:.1f} at {when(labs.times[j])}), above the refuse limit "
+            f"of {limit:g} mmol/L"
+        )
+        out.append(
+            CourseFinding(
+                code=code,
+                severity=SEVERITY_NAMES[int(severity[j])],
+                message=message,
+                value=value,
+                limit=limit,
+                unit="mmol/L",
+                time=labs.times[j],
+            )
+        )
+    return out
+
+
+def projected_multi_day_findings(
+    labs: LabColumns, limits: Limits, at: datetime, sodium: float, what: str
+) -> list[CourseFinding]:
+    """A projected sodium at `at` against the 48 h and later-day limits, from the labs measured before it."""
+    t_at = at.timestamp()
+    in_48 = np.flatnonzero((labs.t >= t_at - LOOKBACK_H * SECONDS_PER_HOUR) & (labs.t <= t_at))
+    if not len(in_48) or np.isnan(sodium):
+        return []
+    lowest = float(np.min(labs.sodium[in_48]))
+    applies, _, _ = rise_limits_in_force(limits, np.array([lowest]), np.array([False]))
+    if not applies[0]:
+        return []
+    nadir = int(in_48[np.argmin(labs.sodium[in_48])])
+    in_24 = in_48[labs.t[in_48] >= t_at - WINDOW_H * SECONDS_PER_HOUR]
+    low_24 = int(in_24[np.argmin(labs.sodium[in_24])]) if len(in_24) else None
+    checks = [("projected-rise-48h", nadir, limits.sodium_rise_48h_refuse, "48 h")]
+    if low_24 is not None and labs.t[low_24] >= labs.t[nadir] + LATER_DAY_H * SECONDS_PER_HOUR:
+        later = "24 h, a day or more after the lowest sodium"
+        checks.append(("projected-rise-later-24h", low_24, limits.sodium_rise_later_24h_refuse, later))
+    out = []
+    for code, start, limit, span in checks:
+        change = sodium - float(labs.sodium[start])
+        severity = severity_of(change, None, limit)
+        if severity is None or limit is None:
+            continue
+        message = (
+            f"{what} {sodium:.1f} mmol/L is {change:.1f} above the {labs.sodium[start]:.1f} measured at "
+            f"{when(labs.times[start])}, above the {severity} limit of {limit:g} mmol/L in {span}"
+        )
+        out.append(
+            CourseFinding(
+                code=code, severity=severity, message=message, value=change, limit=limit, unit="mmol/L", time=at
+            )
+        )
+    return out
+
+
+@dataclass(frozen=True)
+class RiseUsed:
+    """The rise already used in the 24 h before a time: from the lowest sodium measured in it."""
+
+    rise_mmol_l: float
+    from_sodium_mmol_l: float
+    from_time: datetime
+
+
+def rise_used(labs: LabColumns, at: datetime, sodium_now: float) -> RiseUsed | None:
+    """`sodium_now` less the lowest sodium measured in the 24 h up to `at`; None when no lab is that recent."""
+    t_at = at.timestamp()
+    inside = np.flatnonzero((labs.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (labs.t <= t_at))
+    if not len(inside) or np.isnan(sodium_now):
+        return None
+    low = int(inside[np.argmin(labs.sodium[inside])])
+    used = max(0.0, sodium_now - float(labs.sodium[low]))
+    return RiseUsed(rise_mmol_l=used, from_sodium_mmol_l=float(labs.sodium[low]), from_time=labs.times[low])
