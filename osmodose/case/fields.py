@@ -22,7 +22,7 @@ from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.errors import InputError
 from osmodose.science.chemistry import molar_mass
 from osmodose.science.ranges import Range
-from osmodose.science.units import Q_, Quantity, as_osmolar, is_bare_number, parse_quantity, ureg
+from osmodose.science.units import Quantity, as_osmolar, is_bare_number, one, parse_quantity, ureg
 
 Group = Literal["patient", "labs", "order", "written", "reading", "entry"]
 Kind = Literal["quantity", "choice", "text", "dose"]
@@ -361,7 +361,7 @@ def conversion(key: str, unit: str, target: str) -> float:
     A check's typed value and an audit's whole column are converted by the same
     factor, so both give the same float for the same text.
     """
-    return _convert(Q_(1.0, unit), target, FIELDS[key].substance)
+    return _convert(one(unit), target, FIELDS[key].substance)
 
 
 def read(key: str, raw: object, shown: object | None = None) -> float:
