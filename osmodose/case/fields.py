@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from typing import Any, Literal
 
 from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
+from osmodose.case.loinc import Loinc, memory, profile, value_set
 from osmodose.errors import InputError
 from osmodose.science.chemistry import molar_mass
 from osmodose.science.ranges import Range
@@ -39,6 +40,8 @@ class CaseField:
     whose value this one gives in another form (BUN gives urea).  `attr` is the
     attribute and JSON key the value is kept under (`sodium_mmol_l`).  `empty`
     says what leaving the field empty means, where that is not simply "not given".
+    `loinc` lists the LOINC codes a hospital's records give the value under
+    (`case.loinc`): the FHIR reader maps Observations to fields by them alone.
     """
 
     key: str
@@ -57,6 +60,7 @@ class CaseField:
     into: str | None = None
     attr: str = ""
     empty: str = ""
+    loinc: tuple[Loinc, ...] = ()
 
     @property
     def option(self) -> str:
@@ -98,6 +102,7 @@ def _lab(
     required: bool = False,
     hint: str = "",
     attr: str = "",
+    loinc: tuple[Loinc, ...] = (),
 ) -> CaseField:
     """A serum lab: mmol/L unless said, mg/dL accepted where it has a molar mass, kept as `<key>_mmol_l`."""
     return CaseField(
@@ -112,6 +117,7 @@ def _lab(
         plausible=Range(low, high, unit),
         required=required,
         attr=attr or f"{key}_{unit.replace('/', '_').lower()}",
+        loinc=loinc,
     )
 
 
@@ -129,6 +135,7 @@ FIELDS: dict[str, CaseField] = {
             plausible=Range(0.3, 400.0, "kg"),
             required=True,
             attr="weight_kg",
+            loinc=(value_set("29463-7", "Body weight"),),
         ),
         CaseField(
             "age",
@@ -161,6 +168,7 @@ FIELDS: dict[str, CaseField] = {
             unit="cm",
             plausible=Range(25.0, 250.0, "cm"),
             attr="height_cm",
+            loinc=(value_set("8302-2", "Body height"),),
         ),
         CaseField(
             "tbw-method",
@@ -174,10 +182,46 @@ FIELDS: dict[str, CaseField] = {
             empty="default",
         ),
         # --- serum labs, SI units ------------------------------------------------------------
-        _lab("sodium", "serum sodium", 90.0, 200.0, required=True),
-        _lab("potassium", "serum potassium", 1.0, 10.0),
-        _lab("glucose", "serum glucose", 0.5, 100.0, mass=True, substance="glucose"),
-        _lab("urea", "serum urea", 0.5, 100.0, mass=True, substance="urea", hint="mmol/L"),
+        _lab(
+            "sodium",
+            "serum sodium",
+            90.0,
+            200.0,
+            required=True,
+            loinc=(value_set("2951-2", "Sodium [Moles/volume] in Serum or Plasma"),),
+        ),
+        _lab(
+            "potassium",
+            "serum potassium",
+            1.0,
+            10.0,
+            loinc=(value_set("2823-3", "Potassium [Moles/volume] in Serum or Plasma"),),
+        ),
+        _lab(
+            "glucose",
+            "serum glucose",
+            0.5,
+            100.0,
+            mass=True,
+            substance="glucose",
+            loinc=(
+                value_set("2345-7", "Glucose [Mass/volume] in Serum or Plasma"),
+                value_set("14749-6", "Glucose [Moles/volume] in Serum or Plasma"),
+            ),
+        ),
+        _lab(
+            "urea",
+            "serum urea",
+            0.5,
+            100.0,
+            mass=True,
+            substance="urea",
+            hint="mmol/L",
+            loinc=(
+                value_set("22664-7", "Urea [Moles/volume] in Serum or Plasma"),
+                value_set("3091-6", "Urea [Mass/volume] in Serum or Plasma"),
+            ),
+        ),
         # BUN is urea as mg/dL of nitrogen (two N per urea, N2 28.01 g/mol): the urea range, 0.5
         # and 100 mmol/L, is 1.4 and 280.1 mg/dL.  Read into urea; judged in the unit it is typed in.
         CaseField(
@@ -192,10 +236,19 @@ FIELDS: dict[str, CaseField] = {
             substance="urea nitrogen",
             plausible=Range(1.4, 280.1, "mg/dL"),
             into="urea",
+            loinc=(value_set("3094-0", "Urea nitrogen [Mass/volume] in Serum or Plasma"),),
         ),
         # Not in the reference: an ethanol level above 200 mmol/L (about 920 mg/dL) is beyond
         # any survived level; chosen to catch typing errors (common practice).
-        _lab("ethanol", "serum ethanol", 0.0, 200.0, mass=True, substance="ethanol"),
+        _lab(
+            "ethanol",
+            "serum ethanol",
+            0.0,
+            200.0,
+            mass=True,
+            substance="ethanol",
+            loinc=(memory("5643-2", "Ethanol [Mass/volume] in Serum or Plasma"),),
+        ),
         CaseField(
             "osmolality",
             "labs",
@@ -206,6 +259,7 @@ FIELDS: dict[str, CaseField] = {
             accepted=("mOsm/kg", "mmol/kg"),
             plausible=Range(200.0, 450.0, "mOsm/kg"),
             attr="osmolality_mosm_kg",
+            loinc=(value_set("2692-2", "Osmolality of Serum or Plasma"),),
         ),
         # --- the order -------------------------------------------------------------------------
         CaseField("agent", "order", "agent", "agent id from the formulary", kind="text", empty="no order"),
@@ -298,6 +352,7 @@ FIELDS: dict[str, CaseField] = {
             plausible=Range(10.0, 250.0, "mmHg"),
             required=True,
             attr="map_mmhg",
+            loinc=(profile("8478-0", "Mean blood pressure"),),
         ),
         CaseField(
             "icp",
@@ -309,6 +364,7 @@ FIELDS: dict[str, CaseField] = {
             plausible=Range(-10.0, 150.0, "mmHg"),
             required=True,
             attr="icp_mmhg",
+            loinc=(profile("60956-0", "Intracranial pressure (ICP)"),),
         ),
         # --- what every course entry carries ---------------------------------------------------
         CaseField(
@@ -323,6 +379,9 @@ FIELDS: dict[str, CaseField] = {
         CaseField("label", "entry", "label", "free text to tell episodes apart (bed, initials)", kind="text"),
     )
 }
+
+#: Each LOINC code of the table, with the field it gives: the FHIR reader's one map.
+LOINC_FIELDS: dict[str, tuple[CaseField, Loinc]] = {code.code: (f, code) for f in FIELDS.values() for code in f.loinc}
 
 #: The serum labs kept on a request and an episode's lab entry, in the order they are shown.
 LAB_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group == "labs" and f.into is None)
