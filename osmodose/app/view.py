@@ -11,7 +11,6 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from typing import Any, Literal, cast
 
-from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
@@ -20,6 +19,7 @@ from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 
 Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
 

@@ -18,9 +18,9 @@ import functools
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.errors import InputError
 from osmodose.science.chemistry import molar_mass
+from osmodose.science.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.science.ranges import Range
 from osmodose.science.units import Q_, Quantity, as_osmolar, is_bare_number, parse_quantity, ureg
 
@@ -276,11 +276,3 @@ def _finite(number: float) -> bool:
     except OverflowError:  # an int too large for a float
         return False
     return value - value == 0.0
-
-
-def read_choice(key: str, raw: object) -> str:
-    """A choice field's value, by its choice's one parser and message (`SEX.read` and the like are typed)."""
-    choice = FIELDS[key].choice
-    if choice is None:
-        raise ValueError(f"{key} is not a choice")
-    return str(choice.read(key, raw))
