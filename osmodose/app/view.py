@@ -12,7 +12,6 @@ from dataclasses import dataclass, replace
 from datetime import datetime
 from typing import TYPE_CHECKING, Any, Literal, cast
 
-from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
@@ -21,6 +20,7 @@ from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.errors import InputError, LabsFileError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 
 if TYPE_CHECKING:
     from osmodose.datain import FhirFile

@@ -14,13 +14,13 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from osmodose.case.choices import SEX, TBW_METHOD
 from osmodose.case.fields import LAB_FIELDS, LAB_KEYS, keys, read
 from osmodose.case.inputs import given_fields, need, parse_labs
 from osmodose.case.times import parse_time
 from osmodose.course.episode import DoseEntry, EpisodePatient, LabEntry, ReadingEntry
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import SEX, TBW_METHOD
 
 
 def parse_patient(fields: Mapping[str, object]) -> EpisodePatient:

@@ -24,12 +24,12 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from datetime import UTC, date, datetime
 
-from osmodose.case.choices import SEX
 from osmodose.case.fields import FIELDS, read
 from osmodose.case.inputs import given_fields
 from osmodose.case.provenance import DataIn, FieldOrigin
 from osmodose.datain.fhir import FhirFile, Measured, PatientFacts
 from osmodose.errors import InputError, LabsFileError, resource_label
+from osmodose.science.choices import SEX
 
 #: A sample may carry a time up to this many hours after the clock of the check (clocks differ a little).
 CLOCK_TOLERANCE_H = 5 / 60
