@@ -111,6 +111,8 @@ class Cases:
     duration_min: np.ndarray
     use_watson: np.ndarray
     raised_icp: np.ndarray | None = None  # None: no case has raised intracranial pressure
+    #: Hours from the sodium's draw to the check, where a labs file gave the time; None or NaN: not known.
+    sodium_age_h: np.ndarray | None = None
 
     def __len__(self) -> int:
         return int(np.size(self.male))

@@ -11,6 +11,9 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.case.provenance import DataIn
+from osmodose.formulary.model import Formulary
+
 _FROZEN = ConfigDict(frozen=True)
 
 Severity = Literal["warn", "refuse"]
@@ -44,6 +47,14 @@ class FormularyRef(BaseModel):
     version: str
     sha256: str
     path: str
+
+    @classmethod
+    def of(cls, formulary: Formulary) -> FormularyRef:
+        return cls(name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path)
+
+    def line(self) -> str:
+        """The line every report heads with: which file, which version, which bytes."""
+        return f"formulary: {self.name} v{self.version} sha256 {self.sha256}"
 
 
 class PatientFigures(BaseModel):
@@ -148,6 +159,8 @@ class CheckResult(BaseModel):
     """Sodium corrected for glucose (null without a glucose); equal to the measured at or below 100 mg/dL."""
     sodium_rise_budget: RiseBudget | None = None
     """The order's share of the 24 h rise limits, where they apply (null otherwise)."""
+    labs_file: DataIn | None = None
+    """The labs file the case was read from: each value's resource, effective time and age; null when typed."""
 
     def to_json(self) -> dict[str, Any]:
         """The public JSON object (plain types only)."""

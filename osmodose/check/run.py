@@ -97,6 +97,7 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         duration_min=np.array([_nan(dose.duration_min if dose else None)]),
         use_watson=np.array([use_watson]),
         raised_icp=np.array([request.raised_icp]),
+        sodium_age_h=col(request.data_in.age_h("sodium") if request.data_in is not None else None),
     )
 
 
@@ -146,9 +147,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         status=worst_status(x.severity for x in findings),
         findings=findings,
         notes=_notes(request, agent, figures, formulary.limits) + safety_notes(request, agent, figures, formulary),
-        formulary=FormularyRef(
-            name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
-        ),
+        formulary=FormularyRef.of(formulary),
         patient=PatientFigures(
             weight_kg=request.patient.weight_kg,
             age_years=request.patient.age_years,
@@ -170,6 +169,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         program_version=__version__,
         corrected_sodium_mmol_l=corrected_sodium(figures),
         sodium_rise_budget=rise_budget(request, agent, figures, formulary.limits),
+        labs_file=request.data_in,
     )
 
 

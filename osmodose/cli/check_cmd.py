@@ -5,12 +5,14 @@ from __future__ import annotations
 import argparse
 import json
 
+from osmodose.case.fields import keys
 from osmodose.case.inputs import CheckRequest, parse_check_request
 from osmodose.check.report import render_text
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.cli.exit_codes import BY_STATUS
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.cli.labs_args import with_labs
 from osmodose.cli.patient_args import add_case_options, case_fields
 from osmodose.formulary.model import Formulary
 
@@ -20,7 +22,7 @@ HELP = "compute osmolality, total body water, a dose and its sodium projection, 
 def register(subparsers: argparse._SubParsersAction) -> None:
     parser = subparsers.add_parser("check", help=HELP, description=HELP + ".")
     add_formulary_option(parser)
-    add_case_options(parser)
+    add_case_options(parser, labs=True)
     parser.add_argument(
         "--episode",
         metavar="FILE",
@@ -34,9 +36,10 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     formulary = formulary_from_args(args)
-    request = parse_check_request(case_fields(args))
+    fields, data_in = with_labs(args, case_fields(args), keys("patient", "labs"))
+    request = parse_check_request(fields, data_in=data_in)
     episode = args.episode
-    result = run_check(request, formulary) if episode is None else _with_episode(request, formulary, episode)
+    result = run_check(request, formulary) if episode is None else _with_episode(request, formulary, episode, args.at)
     if args.json:
         print(json.dumps(result.to_json(), indent=2))
     else:
@@ -44,11 +47,10 @@ def run(args: argparse.Namespace) -> int:
     return BY_STATUS[result.status]
 
 
-def _with_episode(request: CheckRequest, formulary: Formulary, path: str) -> CheckResult:
-    """The check as at now with the episode at `path` open beside it (the course modules load only here)."""
-    from datetime import datetime  # noqa: PLC0415 (kept out of start-up)
-
+def _with_episode(request: CheckRequest, formulary: Formulary, path: str, at: str | None) -> CheckResult:
+    """The check as at `--at` (default now) with the episode at `path` open beside it (course modules load here)."""
+    from osmodose.case.times import parse_time  # noqa: PLC0415 (kept out of start-up)
     from osmodose.course.plan import check_with_course  # noqa: PLC0415 (kept out of start-up)
     from osmodose.course.store import load_episode  # noqa: PLC0415 (kept out of start-up)
 
-    return check_with_course(request, formulary, load_episode(path), datetime.now().astimezone())
+    return check_with_course(request, formulary, load_episode(path), parse_time(at or "now", "at"))

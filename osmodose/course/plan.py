@@ -155,7 +155,6 @@ def check_with_course(request: CheckRequest, formulary: Formulary, episode: Epis
         dose_rows=np.zeros(0, dtype=int),
         after_each=np.zeros(0),
         sodium_now=sodium,
-        skipped_mannitol=0,
     )
     check = with_course_context(check, timeline, formulary, now, at)
     after = check.projected_sodium_mmol_l

@@ -15,6 +15,7 @@ from pydantic import BaseModel, ConfigDict, Field, create_model, field_validator
 
 from osmodose.formulary.limits import LIMIT_SPECS
 from osmodose.science.chemistry import SoluteName
+from osmodose.science.choices import EthanolFactor, TbwMethod
 from osmodose.science.formulas import INFANT_AGE_YEARS, TBW_FRACTION_CHILD, TBW_FRACTION_INFANT
 
 #: The route words of files written before they were renamed, read as the new ones.
@@ -43,9 +44,9 @@ class SettingsTable(BaseModel):
     """Age from which the elderly total-body-water fractions apply (sources say 65 or 70)."""
     adult_age_years: float = Field(default=18.0, ge=10, le=25)
     """Age below which the child fraction (0.6) applies to both sexes."""
-    ethanol_factor: Literal["molar", "empirical"] = "molar"
+    ethanol_factor: EthanolFactor = "molar"
     """Ethanol's share of calculated osmolality: "molar" (mg/dL / 4.6) or "empirical" (mg/dL / 3.7)."""
-    tbw_method: Literal["fraction", "watson"] = "fraction"
+    tbw_method: TbwMethod = "fraction"
     """Default total-body-water method when the user does not choose one."""
     infant_age_years: float = Field(default=INFANT_AGE_YEARS, ge=0, le=3)
     """Age below which the infant total-body-water fraction applies (default 1 year)."""
@@ -110,6 +111,9 @@ class AgentEntry(BaseModel):
     """true: an order of this agent for a child (under the adult age setting) is refused."""
     dose_weight: Literal["actual", "ideal", "adjusted"] = "actual"
     """Weight for per-kg doses and limits: "actual" (default), "ideal" (Devine) or "adjusted"; needs a height."""
+    codes: list[str] = Field(default_factory=list)
+    """Medication codes the hospital's records give this stock, "system|code" (e.g. "http://example.org/stock|NACL3"):
+    `course import` makes a FHIR MedicationAdministration with one of them a dose of this agent."""
 
     @field_validator("route", mode="before")
     @classmethod

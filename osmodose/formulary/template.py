@@ -63,6 +63,7 @@ _EXAMPLE_AGENTS = (
         ("max_rate", '"180 mL/h"        # your protocol'),
         ("adult_only", "true             # your protocol"),
         ("sodium", '"4 mEq/mL"'),
+        ("codes", '["http://example.org/stock-codes|NACL23.4-30"]  # your records\' codes, for course import'),
     ),
     (
         ("id", '"mannitol-20"'),

@@ -17,6 +17,7 @@ from osmodose.formulary.file_model import OLD_ROUTE_WORDS
 from osmodose.formulary.load import COMPOSITION_TOLERANCE, LABEL_PERCENT, ReadResult, read_formulary
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, Limits
+from osmodose.science.units import Q_
 
 
 @dataclass(frozen=True)
@@ -139,7 +140,7 @@ def label_problem(agent: Agent) -> str | None:
     if agent.solute_g_per_l is None:
         return None
     written = [float(number.replace(",", ".")) for number in LABEL_PERCENT.findall(agent.label)]
-    percent = agent.solute_g_per_l / 10.0
+    percent = float(Q_(agent.solute_g_per_l, "g/L").m_as("percent_wv"))
     if not written or any(abs(value - percent) <= COMPOSITION_TOLERANCE * percent for value in written):
         return None
     shown = " or ".join(f"{value:g} %" for value in written)
