@@ -204,6 +204,64 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
         "no default: set by the unit's protocol",
         "cumulative mannitol within 24 h above which a dose is warned",
     ),
+    # --- the projection's range, the free-water deficit, a course's apparent TBW and ICP response ---
+    "projection_sodium_error": LimitSpec(
+        "mmol/L",
+        _CONC,
+        2.0,
+        "common practice (no single source): sodium is reported to 1 mmol/L and repeat "
+        "measurements commonly differ by 1-2 mmol/L",
+        "how far the measured sodium may be from the true one: the projected range starts from sodium +/- this",
+    ),
+    "projection_rise_underprediction": LimitSpec(
+        "percent",
+        ("percent",),
+        240.0,
+        "Mohmand HK et al. Clin J Am Soc Nephrol 2007;2:1110: in hyponatraemia treated with 3 % saline the "
+        "observed rise exceeded the Adrogue-Madias prediction in 74 % (sodium below 120), and those who "
+        "overcorrected rose about 2.4 times the prediction",
+        "where the 24 h rise limits apply, the high end of the projected range is at least this share of the "
+        "predicted rise",
+    ),
+    "free_water_target_sodium": LimitSpec(
+        "mmol/L",
+        _CONC,
+        140.0,
+        "the free-water deficit TBW x (Na/140 - 1) (secondary sources; Adrogue HJ, Madias NE. "
+        "N Engl J Med 2000;342:1493-9, from memory)",
+        "the sodium the free-water deficit is worked out to",
+    ),
+    "free_water_deficit_above": LimitSpec(
+        "mmol/L",
+        _CONC,
+        145.0,
+        "hypernatraemia is a serum sodium above 145 mmol/L (Adrogue HJ, Madias NE. N Engl J Med "
+        "2000;342:1493-9, from memory)",
+        "serum sodium above which the free-water deficit is worked out",
+    ),
+    "apparent_tbw_low_warn": LimitSpec(
+        "percent",
+        ("percent",),
+        60.0,
+        "no single source: a response 1.7 times the predicted one; those who overcorrected in Mohmand HK "
+        "et al. Clin J Am Soc Nephrol 2007 rose 2.4 times the prediction (an apparent TBW near 42 %)",
+        "apparent total body water, as a share of the estimate, below which a course warns (aquaresis likely)",
+    ),
+    "icp_response_before_h": LimitSpec(
+        "h",
+        ("h",),
+        1.0,
+        "common practice (no single source): the ICP a dose is judged against is a recent one",
+        "how long before a dose's start the ICP reading it is compared with may be",
+    ),
+    "icp_response_after_h": LimitSpec(
+        "h",
+        ("h",),
+        2.0,
+        "common practice (no single source): hyperosmolar boluses lower ICP within minutes and most of "
+        "the fall is seen within 1-2 h (from memory)",
+        "how long after a dose's start its lowest ICP is looked for",
+    ),
 }
 
 #: Pairs whose warn must not exceed refuse.
@@ -260,3 +318,8 @@ class Limits(BaseModel):
         if name in self.from_file:
             return "formulary file"
         return "default: " + LIMIT_SPECS[name].source
+
+
+def default_limits() -> Limits:
+    """Every limit at its default: for code that works out figures without a formulary at hand."""
+    return Limits(values={name: spec.default for name, spec in LIMIT_SPECS.items()})

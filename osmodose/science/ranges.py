@@ -49,6 +49,12 @@ PLAUSIBLE: dict[str, Range] = {
 }
 
 
+#: Total body water outside this share of body weight is not a body's (common practice, chosen wide:
+#: measured adult TBW is about 45-60 %): a Watson result outside it is refused, and the projected
+#: range never takes TBW beyond it.
+TBW_SHARE_OF_WEIGHT: tuple[float, float] = (0.3, 0.8)
+
+
 def check_plausible(field: str, value: float, shown: object, range_key: str | None = None) -> float:
     """Return `value` if inside the field's range, else raise an InputError.
 
