@@ -24,7 +24,7 @@ from osmodose.science.chemistry import molar_mass
 from osmodose.science.ranges import Range
 from osmodose.science.units import Q_, Quantity, as_osmolar, is_bare_number, parse_quantity, ureg
 
-Group = Literal["patient", "labs", "order", "written", "reading", "entry"]
+Group = Literal["patient", "labs", "urine", "order", "written", "reading", "entry"]
 Kind = Literal["quantity", "choice", "text", "dose"]
 
 
@@ -207,6 +207,40 @@ FIELDS: dict[str, CaseField] = {
             plausible=Range(200.0, 450.0, "mOsm/kg"),
             attr="osmolality_mosm_kg",
         ),
+        # --- urine passed over the same period as the infusion (the full mass balance) ------------
+        # Chosen to catch a slipped digit, not to judge (common practice): 20 L is above the largest
+        # outputs over a day (diabetes insipidus, from memory); urine sodium rarely passes 300 and
+        # potassium 200 mmol/L (from memory).
+        CaseField(
+            "urine-volume",
+            "urine",
+            "urine vol",
+            "urine expected over the same period as the infusion; bare number = mL (e.g. 800, 1.2L)",
+            "mL, same period",
+            unit="mL",
+            plausible=Range(0.0, 20000.0, "mL"),
+            attr="urine_volume_ml",
+        ),
+        CaseField(
+            "urine-sodium",
+            "urine",
+            "urine Na",
+            "urine sodium, needed with a urine volume; bare number = mmol/L",
+            "mmol/L",
+            unit="mmol/L",
+            plausible=Range(0.0, 400.0, "mmol/L"),
+            attr="urine_sodium_mmol_l",
+        ),
+        CaseField(
+            "urine-potassium",
+            "urine",
+            "urine K",
+            "urine potassium; bare number = mmol/L (not given: taken as 0, which overstates the rise)",
+            "mmol/L",
+            unit="mmol/L",
+            plausible=Range(0.0, 250.0, "mmol/L"),
+            attr="urine_potassium_mmol_l",
+        ),
         # --- the order -------------------------------------------------------------------------
         CaseField("agent", "order", "agent", "agent id from the formulary", kind="text", empty="no order"),
         CaseField(
@@ -321,6 +355,16 @@ FIELDS: dict[str, CaseField] = {
             required=True,
         ),
         CaseField("label", "entry", "label", "free text to tell episodes apart (bed, initials)", kind="text"),
+        CaseField(
+            "over",
+            "entry",
+            "over",
+            "the period a urine output was collected over, ending at its time; bare number = minutes (e.g. 60, 4h)",
+            "min, or 4 h",
+            unit="min",
+            plausible=Range(1.0, 7 * 24 * 60.0, "min"),
+            attr="over_min",
+        ),
     )
 }
 
@@ -329,6 +373,8 @@ LAB_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group 
 #: Every lab a user may type, including those read into another (BUN into urea).
 LAB_KEYS: tuple[str, ...] = tuple(f.key for f in FIELDS.values() if f.group == "labs")
 DOSE_MODES: tuple[str, ...] = DOSE_MODE.values
+#: Urine passed over the infusion's period: volume, sodium, potassium (the full mass balance).
+URINE_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group == "urine")
 
 
 def keys(*groups: Group) -> tuple[str, ...]:

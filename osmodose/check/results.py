@@ -54,7 +54,7 @@ class PatientFigures(BaseModel):
     sex: Literal["female", "male"]
     height_cm: float | None
     total_body_water_l: float
-    tbw_method: Literal["fraction", "watson"]
+    tbw_method: Literal["fraction", "watson", "apparent"]
 
 
 class PresentationFit(BaseModel):
@@ -85,6 +85,15 @@ class DoseFigures(BaseModel):
     presentations: list[PresentationFit]
 
 
+class AgentVolume(BaseModel):
+    """One agent of the formulary and a volume of it (equiosmolar, or for a sodium change)."""
+
+    model_config = _FROZEN
+
+    agent: str
+    volume_ml: float | None
+
+
 class CheckResult(BaseModel):
     """Everything one check found; `status` is the worst finding's severity."""
 
@@ -106,6 +115,14 @@ class CheckResult(BaseModel):
     projected_sodium_rise_mmol_l: float | None
     program_version: str
     caution: str = CAUTION
+    # The projection with urine losses, its range, free water and equiosmolar volumes (see check.balance).
+    urine: dict[str, float | None] | None = None
+    projected_sodium_without_losses_mmol_l: float | None = None
+    projected_sodium_range_mmol_l: tuple[float, float] | None = None
+    electrolyte_free_water_clearance_l: float | None = None
+    free_water_deficit_l: float | None = None
+    volumes_for_daily_fall: list[AgentVolume] = []
+    equiosmolar: list[AgentVolume] | None = None
 
     def to_json(self) -> dict[str, Any]:
         """The public JSON object (plain types only)."""

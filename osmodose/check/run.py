@@ -14,6 +14,7 @@ import numpy as np
 from osmodose import __version__
 from osmodose.case.fields import FIELDS
 from osmodose.case.inputs import CheckRequest, DoseRequest, Patient
+from osmodose.check.balance import loss_figures, loss_notes, urine_columns, urine_error
 from osmodose.check.engine import Cases, Figures, compute
 from osmodose.check.judging import (
     HIGH_RISK_POTASSIUM_BELOW,
@@ -32,7 +33,7 @@ from osmodose.check.results import (
 from osmodose.check.rules import apply_rules
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary, Limits
-from osmodose.science.ranges import Range
+from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT, Range
 
 MANNITOL_NOTE = (
     "No sodium projection for mannitol: it carries no sodium and stays extracellular "
@@ -56,7 +57,7 @@ HIGH_RISK_NOTE = (
 NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
 VOLUME_RANGE: Range = FIELDS["volume"].bounds
 #: Watson total body water outside this share of body weight is refused (common practice).
-WATSON_FRACTION_RANGE = (0.3, 0.8)
+WATSON_FRACTION_RANGE = TBW_SHARE_OF_WEIGHT
 FILTER_NOTE = "Mannitol 20-25 % crystallises when cold: give it through an in-line filter."
 
 
@@ -87,6 +88,8 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         dose_per_kg=np.array([bool(dose and dose.per_kg)]),
         duration_min=np.array([_nan(dose.duration_min if dose else None)]),
         use_watson=np.array([use_watson]),
+        urine=urine_columns(request),
+        tbw_override_l=col(request.tbw_l),
     )
 
 
@@ -104,12 +107,16 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     if method == "watson" and request.patient.height_cm is None:
         raise height_required_error()
     cases = cases_from_request(request, agent_index, method == "watson")
-    figures = compute(cases, formulary.agents, formulary.settings)
-    problem = tbw_error(
-        method == "watson", request.patient, float(figures.tbw_l[0]), formulary.settings.adult_age_years
-    )
-    if problem is not None:
-        raise problem
+    figures = compute(cases, formulary.agents, formulary.settings, formulary.limits)
+    if request.tbw_l is None:
+        problem = tbw_error(
+            method == "watson", request.patient, float(figures.tbw_l[0]), formulary.settings.adult_age_years
+        )
+        if problem is not None:
+            raise problem
+    urine_problem = urine_error(request, float(figures.tbw_low_l[0]))
+    if urine_problem is not None:
+        raise urine_problem
     if agent is not None and request.dose is not None:
         problem = volume_error(request.dose, agent, request.labs.sodium_mmol_l, float(figures.volume_ml[0]))
         if problem is not None:
@@ -132,7 +139,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     return CheckResult(
         status=worst_status(x.severity for x in findings),
         findings=findings,
-        notes=_notes(request, agent, figures, formulary.limits),
+        notes=_notes(request, agent, figures, formulary.limits) + loss_notes(request, agent, figures, formulary),
         formulary=FormularyRef(
             name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
         ),
@@ -142,7 +149,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
             sex=request.patient.sex,
             height_cm=request.patient.height_cm,
             total_body_water_l=float(figures.tbw_l[0]),
-            tbw_method="watson" if method == "watson" else "fraction",
+            tbw_method="apparent" if request.tbw_l is not None else ("watson" if method == "watson" else "fraction"),
         ),
         labs=request.labs.model_dump(),
         line=request.line,
@@ -154,6 +161,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         projected_sodium_mmol_l=_opt(figures.projected_sodium[0]),
         projected_sodium_rise_mmol_l=_opt(figures.projected_rise[0]),
         program_version=__version__,
+        **loss_figures(request, agent, figures, formulary),
     )
 
 
@@ -288,7 +296,8 @@ def _notes(request: CheckRequest, agent: Agent | None, figures: Figures, limits:
     if agent is None:
         return notes
     if agent.projects_sodium:
-        notes.append(PROJECTION_NOTE)
+        if request.urine is None:  # with urine, check.balance says what the projection takes out
+            notes.append(PROJECTION_NOTE)
     else:
         notes.append(MANNITOL_NOTE)
     if agent.solute == "mannitol":

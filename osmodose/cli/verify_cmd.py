@@ -68,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
 
     formulary = formulary_from_args(args)
-    request = parse_check_request(case_fields(args, keys("patient", "labs")))
+    request = parse_check_request(case_fields(args, keys("patient", "labs", "urine")))
     order = parse_order(case_fields(args, WRITTEN_ORDER_KEYS))
     acceptances = [parse_acceptance(text) for text in args.accept]
     record = verify_order(request, order, formulary, acceptances, args.initials)
