@@ -11,6 +11,7 @@ Version history:
   UTC written without an offset, no bedside readings.
 * 2: unit-suffixed keys (`sodium_mmol_l`, `agent_id`), every time with its UTC
   offset, bedside readings (MAP, ICP), patient label and TBW method.
+* 3: urine outputs (volume, optionally sodium, potassium and the collection period).
 """
 
 from __future__ import annotations
@@ -72,8 +73,13 @@ def v1_to_v2(data: Data) -> Data:
     return {**rest, "format_version": 2, "labs": labs, "doses": doses, "readings": []}
 
 
+def v2_to_v3(data: Data) -> Data:
+    """Version 2 had no urine outputs: start with none (nothing else moves)."""
+    return {**data, "format_version": 3, "outputs": []}
+
+
 #: version n -> the step from n to n+1
-MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2}
+MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2, 2: v2_to_v3}
 
 
 def migrate(data: Data, version: int) -> Data:
