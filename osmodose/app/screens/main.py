@@ -11,7 +11,19 @@ from textual.screen import Screen
 from textual.widgets import Footer, Input, Select, Static
 
 from osmodose.app.screens.save import SaveScreen
-from osmodose.app.view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, PATIENT_FIGURES, Outcome, evaluate, patient_texts
+from osmodose.app.view import (
+    AMOUNT,
+    AMOUNT_HINT,
+    DOSE_MODE,
+    FIELDS,
+    PATIENT_FIGURES,
+    Outcome,
+    daily_fall_rows,
+    equiosmolar_rows,
+    evaluate,
+    patient_texts,
+)
+from osmodose.app.widgets.agent_volumes import AgentVolumes
 from osmodose.app.widgets.dose_panel import DosePanel
 from osmodose.app.widgets.figures import FigurePanel
 from osmodose.app.widgets.findings import ChecksPanel, NotesPanel
@@ -56,7 +68,9 @@ class MainScreen(Screen[None]):
             with VerticalScroll(id="results"):
                 yield ChecksPanel()
                 yield DosePanel()
+                yield AgentVolumes("equiosmolar", "equiosmolar (same ideal mOsm)", equiosmolar_rows)
                 yield FigurePanel("figures", "figures", PATIENT_FIGURES)
+                yield AgentVolumes("daily-fall", "to lower Na by the daily fall limit", daily_fall_rows)
                 yield NotesPanel()
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
@@ -99,6 +113,8 @@ class MainScreen(Screen[None]):
         result = outcome.result
         self.query_one("#figures", FigurePanel).show(patient_texts(result) if result else None)
         self.query_one(DosePanel).show_outcome(outcome)
+        for table in self.query(AgentVolumes):
+            table.show(outcome)
         self.query_one(ChecksPanel).show(outcome)
         self.query_one(NotesPanel).show(outcome)
         results = self.query_one("#results")
