@@ -104,6 +104,8 @@ class Cases:
     dose_per_kg: np.ndarray
     duration_min: np.ndarray
     use_watson: np.ndarray
+    #: Hours from the sodium's draw to the check, where a labs file gave the time; None or NaN: not known.
+    sodium_age_h: np.ndarray | None = None
     #: Urine passed over the infusion's period, keyed by field key ("urine-volume" mL, "urine-sodium" and
     #: "urine-potassium" mmol/L), NaN where not given; a key left out is not given for any case.
     urine: Mapping[str, np.ndarray] = field(default_factory=dict)

@@ -11,6 +11,9 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.case.provenance import DataIn
+from osmodose.formulary.model import Formulary
+
 _FROZEN = ConfigDict(frozen=True)
 
 Severity = Literal["warn", "refuse"]
@@ -44,6 +47,14 @@ class FormularyRef(BaseModel):
     version: str
     sha256: str
     path: str
+
+    @classmethod
+    def of(cls, formulary: Formulary) -> FormularyRef:
+        return cls(name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path)
+
+    def line(self) -> str:
+        """The line every report heads with: which file, which version, which bytes."""
+        return f"formulary: {self.name} v{self.version} sha256 {self.sha256}"
 
 
 class PatientFigures(BaseModel):
@@ -115,6 +126,8 @@ class CheckResult(BaseModel):
     projected_sodium_rise_mmol_l: float | None
     program_version: str
     caution: str = CAUTION
+    labs_file: DataIn | None = None
+    """The labs file the case was read from: each value's resource, effective time and age; null when typed."""
     # The projection with urine losses, its range, free water and equiosmolar volumes (see check.balance).
     urine: dict[str, float | None] | None = None
     projected_sodium_without_losses_mmol_l: float | None = None

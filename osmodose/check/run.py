@@ -88,6 +88,7 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         dose_per_kg=np.array([bool(dose and dose.per_kg)]),
         duration_min=np.array([_nan(dose.duration_min if dose else None)]),
         use_watson=np.array([use_watson]),
+        sodium_age_h=col(request.data_in.age_h("sodium") if request.data_in is not None else None),
         urine=urine_columns(request),
         tbw_override_l=col(request.tbw_l),
     )
@@ -140,9 +141,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         status=worst_status(x.severity for x in findings),
         findings=findings,
         notes=_notes(request, agent, figures, formulary.limits) + loss_notes(request, agent, figures, formulary),
-        formulary=FormularyRef(
-            name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
-        ),
+        formulary=FormularyRef.of(formulary),
         patient=PatientFigures(
             weight_kg=request.patient.weight_kg,
             age_years=request.patient.age_years,
@@ -161,6 +160,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         projected_sodium_mmol_l=_opt(figures.projected_sodium[0]),
         projected_sodium_rise_mmol_l=_opt(figures.projected_rise[0]),
         program_version=__version__,
+        labs_file=request.data_in,
         **loss_figures(request, agent, figures, formulary),
     )
 

@@ -11,7 +11,9 @@ Version history:
   UTC written without an offset, no bedside readings.
 * 2: unit-suffixed keys (`sodium_mmol_l`, `agent_id`), every time with its UTC
   offset, bedside readings (MAP, ICP), patient label and TBW method.
-* 3: urine outputs (volume, optionally sodium, potassium and the collection period).
+* 3: entries may name the FHIR resource they were imported from (`sources` on
+  labs and readings, `source` on doses), so a repeated import adds nothing twice.
+* 4: urine outputs (volume, optionally sodium, potassium and the collection period).
 """
 
 from __future__ import annotations
@@ -74,12 +76,17 @@ def v1_to_v2(data: Data) -> Data:
 
 
 def v2_to_v3(data: Data) -> Data:
-    """Version 2 had no urine outputs: start with none (nothing else moves)."""
-    return {**data, "format_version": 3, "outputs": []}
+    """Nothing moves: version 3 only adds optional keys (an entry's FHIR source)."""
+    return {**data, "format_version": 3}
+
+
+def v3_to_v4(data: Data) -> Data:
+    """Version 3 had no urine outputs: start with none (nothing else moves)."""
+    return {**data, "format_version": 4, "outputs": []}
 
 
 #: version n -> the step from n to n+1
-MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2, 2: v2_to_v3}
+MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2, 2: v2_to_v3, 3: v3_to_v4}
 
 
 def migrate(data: Data, version: int) -> Data:

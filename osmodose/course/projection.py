@@ -162,7 +162,6 @@ class Projection:
     dose_rows: np.ndarray
     after_each: np.ndarray
     sodium_now: float
-    skipped_mannitol: int
     notes: list[str] = field(default_factory=list)
     losses: Losses = NO_LOSSES
     """The urine taken out since the lab."""
@@ -200,7 +199,6 @@ def project_now(episode: Episode, timeline: Timeline, tbw_l: float, at: datetime
         dose_rows=rows,
         after_each=after,
         sodium_now=sodium_now,
-        skipped_mannitol=skipped,
         notes=notes,
         losses=losses,
     )

@@ -8,8 +8,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from osmodose.errors import InputError
-
 
 @dataclass(frozen=True)
 class Range:
@@ -53,17 +51,6 @@ PLAUSIBLE: dict[str, Range] = {
 #: measured adult TBW is about 45-60 %): a Watson result outside it is refused, and the projected
 #: range never takes TBW beyond it.
 TBW_SHARE_OF_WEIGHT: tuple[float, float] = (0.3, 0.8)
-
-
-def check_plausible(field: str, value: float, shown: object, range_key: str | None = None) -> float:
-    """Return `value` if inside the field's range, else raise an InputError.
-
-    `shown` is what the user typed, so the message quotes their own words.
-    """
-    limits = PLAUSIBLE[range_key or field]
-    if not (limits.low <= value <= limits.high):
-        raise InputError(field, shown, "is outside the plausible range", limits.describe())
-    return value
 
 
 @dataclass(frozen=True)
