@@ -49,7 +49,7 @@ from osmodose.check.run import run_check  # noqa: E402
 from osmodose.errors import InputError  # noqa: E402
 from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
 from osmodose.science import formulas  # noqa: E402
-from osmodose.science.ranges import WEIGHT_FOR_AGE  # noqa: E402
+from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT, WEIGHT_FOR_AGE  # noqa: E402
 
 HEADER = [
     "order-id",
@@ -134,6 +134,13 @@ def floor_tbw(
     w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, settings: object
 ) -> np.ndarray:
     """Total body water in plain numpy, with the fractions and Watson coefficients of `osmodose.science.formulas`."""
+    return floor_tbw_both(w, age, h, male, use_watson, settings)[0]
+
+
+def floor_tbw_both(
+    w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, settings: object
+) -> tuple[np.ndarray, np.ndarray]:
+    """(TBW used, the other method's TBW or NaN), as `engine.tbw_estimates` gives them."""
     elderly = age >= settings.elderly_age_years
     man = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_MAN, formulas.TBW_FRACTION_MAN)
     woman = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_WOMAN, formulas.TBW_FRACTION_WOMAN)
@@ -146,7 +153,40 @@ def floor_tbw(
         + formulas.WATSON_MAN_WEIGHT * w
     )
     women = formulas.WATSON_WOMAN_INTERCEPT + formulas.WATSON_WOMAN_HEIGHT * h + formulas.WATSON_WOMAN_WEIGHT * w
-    return np.where(use_watson, np.where(male, men, women), w * fraction)
+    watson = np.where(male, men, women)
+    low, high = TBW_SHARE_OF_WEIGHT
+    fits = (age >= settings.adult_age_years) & (watson / w >= low) & (watson / w <= high)
+    other = np.where(use_watson, w * fraction, np.where(fits, watson, np.nan))
+    return np.where(use_watson, watson, w * fraction), other
+
+
+def floor_range_high(
+    na: np.ndarray,
+    cations: np.ndarray,
+    litres: np.ndarray,
+    tbw: np.ndarray,
+    other: np.ndarray,
+    w: np.ndarray,
+    male: np.ndarray,
+    v: dict,
+) -> np.ndarray:
+    """The high end of the projected range (`engine.projection_range`), no urine, in plain numpy."""
+    see = np.where(male, formulas.WATSON_SEE_MAN_L, formulas.WATSON_SEE_WOMAN_L)
+    share_low, share_high = TBW_SHARE_OF_WEIGHT
+    low = np.fmin(np.maximum(np.fmin(tbw, other) - see, share_low * w), tbw)
+    high = np.fmax(np.minimum(np.fmax(tbw, other) + see, share_high * w), tbw)
+    error = v["projection_sodium_error"]
+    corners = [
+        (na + sign * error) + litres * (cations - (na + sign * error)) / (t + litres)
+        for sign in (-1.0, 1.0)
+        for t in (low, high)
+    ]
+    top = np.maximum.reduce(corners)
+    projected = na + litres * (cations - na) / (tbw + litres)
+    rise = projected - na
+    widened = (rise > 0) & (na < v["sodium_rise_applies_below"] * (1 - 1e-9))
+    top = np.where(widened, np.fmax(top, na + v["projection_rise_underprediction"] / 100 * rise), top)
+    return np.fmax(top, projected)
 
 
 def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: object) -> dict[str, np.ndarray]:
@@ -168,7 +208,7 @@ def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: obj
     no_max_rate = table([1.0 if x.max_rate_ml_h is None else 0.0 for x in agents]) == 1
     adult_only = table([1.0 if x.adult_only else 0.0 for x in agents]) == 1
     w, age, h, male, na = a["weight"], a["age"], a["height"], a["male"] == 1, a["sodium"]
-    tbw = floor_tbw(w, age, h, male, a["use_watson"], settings)
+    tbw, other_tbw = floor_tbw_both(w, age, h, male, a["use_watson"], settings)
     calc = 2 * na + a["glucose"] + a["urea"] + np.nan_to_num(a["ethanol"])
     gap = a["osmolality"] - calc
     amount = np.where(a["per_kg"], a["amount"] * w, a["amount"])
@@ -232,6 +272,10 @@ def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: obj
     worst = np.maximum(worst, np.where(mannitol & np.isnan(osmolality), 1, 0))
     rise_judged = has & (na < v["sodium_rise_applies_below"])
     worst = np.maximum(worst, np.where(rise_judged, sev(rise, v["sodium_rise_24h_warn"], rise_refuse), 0))
+    out["projected_sodium_high"] = floor_range_high(na, cations, litres, tbw, other_tbw, w, male, v)
+    rise_high = out["projected_sodium_high"] - na
+    range_judged = rise_judged & ~(rise > rise_refuse * (1 + 1e-9))
+    worst = np.maximum(worst, np.where(range_judged & (rise_high > rise_refuse * (1 + 1e-9)), 1, 0))
     worst = np.maximum(worst, np.where(has, sev(-rise, v["sodium_fall_24h_warn"], v["sodium_fall_24h_refuse"]), 0))
     for kind, figure in (("g/kg", "solute_g_per_kg"), ("mL/kg", "volume_ml_per_kg"), ("mmol/kg", "sodium_mmol_per_kg")):
         warn = table([d.value if (d := x.dose_warn) and d.kind == kind else np.inf for x in agents])
@@ -331,7 +375,7 @@ def measure(orders: Path, n: int, check_sample: int) -> dict[str, float]:
             fl = floor(arrays, formulary.agents, formulary.settings, formulary.limits)
 
             def engine() -> list:
-                figures = compute(whole_cases, formulary.agents, formulary.settings)
+                figures = compute(whole_cases, formulary.agents, formulary.settings, formulary.limits)
                 return [figures, apply_rules(whole_cases, figures, formulary.agents, formulary.limits, line)]
 
             best_engine = min(_timed(engine))
@@ -339,7 +383,8 @@ def measure(orders: Path, n: int, check_sample: int) -> dict[str, float]:
         status = np.zeros(len(line), dtype=int)
         for o in outcomes:
             status = np.maximum(status, o.severity)
-        for name in ("tbw_l", "calculated_osmolality", "osmolar_gap", "volume_ml", "projected_sodium", "rate_ml_h"):
+        compared = ("tbw_l", "calculated_osmolality", "osmolar_gap", "volume_ml", "projected_sodium", "rate_ml_h")
+        for name in (*compared, "projected_sodium_high"):
             assert np.allclose(fl[name], getattr(figures, name), rtol=1e-9, equal_nan=True), name
         assert np.array_equal(fl["status"], status), "floor and engine disagree on a status"
         bare = _bare_parse(orders)

@@ -35,8 +35,8 @@ def run(capsys: pytest.CaptureFixture[str], *args: str) -> tuple[int, str, str]:
         (
             "weigth,age,sex,sodium",
             "column weigth (header field 1): is not a column osmodose knows (accepted: order-id, weight, age, sex, "
-            "height, tbw-method, raised-icp, sodium, potassium, glucose, urea, bun, ethanol, osmolality, agent, dose, "
-            "dose-unit, volume, target-rise, duration, line)",
+            "height, tbw-method, raised-icp, sodium, potassium, glucose, urea, bun, ethanol, osmolality, urine-volume, "
+            "urine-sodium, urine-potassium, agent, dose, dose-unit, volume, target-rise, duration, line)",
         ),
         ("weight,age,sex", "column sodium: is required"),
         ("weight,age,sex,sodium,Weight", "column Weight (header field 5): appears twice (also header field 1)"),

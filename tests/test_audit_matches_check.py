@@ -41,6 +41,9 @@ HEADER_UNITS = {
     "ethanol": ["", "mg/dL"],
     "osmolality": ["", "mOsm/kg", "mmol/kg"],
     "volume": ["", "mL", "L"],
+    "urine-volume": ["", "mL", "L"],
+    "urine-sodium": ["", "mmol/L"],
+    "urine-potassium": ["", "mmol/L"],
     "target-rise": ["", "mmol/L"],
     "duration": ["", "min", "h"],
 }
@@ -57,6 +60,10 @@ RANGES = {
     "ethanol": (0.0, 90.0),
     "osmolality": (240.0, 400.0),
     "volume": (5.0, 1500.0),
+    # Urine over the infusion (invented): large volumes against a small patient give check's error.
+    "urine-volume": (0.0, 3000.0),
+    "urine-sodium": (5.0, 200.0),
+    "urine-potassium": (5.0, 100.0),
     "target-rise": (-15.0, 15.0),
     "duration": (2.0, 600.0),
 }
@@ -65,6 +72,7 @@ TO_HEADER_UNIT = {
     ("weight", "lb"): 2.2,
     ("height", "m"): 0.01,
     ("volume", "L"): 0.001,
+    ("urine-volume", "L"): 0.001,
     ("duration", "h"): 1 / 60,
     ("glucose", "mg/dL"): 18.0,
     ("urea", "mg/dL"): 6.0,
@@ -98,6 +106,9 @@ def _number(draw: st.DrawFn, column: str, unit: str, spoil: bool) -> str:
 @st.composite
 def tables(draw: st.DrawFn) -> tuple[list[str], list[list[str]], dict[str, str]]:
     optional = [c for c in ("height", "potassium", "glucose", "ethanol", "osmolality") if draw(st.booleans())]
+    optional += draw(
+        st.sampled_from([[], ["urine-volume", "urine-sodium"], ["urine-volume", "urine-sodium", "urine-potassium"]])
+    )
     # Hypothesis favours the first choice of each draw: make it the valid, common one.
     optional += draw(st.sampled_from([["urea"], ["bun"], [], ["urea"], ["bun"], [], ["urea", "bun"]]))
     orders = draw(st.sampled_from([["dose"], ["volume"], ["target-rise"], []] * 2 + [["dose", "volume"]]))
@@ -179,6 +190,11 @@ def _expected_figures(result: dict) -> dict[str, float | None]:
         "sodium_change_per_litre_mmol_l": result["sodium_change_per_litre_mmol_l"],
         "projected_sodium_mmol_l": result["projected_sodium_mmol_l"],
         "projected_sodium_rise_mmol_l": result["projected_sodium_rise_mmol_l"],
+        "projected_sodium_without_losses_mmol_l": result.get("projected_sodium_without_losses_mmol_l"),
+        "projected_sodium_range_low_mmol_l": (result.get("projected_sodium_range_mmol_l") or [None, None])[0],
+        "projected_sodium_range_high_mmol_l": (result.get("projected_sodium_range_mmol_l") or [None, None])[1],
+        "electrolyte_free_water_clearance_l": result.get("electrolyte_free_water_clearance_l"),
+        "free_water_deficit_l": result.get("free_water_deficit_l"),
     }
 
 

@@ -72,7 +72,13 @@ def test_the_worked_episode_shows_the_hand_derived_figures_and_findings(worked: 
         "osmolar-gap-high": "warn",
         "icp-high": "warn",  # 25 > 22 (Carney 2017)
         "cpp-low": "warn",  # 55 < 60 (Carney 2017)
+        # 118 -> 124 after 2 x 150 mL of 3 % (513): apparent TBW (0.3 x 513 - 124 x 0.3) / (124 - 118) = 19.45 L
+        # (the balance solved for TBW, Barsoum & Levine 2002), 46 % of 42 L: below 60 %.
+        "apparent-tbw-low": "warn",
     }
+    assert doses[0]["apparent_tbw_l"] == doses[1]["apparent_tbw_l"] == pytest.approx((153.9 - 37.2) / 6)
+    assert shown["apparent_tbw_l"] == pytest.approx(19.45)
+    assert doses[2]["apparent_tbw_l"] is None  # mannitol between the second and third lab: not in the balance
     assert shown["caution"].startswith("Decision support only")
 
 
@@ -81,7 +87,11 @@ def test_show_prints_the_timeline_table(worked: Path, capsys) -> None:
     course("show", worked)
     out = capsys.readouterr().out
     assert out.startswith("osmodose course  [REFUSE] REFUSE: a hard limit is crossed; no further dose without review\n")
-    assert "2026-12-01T08:30+00:00  dose     nacl-3 150 mL over 20 min  -> projected Na 119.4\n" in out
+    assert (
+        "2026-12-01T08:30+00:00  dose     nacl-3 150 mL over 20 min  -> projected Na 119.4  "
+        "apparent TBW 19.5 L (46 %)  ICP n/a -> 25\n" in out
+    )
+    assert "apparent total body water: 19.5 L, 46 % of the estimated 42.0 L" in out
     assert "2026-12-01T10:00+00:00  reading  MAP 80  ICP 25  CPP 55\n" in out
     assert (
         "2026-12-01T16:00+00:00  dose     mannitol-20 350 mL over 20 min  (70 g; 1.00 g/kg in 24 h)  (no projection)\n"
@@ -94,19 +104,33 @@ def test_plan_from_the_worked_episode(worked: Path, capsys) -> None:
     capsys.readouterr()
     code = course("plan", worked, "--agent", "nacl-3", "--volume", "100", "--time", f"{DAY2}T07:00Z", "--json")
     planned = json.loads(capsys.readouterr().out)
-    # 131 + 0.1 x (513 - 131) / 42.1 = 131 + 38.2 / 42.1 = 131.907; lowest in the 24 h before: 118 -> rise 13.9.
+    # With the estimated TBW: 131 + 0.1 x (513 - 131) / 42.1 = 131 + 38.2 / 42.1 = 131.907.  With the apparent
+    # TBW of 19.45 L (118 -> 124 after 300 mL of 3 %): 131 + 38.2 / 19.55 = 132.954, the worse: judged on it.
+    # Lowest in the 24 h before: 118 -> rise 15.0 > 10.
     assert planned["projected_sodium_before_mmol_l"] == 131.0
-    assert planned["projected_sodium_after_mmol_l"] == pytest.approx(131.9074, abs=1e-4)
-    assert {x["code"] for x in planned["findings"]} == {"projected-rise-24h"}
+    assert planned["projection_by_tbw"]["estimated"]["projected_sodium_after_mmol_l"] == pytest.approx(
+        131.9074, abs=1e-4
+    )
+    assert planned["projected_sodium_after_mmol_l"] == pytest.approx(131 + 38.2 / (19.45 + 0.1), abs=1e-4)
+    assert planned["judged_on"] == "apparent"
+    assert {x["code"] for x in planned["findings"]} == {"projected-rise-24h", "apparent-tbw-low"}
     assert planned["status"] == "refuse" and code == 4
     assert planned["check"]["dose"]["volume_ml"] == 100.0
+    # Measured 118 -> 131 within 24 h, past the limit of 10: back to 128 with 5 % glucose (Na 0) by the same
+    # balance, with the smaller TBW (19.45 L): V = 3 x 19.45 / (131 - 3) = 0.456 L.
+    rescue = planned["overcorrection_rescue"]
+    assert (rescue["target_sodium_mmol_l"], rescue["from_sodium_mmol_l"]) == (128.0, 131.0)
+    assert rescue["volumes"] == [{"agent": "glucose-5", "volume_ml": pytest.approx(3 * 19.45 / 128 * 1000)}]
 
 
 def test_plan_text_ends_with_the_checks_report(worked: Path, capsys) -> None:
     capsys.readouterr()
     course("plan", worked, "--agent", "nacl-3", "--volume", "100", "--time", f"{DAY2}T07:00Z")
     out = capsys.readouterr().out
-    assert "projected sodium after this dose: 131.9 mmol/L\n" in out
+    assert "projected sodium after this dose: 133.0 mmol/L\n" in out
+    assert "  with the estimated total body water (42.0 L): 131.0 -> 131.9 mmol/L\n" in out
+    assert "  with the apparent total body water (19.5 L): 131.0 -> 133.0 mmol/L  <- judged\n" in out
+    assert "  back to 128.0 mmol/L from 131.0 (TBW 19.5 L): glucose-5 456 mL\n" in out
     assert "the planned dose, checked from the projected sodium:\n\nosmodose check  [OK]" in out
     assert out.endswith("licensed clinical judgement before giving anything.\n")
 

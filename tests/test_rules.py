@@ -208,8 +208,13 @@ def test_an_osmolar_gap_at_the_limit_is_not_above_it(demo: Formulary) -> None:
 def test_sodium_rise_above_the_24h_warn_limit(plain: Formulary) -> None:
     # Na 110, 1 L of 3 % (513.35 mmol/L): 1 x (513.35 - 110) / (42 + 1) = +9.38 mmol/L; 8 < 9.38 <= 10.
     # Na 110 is below 125 itself: profound hyponatraemia (Spasovski 2014), a warning of the labs.
+    # The high end of its range (2.4 x 9.38 = 22.5, Mohmand 2007) is past 10: rise-range-high warns too.
     result = check(plain, sodium="110", agent="nacl-3", volume="1 L")
-    assert found(result) == [("sodium-rise-24h", "warn"), ("hyponatraemia-profound", "warn")]
+    assert found(result) == [
+        ("sodium-rise-24h", "warn"),
+        ("rise-range-high", "warn"),
+        ("hyponatraemia-profound", "warn"),
+    ]
     assert only(result, "sodium-rise-24h").message == (
         "projected sodium rise from this order 9.4 mmol/L is above the warn limit of 8 mmol/L"
     )
@@ -388,11 +393,13 @@ def test_without_a_line_there_is_no_line_finding(demo: Formulary, agent: str, vo
 
 
 def test_refusals_are_listed_first_and_the_status_is_the_worst(demo: Formulary) -> None:
-    # Peripheral 3 % at 14.29 mL/kg (refuse > 10), rise 9.37 (warn > 8), 1027 mOsm/L peripheral (warn).
+    # Peripheral 3 % at 14.29 mL/kg (refuse > 10), rise 9.37 (warn > 8) whose range's high end (2.4 x 9.37)
+    # is past the refuse limit of 10 (warn), 1027 mOsm/L peripheral (warn).
     result = check(demo, sodium="110", agent="nacl-3", volume="1 L", line="peripheral")
     assert found(result) == [
         ("dose-per-kg", "refuse"),
         ("sodium-rise-24h", "warn"),
+        ("rise-range-high", "warn"),
         ("peripheral-osmolarity", "warn"),
         ("hyponatraemia-profound", "warn"),  # Na 110 < 125 (Spasovski 2014)
     ]

@@ -18,8 +18,8 @@ from typing import Literal
 from osmodose.app.view import SYMBOL, FieldSpec, spec_of
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import LAB_KEYS
-from osmodose.course.entries import parse_dose_entry, parse_lab, parse_reading
-from osmodose.course.episode import DoseEntry, Episode, LabEntry, ReadingEntry
+from osmodose.course.entries import OUTPUT_KEYS, parse_dose_entry, parse_lab, parse_output, parse_reading
+from osmodose.course.episode import DoseEntry, Episode, LabEntry, OutputEntry, ReadingEntry
 from osmodose.course.plan import plan_dose
 from osmodose.course.report import (
     COURSE_STATUS_WORDS,
@@ -30,12 +30,13 @@ from osmodose.course.report import (
     review,
     timeline_rows,
 )
+from osmodose.course.report_response import apparent_lines, icp_lines
 from osmodose.course.series import CourseSeries, course_series
 from osmodose.course.store import read_episode, save_episode
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
 
-EntryKind = Literal["lab", "dose", "reading"]
+EntryKind = Literal["lab", "dose", "reading", "output"]
 
 TIME_HINT = CASE_FIELDS["time"].hint
 _TIME = spec_of("time", "lab")
@@ -54,11 +55,16 @@ ENTRY_FIELDS: dict[EntryKind, tuple[FieldSpec, ...]] = {
         spec_of("map", "reading", hint="mmHg, or 12 kPa"),
         spec_of("icp", "reading", hint="mmHg (CPP = MAP - ICP)"),
     ),
+    "output": (
+        spec_of("time", "reading", label="end", hint="end of the collection; " + TIME_HINT),
+        *(spec_of(key, "reading") for key in OUTPUT_KEYS if key != "time"),
+    ),
 }
 ENTRY_TITLES: dict[EntryKind, str] = {
     "lab": "add a lab (serum values drawn at one time)",
     "dose": "add a dose given (time = start of the infusion)",
     "reading": "add a bedside reading (CPP is computed, never typed)",
+    "output": "add a urine output (with its sodium it enters the balance)",
 }
 PLAN_FIELDS: tuple[FieldSpec, ...] = (
     spec_of("agent", "plan", blank="choose"),
@@ -118,12 +124,14 @@ def _error(error: OsmodoseError, specs: tuple[FieldSpec, ...]) -> FormOutcome:
 
 def parse_entry(
     kind: EntryKind, episode: Episode, formulary: Formulary, values: Mapping[str, str]
-) -> LabEntry | DoseEntry | ReadingEntry:
+) -> LabEntry | DoseEntry | ReadingEntry | OutputEntry:
     """Typed form text to an entry, by the command line's own parsers (InputError names the field)."""
     if kind == "lab":
         return parse_lab(values)
     if kind == "dose":
         return parse_dose_entry(formulary, values)
+    if kind == "output":
+        return parse_output(values)
     return parse_reading(values)
 
 
@@ -157,6 +165,8 @@ def head_text(state: CourseState) -> str:
     """Which file, how many entries, and the patient line of `course show`."""
     ep = state.episode
     counts = f"{len(ep.labs)} labs, {len(ep.doses)} doses, {len(ep.readings)} readings"
+    if ep.outputs:
+        counts += f", {len(ep.outputs)} urine outputs"
     return f"episode: {state.path}  ({counts})\n{patient_line(state.review)}"
 
 
@@ -171,4 +181,9 @@ def finding_rows(state: CourseState) -> list[tuple[str, str]]:
 def notes_lines(state: CourseState) -> list[str]:
     """The projection now, then the review's notes."""
     result = state.review
-    return [projection_line(result.projection, result.timeline), *(f"- {note}" for note in result.notes)]
+    return [
+        projection_line(result.projection, result.timeline),
+        *apparent_lines(result.apparent),
+        *icp_lines(list(result.icp), result.timeline.doses.agent_ids),
+        *(f"- {note}" for note in result.notes),
+    ]

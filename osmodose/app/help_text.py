@@ -16,6 +16,12 @@ FIGURE_HELP: tuple[tuple[str, str], ...] = (
     ("effective osm", "2 × Na + glucose: urea and ethanol cross cell membranes"),
     ("osmolar gap", "measured osmolality − calculated osmolality"),
     (
+        "free-water def.",
+        "above Na 145: TBW × (Na ÷ 140 − 1), the water alone (secondary sources); the fluids beside it lower Na "
+        "by the daily fall limit",
+    ),
+    ("urine free water", "electrolyte-free water in the urine typed: V × (1 − (U_Na + U_K) ÷ Na)"),
+    (
         "volume",
         "dose ÷ the agent's concentration (× weight for a per-kg dose); for a target Na change "
         "R: V = R × TBW ÷ (Na_inf + K_inf − Na − R)",
@@ -24,7 +30,15 @@ FIGURE_HELP: tuple[tuple[str, str], ...] = (
     ("solute, sodium, osmoles", "volume × the agent's g/L, sodium mmol/L and mOsm/L; per kg ÷ weight"),
     ("from stock", "whole bags or vials of each size kept that hold the volume, and what is left to discard"),
     ("Na per litre", "Adrogué–Madias: (Na_inf + K_inf − Na) ÷ (TBW + 1)"),
-    ("projected Na", "mass balance Na + V (Na_inf + K_inf − Na) ÷ (TBW + V); none for mannitol"),
+    (
+        "projected Na",
+        "mass balance Na + V (Na_inf + K_inf − Na) ÷ (TBW + V); with urine typed, the full balance "
+        "(Na × TBW + V (Na+K)_inf − V_urine (Na+K)_urine) ÷ (TBW + V − V_urine) (Barsoum & Levine 2002); "
+        "the range spans TBW (fraction against Watson, ± Watson's error), sodium ± 2 and, in hyponatraemia, "
+        "2.4 × the predicted rise (Mohmand 2007); none for mannitol",
+    ),
+    ("Na w/o urine", "the same projection with the infusate alone, as without urine"),
+    ("equiosmolar", "the volume of each other osmotherapy agent with the same ideal mOsm as the order"),
     ("checks", "each figure against the formulary's limit: warn or refuse when strictly above it"),
 )
 

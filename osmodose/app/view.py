@@ -15,7 +15,15 @@ from typing import TYPE_CHECKING, Any, Literal, cast
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
-from osmodose.check.report import corrected_sodium_text, fmt, rise_budget_text, signed, status_words
+from osmodose.check.report import (
+    corrected_sodium_text,
+    fmt,
+    range_text,
+    rise_budget_text,
+    signed,
+    status_words,
+    volume_text,
+)
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.errors import InputError, LabsFileError
@@ -61,6 +69,8 @@ def spec_of(key: str, panel: Panel | None = None, **override: Any) -> FieldSpec:
 
 FIELDS: tuple[FieldSpec, ...] = (
     *(spec_of(key) for key in keys("patient", "labs")),
+    # Urine over the infusion sits with the labs (optional; the projection then takes the losses out).
+    *(spec_of(key, "labs") for key in keys("urine")),
     spec_of("agent"),
     FieldSpec(DOSE_MODE, "asked as", "order", choices=DOSE_MODES),
     FieldSpec(AMOUNT, "amount", "order", AMOUNT_HINT["dose"]),
@@ -192,6 +202,8 @@ PATIENT_FIGURES: tuple[tuple[str, str], ...] = (
     ("calc-osm", "calculated osm"),
     ("eff-osm", "effective osm"),
     ("gap", "osmolar gap"),
+    ("free-water", "free-water def."),
+    ("urine-water", "urine free water"),
 )
 #: (id, label) of the order's figures.
 DOSE_FIGURES: tuple[tuple[str, str], ...] = (
@@ -202,6 +214,7 @@ DOSE_FIGURES: tuple[tuple[str, str], ...] = (
     ("osmoles", "osmoles"),
     ("na-per-litre", "Na per litre"),
     ("projected-na", "projected Na"),
+    ("na-no-losses", "Na w/o urine"),
 )
 
 
@@ -214,6 +227,12 @@ def patient_texts(result: CheckResult) -> dict[str, str]:
         "calc-osm": fmt(result.calculated_osmolality_mosm_kg, "mOsm/kg"),
         "eff-osm": fmt(result.effective_osmolality_mosm_kg, "mOsm/kg"),
         "gap": fmt(result.osmolar_gap_mosm_kg, "mOsm/kg"),
+        "free-water": "n/a (sodium not high)"
+        if result.free_water_deficit_l is None
+        else fmt(result.free_water_deficit_l, "L"),
+        "urine-water": "n/a (no urine given)"
+        if result.urine is None
+        else fmt(result.electrolyte_free_water_clearance_l, "L", 2),
     }
 
 
@@ -233,7 +252,10 @@ def dose_texts(result: CheckResult) -> dict[str, str]:
         "osmoles": fmt(dose.osmoles_mosm, "mOsm", 0),
         "na-per-litre": signed(result.sodium_change_per_litre_mmol_l, "mmol/L"),
         "projected-na": f"{fmt(result.projected_sodium_mmol_l, 'mmol/L')} "
-        f"({signed(result.projected_sodium_rise_mmol_l)})",
+        f"({signed(result.projected_sodium_rise_mmol_l)}{range_text(result)})",
+        "na-no-losses": "n/a (no urine given)"
+        if result.urine is None
+        else fmt(result.projected_sodium_without_losses_mmol_l, "mmol/L"),
     }
 
 
@@ -258,6 +280,16 @@ def safety_texts(result: CheckResult) -> dict[str, str]:
     if budget is not None:
         texts["rise-budget"] = budget
     return texts
+
+
+def equiosmolar_rows(result: CheckResult) -> list[tuple[str, str]]:
+    """(agent, volume) of each other osmotherapy agent carrying this order's ideal osmoles."""
+    return [(v.agent, volume_text(v.volume_ml)) for v in result.equiosmolar or []]
+
+
+def daily_fall_rows(result: CheckResult) -> list[tuple[str, str]]:
+    """(agent, volume) of each fluid below serum sodium that lowers it by the daily fall limit."""
+    return [(v.agent, volume_text(v.volume_ml)) for v in result.volumes_for_daily_fall]
 
 
 def stock_rows(result: CheckResult) -> list[str]:

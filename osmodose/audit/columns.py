@@ -57,7 +57,7 @@ def _column(field: CaseField) -> ColumnSpec:
 
 def _columns() -> dict[str, ColumnSpec]:
     columns = {"order-id": ColumnSpec("order-id", "text")}
-    for key in keys("patient", "condition", "labs", "order"):
+    for key in keys("patient", "condition", "labs", "urine", "order"):
         columns[key] = _column(FIELDS[key])
         if key == "dose":
             columns["dose-unit"] = ColumnSpec("dose-unit", "text")

@@ -21,8 +21,8 @@ import numpy as np
 from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
-from osmodose.case.fields import FIELDS, LAB_FIELDS, CaseField
-from osmodose.case.inputs import DoseRequest, parse_dose
+from osmodose.case.fields import FIELDS, LAB_FIELDS, URINE_FIELDS, CaseField
+from osmodose.case.inputs import URINE_SODIUM_ACCEPTED, URINE_VOLUME_ACCEPTED, DoseRequest, parse_dose
 from osmodose.check.engine import DOSE_UNITS, DOSE_WEIGHTS, Cases, dose_unit_codes
 from osmodose.check.patient_figures import dose_weight_height_error, dose_weight_problems
 from osmodose.check.run import dose_misfit, height_required_error
@@ -79,6 +79,7 @@ class Converted:
             duration_min=c["duration"],
             use_watson=self.use_watson[take],
             raised_icp=None if self.raised_icp is None else self.raised_icp[take],
+            urine={field.key: c[field.key] for field in URINE_FIELDS},
         )
 
     def dose_text(self, row: int) -> str:
@@ -180,6 +181,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         if field.into is not None:
             reasons.add(chunk.number(field.key).given & chunk.number(field.into).given, _both(field, chunk))
         number(field.key, required=field.required)
+    _urine(chunk, number, given, reasons)
     line = choice("line")
     method = choice("tbw-method")
     use_watson = np.where(method == "", formulary.settings.tbw_method, method) == "watson"
@@ -269,6 +271,21 @@ def _dose_weights(
         return str(dose_weight_height_error(agent.id, agent.dose_weight))
 
     reasons.add(missing, message)
+
+
+def _urine(chunk: ChunkCells, number: Callable[[str], None], given: dict[str, np.ndarray], reasons: _Reasons) -> None:
+    """The urine columns, read and paired as `inputs.parse_urine` reads and pairs them."""
+    for field in URINE_FIELDS:
+        number(field.key)
+    volume, sodium, potassium = (given[field.key] for field in URINE_FIELDS)
+
+    def alone(key: str) -> Callable[[int], str]:
+        return lambda i: _error(key, chunk.shown(key, i), "needs a urine volume", URINE_VOLUME_ACCEPTED)
+
+    reasons.add(sodium & ~volume, alone("urine-sodium"))
+    reasons.add(potassium & ~volume & ~sodium, alone("urine-potassium"))
+    message = _error("urine-sodium", None, "is required with a urine volume", URINE_SODIUM_ACCEPTED)
+    reasons.add(volume & ~sodium, lambda i: message)
 
 
 def _read_doses(

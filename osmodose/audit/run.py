@@ -23,6 +23,7 @@ from osmodose.audit.columns import Header
 from osmodose.audit.convert import Converted, convert
 from osmodose.audit.reader import open_orders
 from osmodose.case.inputs import Patient
+from osmodose.check.balance import urine_problems, urine_volume_error
 from osmodose.check.engine import compute
 from osmodose.check.judging import SEVERITY_NAMES
 from osmodose.check.rules import RuleOutcome, apply_rules
@@ -53,6 +54,12 @@ FIGURES: tuple[tuple[str, str], ...] = (
     ("sodium_change_per_litre_mmol_l", "sodium_change_per_litre"),
     ("projected_sodium_mmol_l", "projected_sodium"),
     ("projected_sodium_rise_mmol_l", "projected_rise"),
+    # check --json's projected_sodium_range_mmol_l [low, high], as two columns.
+    ("projected_sodium_without_losses_mmol_l", "projected_sodium_without_losses"),
+    ("projected_sodium_range_low_mmol_l", "projected_sodium_low"),
+    ("projected_sodium_range_high_mmol_l", "projected_sodium_high"),
+    ("electrolyte_free_water_clearance_l", "free_water_clearance_l"),
+    ("free_water_deficit_l", "free_water_deficit_l"),
 )
 
 
@@ -121,7 +128,7 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     good = converted.good()
     cases = converted.cases()
     with np.errstate(all="ignore"):
-        figures = compute(cases, formulary.agents, formulary.settings)
+        figures = compute(cases, formulary.agents, formulary.settings, formulary.limits)
         outcomes = apply_rules(cases, figures, formulary.agents, formulary.limits, converted.line, formulary.settings)
         unreachable, implausible = volume_problems(converted.mode, figures.volume_ml)
         weight = cases.weight_kg
@@ -131,6 +138,10 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     for i in np.flatnonzero(bad_tbw).tolist():
         patient = Patient(weight_kg=float(weight[i]), age_years=float(cases.age_years[i]), sex="male")
         reasons[i] = str(tbw_error(True, patient, float(figures.tbw_l[i]), formulary.settings.adult_age_years))
+    bad_urine = good & ~bad_tbw & urine_problems(cases.urine_column("urine-volume"), figures.tbw_low_l)
+    for i in np.flatnonzero(bad_urine).tolist():
+        reasons[i] = str(urine_volume_error(converted.shown("urine-volume", i), float(figures.tbw_low_l[i])))
+    bad_tbw = bad_tbw | bad_urine
     failed = good & ~bad_tbw & (converted.mode != "") & (unreachable | implausible)
     for i in np.flatnonzero(failed).tolist():
         agent = formulary.agents[int(converted.agent_index[i])]

@@ -25,7 +25,7 @@ from osmodose.science.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, YES_NO, C
 from osmodose.science.ranges import Range
 from osmodose.science.units import Quantity, as_osmolar, is_bare_number, one, parse_quantity, ureg
 
-Group = Literal["patient", "condition", "labs", "order", "written", "reading", "entry"]
+Group = Literal["patient", "condition", "labs", "urine", "order", "written", "reading", "entry"]
 Kind = Literal["quantity", "choice", "text", "dose", "flag"]
 
 
@@ -195,6 +195,15 @@ FIELDS: dict[str, CaseField] = {
         _number("osmolality", "labs", "osmolality", "measured serum osmolality; bare number = mOsm/kg",
                 "measured, mOsm/kg", "mOsm/kg", 200.0, 450.0, "osmolality_mosm_kg", accepted=("mOsm/kg", "mmol/kg"),
                 loinc=_OSMOLALITY),
+        # urine passed over the same period as the infusion (the full mass balance): 20 L is above the largest
+        # outputs over a day (diabetes insipidus), urine sodium rarely passes 300 and potassium 200 mmol/L
+        # (from memory); typing-error catchers, no LOINC codes (a spot urine is not the urine of the period)
+        _number("urine-volume", "urine", "urine vol", "urine expected over the same period as the infusion; "
+                "bare number = mL (e.g. 800, 1.2L)", "mL, same period", "mL", 0.0, 20000.0, "urine_volume_ml"),
+        _number("urine-sodium", "urine", "urine Na", "urine sodium, needed with a urine volume; bare number = mmol/L",
+                "mmol/L", "mmol/L", 0.0, 400.0, "urine_sodium_mmol_l"),
+        _number("urine-potassium", "urine", "urine K", "urine potassium; bare number = mmol/L (not given: taken as "
+                "0, which overstates the rise)", "mmol/L", "mmol/L", 0.0, 250.0, "urine_potassium_mmol_l"),
         # the order
         CaseField("agent", "order", "agent", "agent id from the formulary", kind="text", empty="no order"),
         CaseField("dose", "order", "dose", "dose per kg (1g/kg, 5mL/kg) or absolute (50g, 120mmol)",
@@ -224,6 +233,8 @@ FIELDS: dict[str, CaseField] = {
         # what every course entry carries
         CaseField("time", "entry", "time", TIME_HELP, "2026-12-01T08:30+00:00, or now", kind="text", required=True),
         CaseField("label", "entry", "label", "free text to tell episodes apart (bed, initials)", kind="text"),
+        _number("over", "entry", "over", "the period a urine output was collected over, ending at its time; bare "
+                "number = minutes (e.g. 60, 4h)", "min, or 4 h", "min", 1.0, 7 * 24 * 60.0, "over_min"),
     )
 }  # fmt: skip
 
@@ -235,6 +246,8 @@ LAB_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group 
 #: Every lab a user may type, including those read into another (BUN into urea).
 LAB_KEYS: tuple[str, ...] = tuple(f.key for f in FIELDS.values() if f.group == "labs")
 DOSE_MODES: tuple[str, ...] = DOSE_MODE.values
+#: Urine passed over the infusion's period: volume, sodium, potassium (the full mass balance).
+URINE_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group == "urine")
 
 
 def keys(*groups: Group) -> tuple[str, ...]:

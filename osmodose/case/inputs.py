@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, create_model
 
-from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read
+from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, URINE_FIELDS, read
 from osmodose.case.provenance import DataIn
 from osmodose.errors import InputError
 from osmodose.science.choices import LINE, SEX, TBW_METHOD, YES_NO, DoseMode, Line, Sex, TbwMethod
@@ -35,12 +35,14 @@ __all__ = [
     "Patient",
     "Sex",
     "TbwMethod",
+    "Urine",
     "given_fields",
     "lab_fields",
     "need",
     "parse_check_request",
     "parse_dose",
     "parse_labs",
+    "parse_urine",
 ]
 
 
@@ -101,6 +103,24 @@ else:
     Labs = create_model("Labs", __base__=LabValues, __doc__="Serum labs in SI units, from the fields.", **lab_fields())
 
 
+class Urine(BaseModel):
+    """Urine passed over the same period as the infusion: what the full mass balance takes out."""
+
+    model_config = _FROZEN
+
+    volume_ml: float
+    """Urine volume over the infusion's period, mL."""
+    sodium_mmol_l: float
+    """Urine sodium, mmol/L."""
+    potassium_mmol_l: float | None = None
+    """Urine potassium, mmol/L; None when not measured (then taken as 0, which makes the projection err high)."""
+
+    @property
+    def cations_mmol_l(self) -> float:
+        """Na + K of the urine, the urine's term of the balance (potassium 0 when not measured)."""
+        return self.sodium_mmol_l + (self.potassium_mmol_l or 0.0)
+
+
 class DoseRequest(BaseModel):
     """How much of which agent: a dose, a volume or a target sodium change."""
 
@@ -140,6 +160,10 @@ class CheckRequest(BaseModel):
     """The patient has raised intracranial pressure (`--raised-icp`, or ICP readings in a course)."""
     data_in: DataIn | None = None
     """The labs file the case was read from, with each value's origin and age; None when all was typed."""
+    urine: Urine | None = None
+    """Urine passed over the infusion's period; None: no losses in the projection."""
+    tbw_l: float | None = None
+    """A total body water to use instead of the estimate (a course's apparent TBW); None: estimated."""
 
 
 def given_fields(fields: dict[str, object]) -> dict[str, object]:
@@ -172,6 +196,7 @@ def parse_check_request(
     height = read("height", given["height"]) if "height" in given else None
     patient = Patient(weight_kg=weight, age_years=age, sex=sex, height_cm=height)
     labs = parse_labs(given)
+    urine = parse_urine(given)
     line = LINE.read("line", given["line"]) if "line" in given else None
     tbw_method = TBW_METHOD.read("tbw-method", given["tbw-method"]) if "tbw-method" in given else None
     return CheckRequest(
@@ -183,6 +208,33 @@ def parse_check_request(
         entered=entered,
         raised_icp=read_flag("raised-icp", given),
         data_in=data_in,
+        urine=urine,
+    )
+
+
+URINE_VOLUME_ACCEPTED = "a urine volume with it, e.g. --urine-volume 800"
+URINE_SODIUM_ACCEPTED = "the urine's sodium in mmol/L, e.g. --urine-sodium 40"
+
+
+def parse_urine(fields: dict[str, object]) -> Urine | None:
+    """Urine passed over the infusion's period, or None when none is typed.
+
+    Each value is read by the field table; a volume needs the urine's sodium
+    (the balance cannot guess it), and a sodium or potassium needs a volume.
+    """
+    given = given_fields(fields)
+    values = {f.key: read(f.key, given[f.key]) for f in URINE_FIELDS if f.key in given}
+    if not values:
+        return None
+    if "urine-volume" not in values:
+        key = next(iter(values))
+        raise InputError(key, given[key], "needs a urine volume", URINE_VOLUME_ACCEPTED)
+    if "urine-sodium" not in values:
+        raise InputError("urine-sodium", None, "is required with a urine volume", URINE_SODIUM_ACCEPTED)
+    return Urine(
+        volume_ml=values["urine-volume"],
+        sodium_mmol_l=values["urine-sodium"],
+        potassium_mmol_l=values.get("urine-potassium"),
     )
 
 

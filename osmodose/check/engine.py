@@ -12,13 +12,16 @@ columns too, gathered from the formulary by index.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
+from osmodose.check.judging import threshold, threshold_below
 from osmodose.formulary.file_model import SettingsTable
+from osmodose.formulary.limits import Limits, default_limits
 from osmodose.formulary.model import Agent
 from osmodose.science import formulas as f
+from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT
 
 #: The weights a per-kg dose can be worked on (an agent's `dose_weight`), by code.
 DOSE_WEIGHTS: tuple[str, ...] = ("actual", "ideal", "adjusted")
@@ -113,9 +116,19 @@ class Cases:
     raised_icp: np.ndarray | None = None  # None: no case has raised intracranial pressure
     #: Hours from the sodium's draw to the check, where a labs file gave the time; None or NaN: not known.
     sodium_age_h: np.ndarray | None = None
+    #: Urine passed over the infusion's period, keyed by field key ("urine-volume" mL, "urine-sodium" and
+    #: "urine-potassium" mmol/L), NaN where not given; a key left out is not given for any case.
+    urine: Mapping[str, np.ndarray] = field(default_factory=dict)
+    #: A total body water to use instead of the estimate (a course's apparent TBW), litres; NaN or None: estimate.
+    tbw_override_l: np.ndarray | None = None
 
     def __len__(self) -> int:
         return int(np.size(self.male))
+
+    def urine_column(self, key: str) -> np.ndarray:
+        """One urine column ("urine-volume", "urine-sodium", "urine-potassium"), all NaN when not given."""
+        column = self.urine.get(key)
+        return np.full(len(self), np.nan) if column is None else np.asarray(column, dtype=float)
 
     @property
     def sodium(self) -> np.ndarray:
@@ -156,10 +169,32 @@ class Figures:
     bmi: np.ndarray
     dosing_weight_kg: np.ndarray
     osmoles_mosm_per_kg_min: np.ndarray
+    # With urine given, `projected_sodium` and `projected_rise` are the full balance (losses taken out);
+    # this is the infusate alone, as without urine.
+    projected_sodium_without_losses: np.ndarray
+    #: The projected range (see `projection_range`), mmol/L.
+    projected_sodium_low: np.ndarray
+    projected_sodium_high: np.ndarray
+    #: The total body water the range spans, litres.
+    tbw_low_l: np.ndarray
+    tbw_high_l: np.ndarray
+    #: The other method's TBW the range also spans (Watson against the fractions), NaN where none.
+    tbw_other_l: np.ndarray
+    #: Electrolyte-free water in the urine given, litres over its period (NaN without urine).
+    free_water_clearance_l: np.ndarray
+    #: Free-water deficit where sodium is above `free_water_deficit_above`, litres (NaN otherwise).
+    free_water_deficit_l: np.ndarray
 
 
-def total_body_water(cases: Cases, settings: SettingsTable) -> np.ndarray:
-    """TBW in litres: Watson where asked (and height given), else the fractions."""
+def tbw_estimates(cases: Cases, settings: SettingsTable) -> tuple[np.ndarray, np.ndarray]:
+    """(TBW used, the other method's TBW) in litres.
+
+    Used: a given override (a course's apparent TBW), else Watson where asked
+    (and height given), else the fractions.  Other: Watson for an adult with
+    a height when the fractions are used, the fractions when Watson is, NaN
+    where there is none (no height, a child, an override, or a Watson result
+    outside the share of body weight a body can hold).
+    """
     fraction = f.tbw_fraction(
         cases.age_years,
         cases.male,
@@ -169,9 +204,24 @@ def total_body_water(cases: Cases, settings: SettingsTable) -> np.ndarray:
         settings.tbw_fraction_infant,
         settings.tbw_fraction_child,
     )
-    by_fraction = f.tbw_from_fraction(cases.weight_kg, fraction)
-    watson = f.tbw_watson(cases.age_years, cases.height_cm, cases.weight_kg, cases.male)
-    return np.asarray(np.where(cases.use_watson, watson, by_fraction), dtype=float)
+    by_fraction = np.asarray(f.tbw_from_fraction(cases.weight_kg, fraction), dtype=float)
+    watson = np.asarray(f.tbw_watson(cases.age_years, cases.height_cm, cases.weight_kg, cases.male), dtype=float)
+    estimate = np.where(cases.use_watson, watson, by_fraction)
+    low, high = TBW_SHARE_OF_WEIGHT
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = watson / cases.weight_kg
+        watson_fits = (cases.age_years >= settings.adult_age_years) & (low <= share) & (share <= high)
+    other = np.where(cases.use_watson, by_fraction, np.where(watson_fits, watson, np.nan))
+    override = cases.tbw_override_l
+    if override is None:
+        return np.asarray(estimate, dtype=float), np.asarray(other, dtype=float)
+    given = ~np.isnan(override)
+    return np.where(given, override, estimate), np.where(given, np.nan, other)
+
+
+def total_body_water(cases: Cases, settings: SettingsTable) -> np.ndarray:
+    """TBW in litres: an override where given, Watson where asked (and height given), else the fractions."""
+    return tbw_estimates(cases, settings)[0]
 
 
 def dosing_weight(cases: Cases, agent: AgentColumns, adult_age: float) -> np.ndarray:
@@ -194,7 +244,27 @@ def dosing_weight(cases: Cases, agent: AgentColumns, adult_age: float) -> np.nda
     )
 
 
-def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray, weight_kg: np.ndarray) -> np.ndarray:
+@dataclass(frozen=True)
+class UrineColumns:
+    """The urine term of the balance per case: litres and Na + K (0 and 0 where no urine is given)."""
+
+    given: np.ndarray
+    volume_l: np.ndarray
+    cations_mmol_l: np.ndarray
+
+    @classmethod
+    def of(cls, cases: Cases) -> UrineColumns:
+        """A urine volume counts with its sodium; a potassium not given is taken as 0."""
+        volume = cases.urine_column("urine-volume") / f.ML_PER_L
+        sodium = cases.urine_column("urine-sodium")
+        cations = sodium + np.nan_to_num(cases.urine_column("urine-potassium"), nan=0.0)
+        given = ~np.isnan(volume) & ~np.isnan(sodium)
+        return cls(given, np.where(given, volume, 0.0), np.where(given, cations, 0.0))
+
+
+def dose_volume_ml(
+    cases: Cases, agent: AgentColumns, tbw_l: np.ndarray, weight_kg: np.ndarray, urine: UrineColumns | None = None
+) -> np.ndarray:
     """The volume each dose request comes to; NaN where it cannot be had.
 
     A request in mmol is of sodium, so it needs a sodium-containing agent; one
@@ -207,7 +277,8 @@ def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray, weight_
     by_mmol = f.volume_for_amount(amount, np.where(agent.sodium_mmol_l > 0, agent.sodium_mmol_l, np.nan))
     by_mosm = f.volume_for_amount(amount, np.where(agent.osmolarity_mosm_l > 0, agent.osmolarity_mosm_l, np.nan))
     cations = np.where(agent.projects_sodium, agent.cations_mmol_l, np.nan)
-    by_rise = f.volume_for_sodium_change(cases.sodium, cations, tbw_l, cases.dose_amount) * f.ML_PER_L
+    out_l, out_c = (0.0, 0.0) if urine is None else (urine.volume_l, urine.cations_mmol_l)
+    by_rise = f.volume_for_sodium_change(cases.sodium, cations, tbw_l, cases.dose_amount, out_l, out_c) * f.ML_PER_L
     volume = np.select(
         [unit == _UNIT_ML, unit == _UNIT_G, unit == _UNIT_MMOL, unit == _UNIT_MOSM, unit == _UNIT_RISE],
         [amount, by_grams, by_mmol, by_mosm, by_rise],
@@ -216,11 +287,13 @@ def dose_volume_ml(cases: Cases, agent: AgentColumns, tbw_l: np.ndarray, weight_
     return np.where(agent.has_agent, np.atleast_1d(volume).astype(float), np.nan)
 
 
-def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> Figures:
-    """All figures for all cases."""
+def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable, limits: Limits | None = None) -> Figures:
+    """All figures for all cases; `limits` (defaults when None) set the projected range and the free-water deficit."""
+    limits = default_limits() if limits is None else limits
     agent = AgentColumns.gather(agents, cases.agent_index)
     labs = cases.labs
-    tbw_l = total_body_water(cases, settings)
+    tbw_l, other_tbw_l = tbw_estimates(cases, settings)
+    urine = UrineColumns.of(cases)
     factor = f.ETHANOL_FACTOR_EMPIRICAL if settings.ethanol_factor == "empirical" else f.ETHANOL_FACTOR_MOLAR
     ethanol = np.nan_to_num(labs["ethanol"], nan=0.0)
     calculated = np.asarray(
@@ -230,7 +303,7 @@ def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> F
     gap = np.asarray(f.osmolar_gap(cases.osmolality, calculated), dtype=float)
 
     weight = dosing_weight(cases, agent, settings.adult_age_years)
-    volume_ml = dose_volume_ml(cases, agent, tbw_l, weight)
+    volume_ml = dose_volume_ml(cases, agent, tbw_l, weight, urine)
     solute_g = np.asarray(f.amount_in_volume(volume_ml, agent.solute_g_per_l), dtype=float)
     sodium_mmol = np.asarray(f.amount_in_volume(volume_ml, agent.sodium_mmol_l), dtype=float)
     osmoles = np.asarray(f.amount_in_volume(volume_ml, agent.osmolarity_mosm_l), dtype=float)
@@ -239,7 +312,16 @@ def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> F
 
     cations = np.where(agent.projects_sodium, agent.cations_mmol_l, np.nan)
     per_litre = np.asarray(f.sodium_change_per_litre(cases.sodium, cations, tbw_l), dtype=float)
-    projected = np.asarray(f.projected_sodium(cases.sodium, cations, tbw_l, volume_ml / f.ML_PER_L), dtype=float)
+    litres = volume_ml / f.ML_PER_L
+    # A urine volume as large as the body's water gives a zero or negative denominator: such a case is refused
+    # after the engine (`balance.urine_problems`), so its figures need no warning here.
+    with np.errstate(divide="ignore", invalid="ignore"):
+        projected = np.asarray(
+            f.projected_sodium(cases.sodium, cations, tbw_l, litres, urine.volume_l, urine.cations_mmol_l), dtype=float
+        )
+        without = np.asarray(f.projected_sodium(cases.sodium, cations, tbw_l, litres), dtype=float)
+        tbw_low, tbw_high = tbw_range(cases, tbw_l, other_tbw_l)
+        low, high = projection_range(cases.sodium, cations, litres, urine, projected, tbw_low, tbw_high, limits)
     return Figures(
         tbw_l=tbw_l,
         calculated_osmolality=calculated,
@@ -266,4 +348,86 @@ def compute(cases: Cases, agents: Sequence[Agent], settings: SettingsTable) -> F
         bmi=np.asarray(f.body_mass_index(cases.weight_kg, cases.height_cm), dtype=float),
         dosing_weight_kg=weight,
         osmoles_mosm_per_kg_min=osmoles / weight / duration,
+        projected_sodium_without_losses=without,
+        projected_sodium_low=low,
+        projected_sodium_high=high,
+        tbw_low_l=tbw_low,
+        tbw_high_l=tbw_high,
+        tbw_other_l=other_tbw_l,
+        free_water_clearance_l=np.where(
+            urine.given,
+            f.electrolyte_free_water_clearance(
+                urine.volume_l,
+                cases.urine_column("urine-sodium"),
+                np.nan_to_num(cases.urine_column("urine-potassium"), nan=0.0),
+                cases.sodium,
+            ),
+            np.nan,
+        ),
+        free_water_deficit_l=free_water_deficit(cases.sodium, tbw_l, limits),
     )
+
+
+def tbw_range(cases: Cases, tbw_l: np.ndarray, other_tbw_l: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The total body water a projection's range spans, litres.
+
+    Both methods where both apply (the fractions against Watson for an adult
+    with a height), each widened by Watson's standard error of estimate (3.76 L
+    men, 3.60 L women: Watson PE et al. Am J Clin Nutr 1980), kept within the
+    share of weight a body can hold.  Watson's error is for adults; for a child
+    it is applied as it is, which gives a wide range by design.
+    """
+    low, high = f.tbw_band(
+        tbw_l, other_tbw_l, f.watson_standard_error(cases.male), cases.weight_kg, *TBW_SHARE_OF_WEIGHT
+    )
+    return np.asarray(low, dtype=float), np.asarray(high, dtype=float)
+
+
+def projection_range(
+    sodium: np.ndarray,
+    cations: np.ndarray,
+    litres: np.ndarray,
+    urine: UrineColumns,
+    projected: np.ndarray,
+    tbw_low: np.ndarray,
+    tbw_high: np.ndarray,
+    limits: Limits,
+) -> tuple[np.ndarray, np.ndarray]:
+    """(low, high) projected sodium, mmol/L, always holding the point `projected`.
+
+    The balance over total body water from `tbw_low` to `tbw_high` and the
+    measured sodium +/- `projection_sodium_error` (2 mmol/L, common practice);
+    then, for a rise where the 24 h rise limits apply (a low starting sodium),
+    the high end is raised to at least `projection_rise_underprediction` of the
+    predicted rise (240 %: those who overcorrected in Mohmand HK et al. Clin J
+    Am Soc Nephrol 2007 rose 2.4 times the Adrogue-Madias prediction).
+    """
+    error = limits.projection_sodium_error or 0.0
+    low, high = f.projected_sodium_range(
+        sodium, cations, tbw_low, tbw_high, litres, error, urine.volume_l, urine.cations_mmol_l
+    )
+    low, high = np.asarray(low, dtype=float), np.asarray(high, dtype=float)
+    share = limits.projection_rise_underprediction
+    rise = projected - sodium
+    if share is not None:
+        with np.errstate(invalid="ignore"):
+            widened = (rise > 0) & rise_limits_apply(sodium, limits)
+        high = np.where(widened, np.fmax(high, sodium + share / 100.0 * rise), high)
+    return np.fmin(low, projected), np.fmax(high, projected)
+
+
+def rise_limits_apply(sodium: np.ndarray, limits: Limits) -> np.ndarray:
+    """Whether the 24 h rise limits apply from this starting sodium (below `sodium_rise_applies_below`)."""
+    below = limits.sodium_rise_applies_below
+    if below is None:
+        return np.ones(np.shape(sodium), dtype=bool)
+    return threshold_below(sodium, below, None) > 0
+
+
+def free_water_deficit(sodium: np.ndarray, tbw_l: np.ndarray, limits: Limits) -> np.ndarray:
+    """TBW (Na / target - 1) where sodium is above `free_water_deficit_above` (145), else NaN."""
+    above, target = limits.free_water_deficit_above, limits.free_water_target_sodium
+    if above is None or target is None:
+        return np.full(np.shape(sodium), np.nan)
+    deficit = f.free_water_deficit(tbw_l, sodium, target)
+    return np.asarray(np.where(threshold(sodium, above, None) > 0, deficit, np.nan), dtype=float)

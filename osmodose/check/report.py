@@ -86,9 +86,11 @@ def render_text(result: CheckResult) -> str:
         lines.append(
             f"  sodium: change per litre {signed(result.sodium_change_per_litre_mmol_l, 'mmol/L')}"
             f"   projected {fmt(result.projected_sodium_mmol_l, 'mmol/L')}"
-            f" ({signed(result.projected_sodium_rise_mmol_l, 'mmol/L')})"
+            f" ({signed(result.projected_sodium_rise_mmol_l, 'mmol/L')}{range_text(result)})"
         )
         lines += order_lines(result)
+        lines += equiosmolar_lines(result)
+    lines += water_lines(result)
     lines.append("")
     if result.findings:
         lines.append("checks:")
@@ -167,7 +169,67 @@ def order_lines(result: CheckResult) -> list[str]:
 
 
 def _method(method: str) -> str:
+    if method == "apparent":
+        return "apparent, from this patient's measured responses"
     return "Watson formula" if method == "watson" else "Adrogue-Madias fraction of weight"
+
+
+def rise_range(result: CheckResult) -> tuple[float, float] | None:
+    """The projected range as changes from the measured sodium, or None."""
+    span = result.projected_sodium_range_mmol_l
+    if span is None:
+        return None
+    sodium = result.labs["sodium_mmol_l"] or 0.0
+    return span[0] - sodium, span[1] - sodium
+
+
+def range_text(result: CheckResult) -> str:
+    """ ", range +4.1 to +9.3" after the projected change; empty without a projection."""
+    span = rise_range(result)
+    return "" if span is None else f"; range {signed(span[0])} to {signed(span[1])}"
+
+
+def volume_text(volume_ml: float | None) -> str:
+    """An agent's volume for the lists: mL to 3 significant digits; beyond any plausible order, said so."""
+    if volume_ml is None:
+        return "cannot"
+    if volume_ml > VOLUME_SHOWN_UP_TO_ML:
+        return f"{volume_ml / 1000:.0f} L (impractical)"
+    return f"{volume_ml:.3g} mL" if volume_ml < 100 else f"{volume_ml:.0f} mL"
+
+
+#: Above this an agent's volume is shown as impractical: the largest plausible order (common practice).
+VOLUME_SHOWN_UP_TO_ML = 5000.0
+
+
+def equiosmolar_lines(result: CheckResult) -> list[str]:
+    """The other osmotherapy agents' volumes with this order's osmoles."""
+    if not result.equiosmolar:
+        return []
+    items = ", ".join(f"{v.agent} {volume_text(v.volume_ml)}" for v in result.equiosmolar)
+    return [f"  equiosmolar (same ideal mOsm): {items}"]
+
+
+def water_lines(result: CheckResult) -> list[str]:
+    """Urine losses and their free water; the free-water deficit and the fluids for the daily fall."""
+    lines = []
+    urine = result.urine
+    if urine is not None:
+        cations = (urine["sodium_mmol_l"] or 0.0) + (urine["potassium_mmol_l"] or 0.0)
+        line = (
+            f"urine over the infusion: {urine['volume_ml']:g} mL, Na + K {cations:g} mmol/L; "
+            f"electrolyte-free water {fmt(result.electrolyte_free_water_clearance_l, 'L', 2)}"
+        )
+        if result.projected_sodium_without_losses_mmol_l is not None:
+            line += f"; projected without these losses {fmt(result.projected_sodium_without_losses_mmol_l, 'mmol/L')}"
+        lines.append(line)
+    if result.free_water_deficit_l is not None:
+        line = f"free-water deficit: {fmt(result.free_water_deficit_l, 'L')}"
+        if result.volumes_for_daily_fall:
+            items = ", ".join(f"{v.agent} {volume_text(v.volume_ml)}" for v in result.volumes_for_daily_fall)
+            line += f"; for the daily fall limit: {items}"
+        lines.append(line)
+    return ["", *lines] if lines else []
 
 
 def _time(moment: object) -> str:

@@ -65,7 +65,7 @@ class PatientFigures(BaseModel):
     sex: Literal["female", "male"]
     height_cm: float | None
     total_body_water_l: float
-    tbw_method: Literal["fraction", "watson"]
+    tbw_method: Literal["fraction", "watson", "apparent"]
     bmi_kg_m2: float | None = None
     """Body mass index, kg/m^2, when a height is given."""
 
@@ -134,6 +134,15 @@ class RiseBudget(BaseModel):
     """The goal band shown (4-8 mmol/L in 24 h; 4-6 at high risk: Verbalis 2013)."""
 
 
+class AgentVolume(BaseModel):
+    """One agent of the formulary and a volume of it (equiosmolar, or for a sodium change)."""
+
+    model_config = _FROZEN
+
+    agent: str
+    volume_ml: float | None
+
+
 class CheckResult(BaseModel):
     """Everything one check found; `status` is the worst finding's severity."""
 
@@ -161,6 +170,14 @@ class CheckResult(BaseModel):
     """The order's share of the 24 h rise limits, where they apply (null otherwise)."""
     labs_file: DataIn | None = None
     """The labs file the case was read from: each value's resource, effective time and age; null when typed."""
+    # The projection with urine losses, its range, free water and equiosmolar volumes (see check.balance).
+    urine: dict[str, float | None] | None = None
+    projected_sodium_without_losses_mmol_l: float | None = None
+    projected_sodium_range_mmol_l: tuple[float, float] | None = None
+    electrolyte_free_water_clearance_l: float | None = None
+    free_water_deficit_l: float | None = None
+    volumes_for_daily_fall: list[AgentVolume] = []
+    equiosmolar: list[AgentVolume] | None = None
 
     def to_json(self) -> dict[str, Any]:
         """The public JSON object (plain types only)."""

@@ -23,7 +23,7 @@ from typing import Literal
 import numpy as np
 
 from osmodose.check import patient_rules as p
-from osmodose.check.engine import AgentColumns, Cases, Figures
+from osmodose.check.engine import AgentColumns, Cases, Figures, UrineColumns
 from osmodose.check.judging import (
     NONE,
     REFUSE,
@@ -91,6 +91,8 @@ class Batch:
     fall: np.ndarray
     osmolar_gap: np.ndarray
     agent_osmolarity: np.ndarray
+    rise_without_losses: np.ndarray
+    rise_high: np.ndarray
     sodium_age_h: np.ndarray
     # Conditions.
     always: np.ndarray
@@ -106,6 +108,8 @@ class Batch:
     other_peripheral: np.ndarray
     # The patient and lab rules' figures and conditions (`check.patient_rules`).
     patient: PatientColumns
+    aquaresis: np.ndarray
+    range_judged: np.ndarray
 
     @classmethod
     def of(
@@ -129,6 +133,7 @@ class Batch:
         peripheral = np.asarray(line) == "peripheral"
         lowering = has_agent & ~not_lowering
         patient = PatientColumns.of(cases, figures, agent, limits, settings or SettingsTable(), lowering)
+        rise_applies = has_agent & applies
         return cls(
             limits=limits,
             agent=agent,
@@ -141,6 +146,8 @@ class Batch:
             fall=-rise,
             osmolar_gap=figures.osmolar_gap,
             agent_osmolarity=agent.osmolarity_mosm_l,
+            rise_without_losses=figures.projected_sodium_without_losses - sodium,
+            rise_high=figures.projected_sodium_high - sodium,
             sodium_age_h=(
                 np.full(np.shape(sodium), np.nan) if cases.sodium_age_h is None else np.asarray(cases.sodium_age_h)
             ),
@@ -154,11 +161,14 @@ class Batch:
             # The 24 h rise limits come from correcting chronic hyponatraemia: they protect a
             # brain adapted to a low sodium. Osmotherapy from a normal sodium is judged by the
             # sodium ceilings instead.
-            rise_applies=has_agent & applies,
+            rise_applies=rise_applies,
             rise_refuse=refuse,
             central_only_peripheral=peripheral & agent.central_only,
             other_peripheral=peripheral & ~agent.central_only,
             patient=patient,
+            aquaresis=rise_applies & dilute_urine(cases),
+            # The point past the refuse limit is refused by sodium-rise-24h: the range adds nothing then.
+            range_judged=rise_applies & (threshold(rise, refuse, None) == 0),
         )
 
     def figure(self, name: str) -> np.ndarray:
@@ -324,6 +334,38 @@ def _dose_rule(figure: str, what: str, kind: DoseKind) -> Rule:
     )
 
 
+def dilute_urine(cases: Cases) -> np.ndarray:
+    """Urine given whose Na + K is below the serum sodium: passing it leaves sodium behind (aquaresis)."""
+    urine = UrineColumns.of(cases)
+    with np.errstate(invalid="ignore"):
+        return urine.given & (urine.volume_l > 0) & (urine.cations_mmol_l < cases.sodium)
+
+
+def _aquaresis_limit(batch: Batch) -> np.ndarray:
+    """The first rise limit in force that the order without the urine's losses stays within (NaN: none)."""
+    warn = batch.limits.sodium_rise_24h_warn
+    warn_limit = np.nan if warn is None else float(warn)
+    without = batch.rise_without_losses
+    within_warn = threshold(without, warn_limit, None) == 0
+    within_refuse = threshold(without, batch.rise_refuse, None) == 0
+    return np.where(within_warn & ~np.isnan(warn_limit), warn_limit, np.where(within_refuse, batch.rise_refuse, np.nan))
+
+
+def _aquaresis(value: float, limit: float, _severity: str) -> str:
+    return (
+        f"urine more dilute than serum (Na + K below the serum sodium: aquaresis) takes the projected rise to "
+        f"{shown(value, limit)} mmol/L, past the limit of {limit:g} mmol/L that the order alone stays within: "
+        "watch the urine output and re-measure sodium early"
+    )
+
+
+def _range_high(value: float, limit: float, _severity: str) -> str:
+    return (
+        f"the high end of the projected rise, {shown(value, limit)} mmol/L, is above the refuse limit of "
+        f"{limit:g} mmol/L: measured rises often outrun the projection (Mohmand 2007); re-measure sodium early"
+    )
+
+
 def _sodium_too_old(value: float, limit: float, _severity: str) -> str:
     return (
         f"the sodium was drawn {shown(value, limit)} h before this check, more than the {limit:g} h limit: "
@@ -409,6 +451,26 @@ RULES: tuple[Rule, ...] = (
         "sodium_rise_24h_warn",
         lambda batch: batch.rise_refuse,
         "rise_applies",
+    ),
+    Rule(
+        "aquaresis-rise",
+        "rise",
+        "projected sodium rise with the urine's losses",
+        "mmol/L",
+        _aquaresis_limit,
+        None,
+        "aquaresis",
+        describe=_aquaresis,
+    ),
+    Rule(
+        "rise-range-high",
+        "rise_high",
+        "high end of the projected sodium rise",
+        "mmol/L",
+        lambda batch: batch.rise_refuse,
+        None,
+        "range_judged",
+        describe=_range_high,
     ),
     Rule(
         "sodium-fall-24h",

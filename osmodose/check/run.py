@@ -14,6 +14,7 @@ import numpy as np
 from osmodose import __version__
 from osmodose.case.fields import FIELDS
 from osmodose.case.inputs import CheckRequest, DoseRequest, Patient
+from osmodose.check.balance import loss_figures, loss_notes, urine_columns, urine_error
 from osmodose.check.engine import Cases, Figures, compute
 from osmodose.check.judging import (
     HIGH_RISK_POTASSIUM_BELOW,
@@ -41,7 +42,7 @@ from osmodose.check.results import (
 from osmodose.check.rules import apply_rules
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary, Limits
-from osmodose.science.ranges import Range
+from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT, Range
 
 MANNITOL_NOTE = (
     "No sodium projection for mannitol: it carries no sodium and stays extracellular "
@@ -65,7 +66,7 @@ HIGH_RISK_NOTE = (
 NO_GLUCOSE_UREA_NOTE = "Calculated osmolality needs glucose and urea (or BUN)."
 VOLUME_RANGE: Range = FIELDS["volume"].bounds
 #: Watson total body water outside this share of body weight is refused (common practice).
-WATSON_FRACTION_RANGE = (0.3, 0.8)
+WATSON_FRACTION_RANGE = TBW_SHARE_OF_WEIGHT
 FILTER_NOTE = "Mannitol 20-25 % crystallises when cold: give it through an in-line filter."
 
 
@@ -98,6 +99,8 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         use_watson=np.array([use_watson]),
         raised_icp=np.array([request.raised_icp]),
         sodium_age_h=col(request.data_in.age_h("sodium") if request.data_in is not None else None),
+        urine=urine_columns(request),
+        tbw_override_l=col(request.tbw_l),
     )
 
 
@@ -118,12 +121,16 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     if dose_weight_problem is not None:
         raise dose_weight_problem
     cases = cases_from_request(request, agent_index, method == "watson")
-    figures = compute(cases, formulary.agents, formulary.settings)
-    problem = tbw_error(
-        method == "watson", request.patient, float(figures.tbw_l[0]), formulary.settings.adult_age_years
-    )
-    if problem is not None:
-        raise problem
+    figures = compute(cases, formulary.agents, formulary.settings, formulary.limits)
+    if request.tbw_l is None:
+        problem = tbw_error(
+            method == "watson", request.patient, float(figures.tbw_l[0]), formulary.settings.adult_age_years
+        )
+        if problem is not None:
+            raise problem
+    urine_problem = urine_error(request, float(figures.tbw_low_l[0]))
+    if urine_problem is not None:
+        raise urine_problem
     if agent is not None and request.dose is not None:
         problem = volume_error(request.dose, agent, request.labs.sodium_mmol_l, float(figures.volume_ml[0]))
         if problem is not None:
@@ -146,7 +153,9 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
     return CheckResult(
         status=worst_status(x.severity for x in findings),
         findings=findings,
-        notes=_notes(request, agent, figures, formulary.limits) + safety_notes(request, agent, figures, formulary),
+        notes=_notes(request, agent, figures, formulary.limits)
+        + safety_notes(request, agent, figures, formulary)
+        + loss_notes(request, agent, figures, formulary),
         formulary=FormularyRef.of(formulary),
         patient=PatientFigures(
             weight_kg=request.patient.weight_kg,
@@ -154,7 +163,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
             sex=request.patient.sex,
             height_cm=request.patient.height_cm,
             total_body_water_l=float(figures.tbw_l[0]),
-            tbw_method="watson" if method == "watson" else "fraction",
+            tbw_method="apparent" if request.tbw_l is not None else ("watson" if method == "watson" else "fraction"),
             bmi_kg_m2=_opt(figures.bmi[0]),
         ),
         labs=request.labs.model_dump(),
@@ -170,6 +179,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         corrected_sodium_mmol_l=corrected_sodium(figures),
         sodium_rise_budget=rise_budget(request, agent, figures, formulary.limits),
         labs_file=request.data_in,
+        **loss_figures(request, agent, figures, formulary),
     )
 
 
@@ -307,7 +317,8 @@ def _notes(request: CheckRequest, agent: Agent | None, figures: Figures, limits:
     if agent is None:
         return notes
     if agent.projects_sodium:
-        notes.append(PROJECTION_NOTE)
+        if request.urine is None:  # with urine, check.balance says what the projection takes out
+            notes.append(PROJECTION_NOTE)
     else:
         notes.append(MANNITOL_NOTE)
     if agent.solute == "mannitol":

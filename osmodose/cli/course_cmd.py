@@ -20,7 +20,9 @@ from osmodose.cli.patient_args import add_field_options, case_fields
 if TYPE_CHECKING:
     pass
 
-HELP = "a course of therapy: serial labs, doses and pressures in an episode file"
+HELP = "a course of therapy: serial labs, doses, pressures and urine outputs in an episode file"
+#: The fields of `course add-output`, keyed as the field table keys them (as `entries.OUTPUT_KEYS`).
+OUTPUT_OPTIONS = ("time", "urine-volume", "urine-sodium", "urine-potassium", "over")
 
 
 def _sub(
@@ -72,6 +74,25 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     reading = _sub(sub, "add-reading", "add a bedside reading: MAP and ICP (CPP = MAP - ICP)", formulary=False)
     add_field_options(reading, ("time", *keys("reading")), required=("time", *keys("reading")))
     reading.set_defaults(handler=run_add_reading)
+
+    output = _sub(
+        sub, "add-output", "add a urine output: its volume, and its sodium and potassium when measured", formulary=False
+    )
+    add_field_options(
+        output,
+        OUTPUT_OPTIONS,
+        required=("time", "urine-volume"),
+        help_for={
+            "time": FIELDS["time"].help + " (the end of the collection)",
+            "urine-volume": "urine volume; bare number = mL (e.g. 800, 1.2L)",
+            "urine-sodium": "urine sodium; bare number = mmol/L (without it the output stays out of the balance)",
+            "urine-potassium": "urine potassium; bare number = mmol/L (not given: taken as 0)",
+            "over": "the collection period ending at --time; bare number = minutes (e.g. 60, 4h); "
+            "without it the output counts at --time",
+        },
+        option_for={"urine-volume": "--volume", "urine-sodium": "--sodium", "urine-potassium": "--potassium"},
+    )
+    output.set_defaults(handler=run_add_output)
 
     show = _sub(sub, "show", "the timeline table and the findings across the course")
     show.add_argument("--json", action="store_true", help="print one JSON object instead of the table")
@@ -164,6 +185,15 @@ def run_add_reading(args: argparse.Namespace) -> int:
     entry = parse_reading(case_fields(args, ("time", *keys("reading"))))
     changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
     return _added(args, f"reading (CPP {entry.cpp_mmhg:g} mmHg)", entry.time, len(changed.readings), "reading")
+
+
+def run_add_output(args: argparse.Namespace) -> int:
+    from osmodose.course.entries import parse_output
+    from osmodose.course.store import update_episode
+
+    entry = parse_output(case_fields(args, OUTPUT_OPTIONS))
+    changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
+    return _added(args, f"urine output of {entry.volume_ml:g} mL", entry.time, len(changed.outputs), "output")
 
 
 def run_show(args: argparse.Namespace) -> int:

@@ -17,6 +17,7 @@ CASE_GROUPS: tuple[tuple[Group, str], ...] = (
     ("patient", "patient"),
     ("condition", "patient condition"),
     ("labs", "labs"),
+    ("urine", "urine over the infusion (optional: the projection then takes these losses out)"),
     ("order", "order"),
 )
 
@@ -26,8 +27,13 @@ def add_field_options(
     names: Iterable[str],
     required: Iterable[str] = (),
     help_for: dict[str, str] | None = None,
+    option_for: dict[str, str] | None = None,
 ) -> None:
-    """An option per field key in `names`; `required` makes some mandatory, `help_for` rewords some."""
+    """An option per field key in `names`; `required` makes some mandatory, `help_for` rewords some.
+
+    `option_for` names a field's option otherwise (`course add-output --volume` is the urine volume);
+    the value is still kept under the field's key.
+    """
     must = set(required)
     for key in names:
         field = FIELDS[key]
@@ -36,7 +42,9 @@ def add_field_options(
             parser.add_argument(field.option, action="store_const", const="yes", default=None, help=text)
             continue
         metavar = "|".join(field.choice.values) if field.choice is not None else "VALUE"
-        parser.add_argument(field.option, required=key in must, help=text, metavar=metavar)
+        option = (option_for or {}).get(key, field.option)
+        dest = key.replace("-", "_")
+        parser.add_argument(option, dest=dest, required=key in must, help=text, metavar=metavar)
 
 
 def add_case_options(parser: argparse.ArgumentParser, order: bool = True, labs: bool = False) -> None:
@@ -63,5 +71,5 @@ def add_case_options(parser: argparse.ArgumentParser, order: bool = True, labs: 
 
 def case_fields(args: argparse.Namespace, names: Iterable[str] | None = None) -> dict[str, object]:
     """The typed text of every field option given to the parser, keyed as the field table keys it."""
-    wanted = keys("patient", "condition", "labs", "order") if names is None else tuple(names)
+    wanted = keys("patient", "condition", "labs", "urine", "order") if names is None else tuple(names)
     return {key: getattr(args, key.replace("-", "_")) for key in wanted if hasattr(args, key.replace("-", "_"))}

@@ -69,7 +69,7 @@ def run(args: argparse.Namespace) -> int:
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
 
     formulary = formulary_from_args(args)
-    typed = case_fields(args, keys("patient", "condition", "labs"))
+    typed = case_fields(args, keys("patient", "condition", "labs", "urine"))
     fields, data_in = with_labs(args, typed, keys("patient", "labs"))
     request = parse_check_request(fields, data_in=data_in)
     order = parse_order(case_fields(args, WRITTEN_ORDER_KEYS))

@@ -17,7 +17,7 @@ from collections.abc import Mapping
 from osmodose.case.fields import LAB_FIELDS, LAB_KEYS, keys, read
 from osmodose.case.inputs import given_fields, need, parse_labs
 from osmodose.case.times import parse_time
-from osmodose.course.episode import DoseEntry, EpisodePatient, LabEntry, ReadingEntry
+from osmodose.course.episode import DoseEntry, EpisodePatient, LabEntry, OutputEntry, ReadingEntry
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.science.choices import SEX, TBW_METHOD
@@ -73,3 +73,23 @@ def parse_reading(fields: Mapping[str, object]) -> ReadingEntry:
     for name in keys("reading"):
         values[name] = read(name, need(given, name))
     return ReadingEntry(time=time, map_mmhg=values["map"], icp_mmhg=values["icp"])
+
+
+#: The fields of a urine output entry, keyed as the field table keys them (`course add-output` names the
+#: first three --volume, --sodium and --potassium).
+OUTPUT_KEYS: tuple[str, ...] = ("time", "urine-volume", "urine-sodium", "urine-potassium", "over")
+
+
+def parse_output(fields: Mapping[str, object]) -> OutputEntry:
+    """A urine output from typed time, volume and optional sodium, potassium and collection period."""
+    given = given_fields(dict(fields))
+    time = parse_time(given.get("time"))
+    volume = read("urine-volume", need(given, "urine-volume"))
+    values = {key: read(key, given[key]) for key in ("urine-sodium", "urine-potassium", "over") if key in given}
+    return OutputEntry(
+        time=time,
+        volume_ml=volume,
+        sodium_mmol_l=values.get("urine-sodium"),
+        potassium_mmol_l=values.get("urine-potassium"),
+        over_min=values.get("over"),
+    )

@@ -26,7 +26,7 @@ from osmodose.science.choices import Sex, TbwMethod
 from osmodose.science.formulas import cerebral_perfusion_pressure
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
-FORMAT_VERSION: Literal[3] = 3
+FORMAT_VERSION: Literal[4] = 4
 
 _FILE = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
@@ -54,6 +54,10 @@ Volume = Annotated[float, _ranged("volume")]
 Duration = Annotated[float, _ranged("duration")]
 Map = Annotated[float, _ranged("map")]
 Icp = Annotated[float, _ranged("icp")]
+UrineVolume = Annotated[float, _ranged("urine-volume")]
+UrineSodium = Annotated[float, _ranged("urine-sodium")]
+UrinePotassium = Annotated[float, _ranged("urine-potassium")]
+Over = Annotated[float, _ranged("over")]
 
 
 class EpisodePatient(BaseModel):
@@ -162,6 +166,23 @@ class ReadingEntry(BaseModel):
         return float(cerebral_perfusion_pressure(self.map_mmhg, self.icp_mmhg))
 
 
+class OutputEntry(BaseModel):
+    """Urine passed: its volume and, when measured, its sodium and potassium, over a period ending at `time`."""
+
+    model_config = _FILE
+
+    time: AwareDatetime
+    """When the collection ended (the output was measured), with its UTC offset."""
+    volume_ml: UrineVolume
+    """Urine volume over the period, mL."""
+    sodium_mmol_l: UrineSodium | None = None
+    """Urine sodium, mmol/L; without it the output stays out of the balance (it cannot be guessed)."""
+    potassium_mmol_l: UrinePotassium | None = None
+    """Urine potassium, mmol/L; not measured: taken as 0 (the balance then errs high)."""
+    over_min: Over | None = None
+    """The collection period ending at `time`, minutes; none: the output counts at `time`."""
+
+
 class _Timed(Protocol):
     @property
     def time(self) -> datetime: ...
@@ -174,12 +195,15 @@ def _by_time(entries: tuple[E, ...]) -> tuple[E, ...]:
     return tuple(sorted(entries, key=lambda entry: entry.time))
 
 
+Entry = LabEntry | DoseEntry | ReadingEntry | OutputEntry
+
+
 class Episode(BaseModel):
     """A whole episode file in the current format; entries are kept in time order."""
 
     model_config = _FILE
 
-    format_version: Literal[3] = FORMAT_VERSION
+    format_version: Literal[4] = FORMAT_VERSION
     """Format of this file; older versions are migrated when read."""
     patient: EpisodePatient
     """The patient."""
@@ -189,23 +213,27 @@ class Episode(BaseModel):
     """Doses given, oldest first."""
     readings: Annotated[tuple[ReadingEntry, ...], AfterValidator(_by_time)] = ()
     """Bedside pressure readings, oldest first."""
+    outputs: Annotated[tuple[OutputEntry, ...], AfterValidator(_by_time)] = ()
+    """Urine outputs, oldest first (by the end of their collection)."""
 
-    def with_entry(self, entry: LabEntry | DoseEntry | ReadingEntry) -> Episode:
+    def with_entry(self, entry: Entry) -> Episode:
         """A copy with one more entry, in time order (the file is never edited in place)."""
-        field = {LabEntry: "labs", DoseEntry: "doses", ReadingEntry: "readings"}[type(entry)]
+        field = {LabEntry: "labs", DoseEntry: "doses", ReadingEntry: "readings", OutputEntry: "outputs"}[type(entry)]
         entries = (*getattr(self, field), entry)
         return Episode.model_validate({**self.model_dump(), field: [e.model_dump() for e in entries]})
 
+    def entries(self) -> list[Entry]:
+        """Every entry of every kind."""
+        return [*self.labs, *self.doses, *self.readings, *self.outputs]
+
     def start(self) -> datetime | None:
         """The earliest time of any entry, the origin of the plot's hours."""
-        entries: list[LabEntry | DoseEntry | ReadingEntry] = [*self.labs, *self.doses, *self.readings]
-        times = [e.time for e in entries]
+        times = [e.time for e in self.entries()]
         return min(times) if times else None
 
     def last(self) -> datetime | None:
         """The latest time of any entry: where a review projects sodium to."""
-        entries: list[LabEntry | DoseEntry | ReadingEntry] = [*self.labs, *self.doses, *self.readings]
-        return max((e.time for e in entries), default=None)
+        return max((e.time for e in self.entries()), default=None)
 
     def to_json_text(self) -> str:
         """The file's text: indented, keys in model order, one trailing newline."""

@@ -43,7 +43,7 @@ def course_findings(timeline: Timeline, limits: Limits, projection: Projection |
         *_pressures(timeline, limits),
         *_stale_labs(timeline, limits),
     ]
-    if projection is not None and len(projection.dose_rows):  # without doses since, the measured rules say it all
+    if projection is not None and projection.moved:  # with nothing since, the measured rules say it all
         found += projected_findings(
             timeline, limits, projection, projection.sodium_now, projection.lab_sodium, "projected sodium now"
         )

@@ -13,6 +13,7 @@ Version history:
   offset, bedside readings (MAP, ICP), patient label and TBW method.
 * 3: entries may name the FHIR resource they were imported from (`sources` on
   labs and readings, `source` on doses), so a repeated import adds nothing twice.
+* 4: urine outputs (volume, optionally sodium, potassium and the collection period).
 """
 
 from __future__ import annotations
@@ -79,8 +80,13 @@ def v2_to_v3(data: Data) -> Data:
     return {**data, "format_version": 3}
 
 
+def v3_to_v4(data: Data) -> Data:
+    """Version 3 had no urine outputs: start with none (nothing else moves)."""
+    return {**data, "format_version": 4, "outputs": []}
+
+
 #: version n -> the step from n to n+1
-MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2, 2: v2_to_v3}
+MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2, 2: v2_to_v3, 3: v3_to_v4}
 
 
 def migrate(data: Data, version: int) -> Data:

@@ -25,21 +25,24 @@ import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from datetime import datetime
+from typing import Literal
 
 import numpy as np
 
-from osmodose.case.fields import keys
-from osmodose.case.inputs import CheckRequest, parse_check_request
+from osmodose.case.fields import keys, read
+from osmodose.case.inputs import CheckRequest, DoseRequest, parse_check_request
 from osmodose.check.judging import high_risk, severity_of, threshold, worst_status
 from osmodose.check.patient_figures import budget_of
 from osmodose.check.results import CheckResult, Finding
 from osmodose.check.run import run_check
+from osmodose.course.apparent_tbw import ApparentTbw, apparent_tbw, apparent_tbw_findings
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
 from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
 from osmodose.course.multi_day import rise_used
 from osmodose.course.plan_osmolality import carried_osmolality, osmolality_findings
 from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
+from osmodose.course.rescue import Rescue, overcorrection_rescue
 from osmodose.course.timeline import (
     LOOKBACK_H,
     SECONDS_PER_HOUR,
@@ -51,6 +54,7 @@ from osmodose.course.timeline import (
 )
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary, Limits
+from osmodose.science import formulas as f
 
 STALE_OSMOLALITY_NOTE = (
     "The check's osmolality figures use the latest lab's glucose and urea with the projected sodium; "
@@ -61,8 +65,37 @@ ORDER_KEYS = keys("order")
 
 
 @dataclass(frozen=True)
+class Variant:
+    """The planned dose worked with one total body water: the estimate, or the patient's apparent one."""
+
+    basis: Literal["estimated", "apparent"]
+    tbw_l: float
+    projection: Projection
+    check: CheckResult
+    findings: list[CourseFinding]
+    notes: list[str]
+
+    @property
+    def status(self) -> str:
+        return worst_status(x.severity for x in (*self.check.findings, *self.findings))
+
+    def rank(self) -> tuple[int, float]:
+        """Worse status first, then the larger projected change: how the worse of two variants is chosen."""
+        change = self.check.projected_sodium_rise_mmol_l
+        return STATUS_RANK[self.status], abs(change) if change is not None else 0.0
+
+
+STATUS_RANK = {"ok": 0, "warn": 1, "refuse": 2}
+
+
+@dataclass(frozen=True)
 class Plan:
-    """The planned dose: the engine's check of it, and the course findings around it."""
+    """The planned dose: the engine's check of it, and the course findings around it.
+
+    `check`, `projection`, `findings` and `notes` are those of the variant the
+    limits are judged on (`judged_on`): the worse of the plan with the
+    estimated total body water and with the patient's apparent one.
+    """
 
     at: datetime
     tbw_l: float
@@ -71,6 +104,10 @@ class Plan:
     check: CheckResult
     findings: list[CourseFinding]
     notes: list[str]
+    variants: tuple[Variant, ...] = ()
+    judged_on: str = "estimated"
+    apparent: ApparentTbw | None = None
+    rescue: Rescue | None = None
 
     @property
     def sodium_after(self) -> float | None:
@@ -81,11 +118,99 @@ class Plan:
         return worst_status(x.severity for x in (*self.check.findings, *self.findings))
 
 
+APPARENT_NOTE = (
+    "Judged on the worse of the two projections: with the estimated total body water ({estimated:.1f} L) and with "
+    "the apparent one this patient's measured responses imply ({apparent:.1f} L, {share:.0f} % of the estimate)."
+)
+TARGET_APPARENT_NOTE = (
+    "With the apparent total body water, the same change of {change:+g} mmol/L takes about {volume:.0f} mL "
+    "instead of {estimated:.0f} mL."
+)
+
+
 def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, object]) -> Plan:
     """Check the order in `fields` (agent, volume or dose, duration, line, time) against the course."""
     at = parse_time(fields.get("time") or "now")
     timeline = build_timeline(episode, formulary)
     tbw_l = episode_tbw_l(episode, formulary)
+    learned = apparent_tbw(timeline, tbw_l, formulary.limits)
+    estimated = _variant(episode, formulary, fields, timeline, at, "estimated", tbw_l)
+    variants = [estimated]
+    notes: list[str] = []
+    dose = estimated.check.dose
+    if learned.combined_l is not None and estimated.check.projected_sodium_mmol_l is not None and dose is not None:
+        request_dose = _same_volume(fields, dose.volume_ml, dose.duration_min)
+        variants.append(
+            _variant(episode, formulary, fields, timeline, at, "apparent", learned.combined_l, request_dose)
+        )
+        notes.append(
+            APPARENT_NOTE.format(estimated=tbw_l, apparent=learned.combined_l, share=learned.share_percent or 0.0)
+        )
+        notes += _target_note(fields, formulary, variants[-1], dose.volume_ml)
+    judged = max(variants, key=Variant.rank)
+    findings = sorted(
+        [*judged.findings, *apparent_tbw_findings(learned, timeline, formulary.limits)],
+        key=lambda item: item.severity != "refuse",
+    )
+    smaller = min(tbw_l, learned.combined_l or tbw_l)
+    rescue = overcorrection_rescue(timeline, estimated.projection, formulary.limits, formulary.agents, smaller)
+    return Plan(
+        at=at,
+        tbw_l=judged.tbw_l,
+        lab=episode.labs[judged.projection.lab_index],
+        projection=judged.projection,
+        check=judged.check,
+        findings=findings,
+        notes=judged.notes + notes,
+        variants=tuple(variants),
+        judged_on=judged.basis,
+        apparent=learned,
+        rescue=rescue,
+    )
+
+
+def _same_volume(fields: Mapping[str, object], volume_ml: float, duration_min: float | None) -> DoseRequest | None:
+    """For a target change: the volume the estimate worked out, so both variants judge the same order."""
+    if not fields.get("target-rise"):
+        return None
+    return DoseRequest(
+        agent_id=str(fields.get("agent") or "").strip(),
+        mode="volume",
+        amount=volume_ml,
+        unit="mL",
+        duration_min=duration_min,
+        text=f"{volume_ml:.1f} (for the target change with the estimated TBW)",
+    )
+
+
+def _target_note(fields: Mapping[str, object], formulary: Formulary, apparent: Variant, volume_ml: float) -> list[str]:
+    """For a target change: the volume that reaches it with the apparent TBW."""
+    if not fields.get("target-rise") or apparent.check.dose is None:
+        return []
+    change = read("target-rise", fields["target-rise"])
+    agent = formulary.agent(apparent.check.dose.agent)
+    litres = f.volume_for_sodium_change(apparent.projection.sodium_now, agent.cations_mmol_l, apparent.tbw_l, change)
+    if math.isnan(litres):
+        return []
+    return [TARGET_APPARENT_NOTE.format(change=change, volume=litres * f.ML_PER_L, estimated=volume_ml)]
+
+
+def _variant(
+    episode: Episode,
+    formulary: Formulary,
+    fields: Mapping[str, object],
+    timeline: Timeline,
+    at: datetime,
+    basis: Literal["estimated", "apparent"],
+    tbw_l: float,
+    dose: DoseRequest | None = None,
+) -> Variant:
+    """The order checked from the sodium projected now, with total body water `tbw_l`.
+
+    The estimate is the engine's own (`episode_tbw_l`); the apparent one is
+    handed to the check as an override, and `dose`, when given, replaces the
+    order (a target change becomes the estimate's volume).
+    """
     projection = project_now(episode, timeline, tbw_l, at)
     if projection is None:
         raise InputError("plan", None, f"needs a lab drawn at or before {when(at)}", "osmodose course add-lab FILE ...")
@@ -107,6 +232,8 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
             "raised-icp": "yes" if raised_icp else fields.get("raised-icp"),
         }
     )
+    if basis == "apparent":
+        request = request.model_copy(update={"tbw_l": tbw_l, **({"dose": dose} if dose is not None else {})})
     check = with_course_context(run_check(request, formulary), timeline, formulary, projection, at)
     findings: list[CourseFinding] = []
     if check.projected_sodium_mmol_l is not None:
@@ -116,7 +243,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
             projection,
             check.projected_sodium_mmol_l,
             projection.sodium_now,
-            "projected sodium after this dose",
+            "projected sodium after this dose" + (" (apparent TBW)" if basis == "apparent" else ""),
         )
         judged_by_check = {"projected-sodium-high", *(x.code for x in check.findings)}
         findings = [x for x in findings if x.code not in judged_by_check]
@@ -126,9 +253,9 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     findings += _mannitol(timeline, formulary, check, at, p.weight_kg)
     findings.sort(key=lambda item: item.severity != "refuse")
     notes = tbw_notes(episode, formulary) + projection.notes + osmolality_notes
-    if len(projection.dose_rows):
+    if projection.moved:
         notes.append(STALE_OSMOLALITY_NOTE)
-    return Plan(at=at, tbw_l=tbw_l, lab=lab, projection=projection, check=check, findings=findings, notes=notes)
+    return Variant(basis=basis, tbw_l=tbw_l, projection=projection, check=check, findings=findings, notes=notes)
 
 
 def check_with_course(request: CheckRequest, formulary: Formulary, episode: Episode, at: datetime) -> CheckResult:

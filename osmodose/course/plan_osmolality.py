@@ -44,7 +44,7 @@ class Carried:
 def carried_osmolality(lab: LabEntry, projection: Projection) -> Carried | None:
     """None while the measured osmolality still holds (no sodium projected since it, or none measured)."""
     change = projection.sodium_now - projection.lab_sodium
-    if lab.osmolality_mosm_kg is None or not len(projection.dose_rows) or change == 0:
+    if lab.osmolality_mosm_kg is None or not projection.moved or change == 0:
         return None
     measured = lab.osmolality_mosm_kg
     return Carried(measured=measured, sodium_change=change, value=measured + OSMOLES_PER_SODIUM * change)
@@ -67,9 +67,10 @@ def osmolality_findings(
     if carried is not None:
         n = len(projection.dose_rows)
         shown = "n/a" if calculated is None else f"{calculated:.1f}"
+        since = f"the {n} dose{'s' if n > 1 else ''}" if n else "the urine output"
         notes.append(
             f"Osmolar gap n/a: the measured osmolality {carried.measured:g} mOsm/kg ({when(lab.time)}) predates "
-            f"the {n} dose{'s' if n > 1 else ''} since, so it is not set against the osmolality calculated from "
+            f"{since} since, so it is not set against the osmolality calculated from "
             f"the projected sodium; osmolality is judged as the larger of the calculated ({shown}) and "
             f"{carried.measured:g} + 2 x {carried.sodium_change:.1f} = {carried.value:.1f} mOsm/kg. "
             "Re-measure before dosing on it."

@@ -64,6 +64,15 @@ def write_plot(series: CourseSeries, path: Path | str, title: str = "") -> None:
             if series.reading_hours:
                 bottom.plot(at(series.reading_hours), series.icp, "o-", color="tab:purple", label="ICP")
                 bottom.plot(at(series.reading_hours), series.cpp, "s-", color="tab:green", label="CPP")
+            for k, (h_before, before, h_low, low) in enumerate(series.icp_responses):
+                bottom.annotate(
+                    "",
+                    xy=(at((h_low,))[0], low),
+                    xytext=(at((h_before,))[0], before),
+                    arrowprops={"arrowstyle": "->", "color": "grey", "alpha": 0.7},
+                )
+                if k == 0:  # one legend entry for the arrows
+                    bottom.plot([], [], color="grey", alpha=0.7, label="ICP response to a dose")
             if series.icp_treat_above is not None:
                 threshold = series.icp_treat_above
                 bottom.axhline(

@@ -15,11 +15,24 @@ import numpy as np
 
 from osmodose.check.report import STATUS_MARK, STATUS_WORDS, render_text
 from osmodose.check.results import CAUTION, FormularyRef
+from osmodose.course.apparent_tbw import ApparentTbw, apparent_tbw, apparent_tbw_findings
 from osmodose.course.episode import Episode
 from osmodose.course.findings import CourseFinding, course_findings, when
+from osmodose.course.icp_response import IcpResponse, icp_responses
 from osmodose.course.plan import Plan
 from osmodose.course.projection import ProjectedPath, Projection, episode_tbw_l, project_now, projected_path, tbw_notes
 from osmodose.course.projection import tbw_method as method_of
+from osmodose.course.report_response import (
+    apparent_json,
+    apparent_lines,
+    dose_details,
+    icp_json,
+    icp_lines,
+    output_rows,
+    plan_json_extras,
+    plan_projection_lines,
+    rescue_lines,
+)
 from osmodose.course.timeline import Timeline, build_timeline
 from osmodose.formulary.model import Formulary
 
@@ -44,6 +57,10 @@ class Review:
     projection: Projection | None
     findings: list[CourseFinding]
     notes: list[str]
+    apparent: ApparentTbw | None = None
+    """The apparent total body water the measured responses imply (per interval between labs, and combined)."""
+    icp: tuple[IcpResponse, ...] = ()
+    """The ICP response of each dose with readings around it."""
 
     @property
     def status(self) -> str:
@@ -57,6 +74,10 @@ def review(episode: Episode, formulary: Formulary) -> Review:
     tbw_l = episode_tbw_l(episode, formulary)
     last = episode.last()
     projection = project_now(episode, timeline, tbw_l, last) if episode.labs and last is not None else None
+    learned = apparent_tbw(timeline, tbw_l, formulary.limits)
+    findings = course_findings(timeline, formulary.limits, projection)
+    findings += apparent_tbw_findings(learned, timeline, formulary.limits)
+    findings.sort(key=lambda item: item.severity != "refuse")
     return Review(
         episode=episode,
         formulary=formulary,
@@ -65,8 +86,10 @@ def review(episode: Episode, formulary: Formulary) -> Review:
         timeline=timeline,
         path=projected_path(timeline, tbw_l) if episode.labs else None,
         projection=projection,
-        findings=course_findings(timeline, formulary.limits, projection),
+        findings=findings,
         notes=tbw_notes(episode, formulary) + (projection.notes if projection else []),
+        apparent=learned,
+        icp=tuple(icp_responses(timeline, formulary.limits)),
     )
 
 
@@ -99,6 +122,7 @@ def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
             text += "  24 h rise " + ("n/a" if np.isnan(rise) else f"{rise:+.1f}")
         rows.append((float(labs.t[j]), 0, when(lab.time), "lab", text))
     doses = tl.doses
+    icp = {response.dose_row: response for response in result.icp}
     for j, dose in enumerate(ep.doses):
         text = f"{dose.agent_id} {dose.volume_ml:g} mL"
         if dose.duration_min:
@@ -108,11 +132,13 @@ def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
         if result.path is not None and not np.isnan(result.path.dose_sodium[j]):
             projected = result.path.dose_sodium[j]
             text += f"  -> projected Na {projected:.1f}" if doses.agent.projects_sodium[j] else "  (no projection)"
+        text += dose_details(j, result.apparent, icp)
         rows.append((float(doses.t[j]), 1, when(dose.time), "dose", text))
     r = tl.readings
     for j, reading in enumerate(ep.readings):
         text = f"MAP {r.map[j]:.0f}  ICP {r.icp[j]:.0f}  CPP {r.cpp[j]:.0f}"
         rows.append((float(r.t[j]), 2, when(reading.time), "reading", text))
+    rows += [(t, 3, time, "urine", text) for t, time, text in output_rows(ep, tl)]
     rows.sort(key=lambda row: (row[0], row[1]))
     return [(time, kind, text) for _, _, time, kind, text in rows]
 
@@ -136,11 +162,14 @@ def projection_line(projection: Projection | None, timeline: Timeline) -> str:
         return "projected sodium: n/a (no labs)"
     n = len(projection.dose_rows)
     drawn = when(timeline.labs.times[projection.lab_index])
-    if not n:
+    if not projection.moved:
         return f"latest sodium: {projection.lab_sodium:.1f} mmol/L at {drawn} (no dose since)"
+    through = [f"{n} dose{'s' if n > 1 else ''}"] if n else []
+    if len(projection.losses.t):
+        through.append(f"{projection.losses.volume_ml:.0f} mL of urine")
     return (
         f"projected sodium now: {projection.sodium_now:.1f} mmol/L "
-        f"(from {projection.lab_sodium:.1f} at {drawn} through {n} dose{'s' if n > 1 else ''} since)"
+        f"(from {projection.lab_sodium:.1f} at {drawn} through {' and '.join(through)} since)"
     )
 
 
@@ -164,7 +193,9 @@ def render_review_text(result: Review, path: Path | str) -> str:
     ]
     if not rows:
         lines.append("(no entries yet)")
-    lines += ["", projection_line(result.projection, result.timeline), "", *_findings_lines(result.findings)]
+    lines += ["", projection_line(result.projection, result.timeline)]
+    lines += [*apparent_lines(result.apparent), *icp_lines(list(result.icp), result.timeline.doses.agent_ids)]
+    lines += ["", *_findings_lines(result.findings)]
     if result.notes:
         lines += ["notes:", *[f"  - {note}" for note in result.notes]]
     lines += ["", CAUTION]
@@ -190,6 +221,7 @@ def _projection_json(projection: Projection | None, result_timeline: Timeline) -
 
 def review_json(result: Review, path: Path | str) -> dict[str, Any]:
     tl, ep = result.timeline, result.episode
+    icp = {response.dose_row: response for response in result.icp}
     labs = [
         {
             **lab.model_dump(mode="json"),
@@ -210,9 +242,12 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
                 if result.path is not None and tl.doses.agent.projects_sodium[j]
                 else None
             ),
+            "apparent_tbw_l": result.apparent.for_dose(j) if result.apparent is not None else None,
+            "icp_response": icp_json(icp.get(j)),
         }
         for j, dose in enumerate(ep.doses)
     ]
+    outputs = [output.model_dump(mode="json") for output in ep.outputs]
     readings = [{**r.model_dump(mode="json"), "cpp_mmhg": r.cpp_mmhg} for r in ep.readings]
     return {
         "status": result.status,
@@ -224,7 +259,10 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
         "labs": labs,
         "doses": doses,
         "readings": readings,
+        "outputs": outputs,
         "projection": _projection_json(result.projection, tl),
+        "apparent_tbw_l": result.apparent.combined_l if result.apparent is not None else None,
+        "apparent_tbw": apparent_json(result.apparent, tl),
         "findings": [x.model_dump(mode="json") for x in result.findings],
         "notes": result.notes,
         "caution": CAUTION,
@@ -246,6 +284,9 @@ def render_plan_text(plan: Plan, path: Path | str) -> str:
     )
     after = plan.sodium_after
     lines.append("projected sodium after this dose: " + ("n/a" if after is None else f"{after:.1f} mmol/L"))
+    lines += plan_projection_lines(plan)
+    rescue = rescue_lines(plan.rescue)
+    lines += ["", *rescue] if rescue else []
     lines += ["", *_findings_lines(plan.findings)]
     if plan.notes:
         lines += ["notes:", *[f"  - {note}" for note in plan.notes]]
@@ -265,5 +306,6 @@ def plan_json(plan: Plan, path: Path | str) -> dict[str, Any]:
         "findings": [x.model_dump(mode="json") for x in plan.findings],
         "notes": plan.notes,
         "check": plan.check.to_json(),
+        **plan_json_extras(plan),
         "caution": CAUTION,
     }

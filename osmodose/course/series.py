@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from datetime import datetime
 
 from osmodose.course.episode import Episode
+from osmodose.course.icp_response import icp_responses
 from osmodose.course.projection import episode_tbw_l, projected_path
 from osmodose.course.timeline import SECONDS_PER_HOUR, build_timeline
 from osmodose.formulary.model import Formulary
@@ -43,6 +44,8 @@ class CourseSeries:
     sodium_refuse: float | None
     icp_treat_above: float | None
     cpp_target_min: float | None
+    icp_responses: tuple[tuple[float, float, float, float], ...] = ()
+    """Per dose with readings before and after it: (hours, ICP before, hours, lowest ICP within the window)."""
 
     @property
     def empty(self) -> bool:
@@ -72,6 +75,12 @@ def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
                 na_line.append(na)
     doses = episode.doses
     limits = formulary.limits
+    responses = tuple(
+        (hours([r.before_time.timestamp()])[0], r.before_mmhg, hours([r.lowest_time.timestamp()])[0], r.lowest_mmhg)
+        for r in icp_responses(timeline, limits)
+        if r.before_time is not None and r.before_mmhg is not None
+        and r.lowest_time is not None and r.lowest_mmhg is not None
+    )  # fmt: skip
     return CourseSeries(
         origin=origin,
         lab_hours=hours(timeline.labs.t),
@@ -86,4 +95,5 @@ def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
         sodium_refuse=limits.sodium_refuse,
         icp_treat_above=limits.icp_treat_above,
         cpp_target_min=limits.cpp_target_min,
+        icp_responses=responses,
     )

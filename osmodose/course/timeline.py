@@ -134,11 +134,38 @@ class ReadingColumns:
 
 
 @dataclass(frozen=True)
+class OutputColumns:
+    """Urine outputs: collected evenly over [t_start, t] (t_start = t when no period is given)."""
+
+    times: tuple[datetime, ...]
+    t: np.ndarray
+    t_start: np.ndarray
+    volume_ml: np.ndarray
+    #: Na + K of each output, mmol/L (potassium 0 when not measured); NaN without a urine sodium.
+    cations_mmol_l: np.ndarray
+
+    @property
+    def known(self) -> np.ndarray:
+        """Outputs whose sodium was measured: the ones the balance can take out."""
+        return ~np.isnan(self.cations_mmol_l)
+
+    def share_in(self, t_from: float, t_to: float) -> np.ndarray:
+        """The share of each output passed in (t_from, t_to]: by overlap over a period, else by its time."""
+        span = self.t - self.t_start
+        overlap = np.clip(np.minimum(self.t, t_to) - np.maximum(self.t_start, t_from), 0.0, None)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            spread = np.where(span > 0, overlap / np.where(span > 0, span, 1.0), 0.0)
+        at_once = (span <= 0) & (self.t > t_from) & (self.t <= t_to)
+        return np.where(span > 0, spread, at_once.astype(float))
+
+
+@dataclass(frozen=True)
 class Timeline:
     weight_kg: float
     labs: LabColumns
     doses: DoseColumns
     readings: ReadingColumns
+    outputs: OutputColumns
 
 
 def lab_columns(episode: Episode, formulary: Formulary) -> LabColumns:
@@ -223,6 +250,21 @@ def reading_columns(episode: Episode) -> ReadingColumns:
     )
 
 
+def output_columns(episode: Episode) -> OutputColumns:
+    outputs = episode.outputs
+    t = _seconds([o.time for o in outputs])
+    over = _column([o.over_min for o in outputs])
+    sodium = _column([o.sodium_mmol_l for o in outputs])
+    potassium = _column([o.potassium_mmol_l for o in outputs])
+    return OutputColumns(
+        times=tuple(o.time for o in outputs),
+        t=t,
+        t_start=t - np.nan_to_num(over, nan=0.0) * 60.0,
+        volume_ml=_column([o.volume_ml for o in outputs]),
+        cations_mmol_l=sodium + np.nan_to_num(potassium, nan=0.0),
+    )
+
+
 def build_timeline(episode: Episode, formulary: Formulary) -> Timeline:
     weight = episode.patient.weight_kg
     return Timeline(
@@ -230,6 +272,7 @@ def build_timeline(episode: Episode, formulary: Formulary) -> Timeline:
         labs=lab_columns(episode, formulary),
         doses=dose_columns(episode, formulary, weight),
         readings=reading_columns(episode),
+        outputs=output_columns(episode),
     )
 
 

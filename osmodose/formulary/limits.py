@@ -384,6 +384,78 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
         "rise within a 24 h window starting a day or more after the lowest sodium, above which it is refused",
         plausible=_RISE,
     ),
+    # --- the projection's range, the free-water deficit, a course's apparent TBW and ICP response ---
+    "projection_sodium_error": LimitSpec(
+        "mmol/L",
+        _CONC,
+        2.0,
+        "common practice (no single source): sodium is reported to 1 mmol/L and repeat "
+        "measurements commonly differ by 1-2 mmol/L",
+        "how far the measured sodium may be from the true one: the projected range starts from sodium +/- this",
+        plausible=(0.0, 10.0),
+        looser="lower",
+    ),
+    "projection_rise_underprediction": LimitSpec(
+        "percent",
+        ("percent",),
+        240.0,
+        "Mohmand HK et al. Clin J Am Soc Nephrol 2007;2:1110: in hyponatraemia treated with 3 % saline the "
+        "observed rise exceeded the Adrogue-Madias prediction in 74 % (sodium below 120), and those who "
+        "overcorrected rose about 2.4 times the prediction",
+        "where the 24 h rise limits apply, the high end of the projected range is at least this share of the "
+        "predicted rise",
+        plausible=(100.0, 500.0),
+        looser="lower",
+    ),
+    "free_water_target_sodium": LimitSpec(
+        "mmol/L",
+        _CONC,
+        140.0,
+        "the free-water deficit TBW x (Na/140 - 1) (secondary sources; Adrogue HJ, Madias NE. "
+        "N Engl J Med 2000;342:1493-9, from memory)",
+        "the sodium the free-water deficit is worked out to",
+        plausible=(130.0, 150.0),
+        looser=None,
+    ),
+    "free_water_deficit_above": LimitSpec(
+        "mmol/L",
+        _CONC,
+        145.0,
+        "hypernatraemia is a serum sodium above 145 mmol/L (Adrogue HJ, Madias NE. N Engl J Med "
+        "2000;342:1493-9, from memory)",
+        "serum sodium above which the free-water deficit is worked out",
+        plausible=(140.0, 160.0),
+        looser=None,
+    ),
+    "apparent_tbw_low_warn": LimitSpec(
+        "percent",
+        ("percent",),
+        60.0,
+        "no single source: a response 1.7 times the predicted one; those who overcorrected in Mohmand HK "
+        "et al. Clin J Am Soc Nephrol 2007 rose 2.4 times the prediction (an apparent TBW near 42 %)",
+        "apparent total body water, as a share of the estimate, below which a course warns (aquaresis likely)",
+        plausible=(10.0, 100.0),
+        looser="lower",
+    ),
+    "icp_response_before_h": LimitSpec(
+        "h",
+        ("h",),
+        1.0,
+        "common practice (no single source): the ICP a dose is judged against is a recent one",
+        "how long before a dose's start the ICP reading it is compared with may be",
+        plausible=(0.1, 24.0),
+        looser=None,
+    ),
+    "icp_response_after_h": LimitSpec(
+        "h",
+        ("h",),
+        2.0,
+        "common practice (no single source): hyperosmolar boluses lower ICP within minutes and most of "
+        "the fall is seen within 1-2 h (from memory)",
+        "how long after a dose's start its lowest ICP is looked for",
+        plausible=(0.1, 24.0),
+        looser=None,
+    ),
 }
 
 #: Pairs whose warn must not exceed refuse.
@@ -445,3 +517,8 @@ class Limits(BaseModel):
         if name in self.from_file:
             return "formulary file"
         return "default: " + LIMIT_SPECS[name].source
+
+
+def default_limits() -> Limits:
+    """Every limit at its default: for code that works out figures without a formulary at hand."""
+    return Limits(values={name: spec.default for name, spec in LIMIT_SPECS.items()})

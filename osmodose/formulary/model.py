@@ -14,7 +14,7 @@ from pydantic import BaseModel, ConfigDict
 from osmodose.errors import InputError
 from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.limits import Limits
-from osmodose.science.chemistry import SOLUTES, SoluteName
+from osmodose.science.chemistry import SOLUTES, SoluteName, is_hypertonic
 
 _FROZEN = ConfigDict(frozen=True)
 
@@ -70,6 +70,12 @@ class Agent(BaseModel):
     def projects_sodium(self) -> bool:
         """Whether the sodium projection applies (not for mannitol)."""
         return SOLUTES[self.solute].projects_sodium
+
+    @property
+    def osmotically_active(self) -> bool:
+        """An agent of osmotherapy: hypertonic, with a solute that stays outside cells (saline, bicarbonate,
+        mannitol), so its osmoles can be set against another's (equiosmolar doses)."""
+        return SOLUTES[self.solute].stays_extracellular and is_hypertonic(self.osmolarity_mosm_l)
 
 
 class Formulary(BaseModel):

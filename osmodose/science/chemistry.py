@@ -52,14 +52,17 @@ class Solute:
     osmoles_per_mole: float
     #: Solutes that stay extracellular and carry no sodium: no sodium projection.
     projects_sodium: bool
+    #: Stays outside cells and is not metabolised, so it holds water out of them: the solutes of
+    #: osmotherapy (glucose enters cells and is metabolised; a mixed fluid's make-up is not known).
+    stays_extracellular: bool = False
 
 
 SOLUTES: dict[str, Solute] = {
     s.name: s
     for s in (
-        Solute("sodium chloride", MOLAR_MASS_G_PER_MOL["sodium chloride"], 1.0, 2.0, True),
-        Solute("sodium bicarbonate", MOLAR_MASS_G_PER_MOL["sodium bicarbonate"], 1.0, 2.0, True),
-        Solute("mannitol", MOLAR_MASS_G_PER_MOL["mannitol"], 0.0, 1.0, False),
+        Solute("sodium chloride", MOLAR_MASS_G_PER_MOL["sodium chloride"], 1.0, 2.0, True, True),
+        Solute("sodium bicarbonate", MOLAR_MASS_G_PER_MOL["sodium bicarbonate"], 1.0, 2.0, True, True),
+        Solute("mannitol", MOLAR_MASS_G_PER_MOL["mannitol"], 0.0, 1.0, False, True),
         # Glucose is metabolised: the infusate becomes free water, so it projects
         # like a sodium-free fluid (Adrogue-Madias treat 5 % dextrose as Na 0).
         Solute("glucose", MOLAR_MASS_G_PER_MOL["glucose"], 0.0, 1.0, True),
@@ -68,3 +71,13 @@ SOLUTES: dict[str, Solute] = {
         Solute("mixed", None, 0.0, 0.0, True),
     )
 }
+
+#: 0.9 % sodium chloride, the reference isotonic infusion: 308 mOsm/L theoretical (product labels).
+ISOTONIC_SALINE_MOSM_L = 308.0
+#: An agent within 1 % of that is isotonic, not hypertonic (labels round; common practice).
+ISOTONIC_MARGIN = 0.01
+
+
+def is_hypertonic(osmolarity_mosm_l: float) -> bool:
+    """Above isotonic saline's 308 mOsm/L by more than label rounding."""
+    return osmolarity_mosm_l > ISOTONIC_SALINE_MOSM_L * (1.0 + ISOTONIC_MARGIN)

@@ -50,6 +50,10 @@ WATSON_MAN_WEIGHT = 0.3362
 WATSON_WOMAN_INTERCEPT = -2.097
 WATSON_WOMAN_HEIGHT = 0.1069
 WATSON_WOMAN_WEIGHT = 0.2466
+#: Watson's published standard errors of estimate, litres (Watson PE et al. Am J Clin Nutr 1980;33:27-39,
+#: abstract): men 3.76 L, women 3.60 L.
+WATSON_SEE_MAN_L = 3.76
+WATSON_SEE_WOMAN_L = 3.60
 
 
 #: Two figures this close, relative to their size, are the same figure: floating-point arithmetic
@@ -148,16 +152,26 @@ def osmolar_gap(measured_mosm_kg: ArrayLike, calculated_mosm_kg: ArrayLike) -> F
 
 
 def projected_sodium(
-    serum_sodium_mmol_l: ArrayLike, infusate_cations_mmol_l: ArrayLike, tbw_l: ArrayLike, volume_l: ArrayLike
+    serum_sodium_mmol_l: ArrayLike,
+    infusate_cations_mmol_l: ArrayLike,
+    tbw_l: ArrayLike,
+    volume_l: ArrayLike,
+    urine_volume_l: ArrayLike = 0.0,
+    urine_cations_mmol_l: ArrayLike = 0.0,
 ) -> Figure:
-    """Serum sodium after infusing `volume_l`, by mass balance, mmol/L.
+    """Serum sodium after infusing `volume_l` while `urine_volume_l` is passed, by mass balance, mmol/L.
 
-    Na_new = Na + V (Na_inf + K_inf - Na) / (TBW + V): Chen S et al. Kidney360
-    2021; at V = 1 L this is the Adrogue-Madias change per litre.  Ongoing
-    losses are not modelled.
+    The full balance of Barsoum NR, Levine BS (Nephrol Dial Transplant
+    2002;17:1176): Na_new = (Na TBW + V_in (Na+K)_in - V_out (Na+K)_out) /
+    (TBW + V_in - V_out), written here as Na + [V_in (C_in - Na) - V_out
+    (C_out - Na)] / (TBW + V_in - V_out).  Without urine (the defaults) this is
+    Na + V (Na_inf + K_inf - Na) / (TBW + V) (Chen S et al. Kidney360 2021),
+    to the last bit, and at V = 1 L the Adrogue-Madias change per litre.
+    Losses other than the urine given (and any other intake) are not modelled.
     """
     na, c, w, v = _arr(serum_sodium_mmol_l), _arr(infusate_cations_mmol_l), _arr(tbw_l), _arr(volume_l)
-    return _out(na + v * (c - na) / (w + v))
+    out, co = _arr(urine_volume_l), _arr(urine_cations_mmol_l)
+    return _out(na + (v * (c - na) - out * (co - na)) / (w + v - out))
 
 
 def sodium_change_per_litre(
@@ -169,20 +183,27 @@ def sodium_change_per_litre(
 
 
 def volume_for_sodium_change(
-    serum_sodium_mmol_l: ArrayLike, infusate_cations_mmol_l: ArrayLike, tbw_l: ArrayLike, change_mmol_l: ArrayLike
+    serum_sodium_mmol_l: ArrayLike,
+    infusate_cations_mmol_l: ArrayLike,
+    tbw_l: ArrayLike,
+    change_mmol_l: ArrayLike,
+    urine_volume_l: ArrayLike = 0.0,
+    urine_cations_mmol_l: ArrayLike = 0.0,
 ) -> Figure:
     """The volume in litres whose projected sodium differs from serum by `change_mmol_l`.
 
-    Solves the mass-balance projection for V: V = R TBW / (C - Na - R).  Where
-    no volume reaches the change (the infusate is on the wrong side of the
-    serum, or not far enough past it) the result is NaN.
+    Solves the full balance (`projected_sodium`, Barsoum & Levine 2002) for
+    V_in: V = [R (TBW - V_out) + V_out (C_out - Na)] / (C_in - Na - R); without
+    urine V = R TBW / (C - Na - R).  Where no positive volume reaches the change
+    (the infusate is on the wrong side of the serum, or not far enough past it,
+    or the urine alone moves sodium past the change) the result is NaN.
     """
     na, c, w, r = _arr(serum_sodium_mmol_l), _arr(infusate_cations_mmol_l), _arr(tbw_l), _arr(change_mmol_l)
-    gap = c - na
-    reachable = (r != 0) & (np.sign(gap) == np.sign(r)) & (np.abs(gap) > np.abs(r))
+    out, co = _arr(urine_volume_l), _arr(urine_cations_mmol_l)
     with np.errstate(divide="ignore", invalid="ignore"):
-        volume = np.where(reachable, r * w / (gap - r), np.nan)
-    return _out(volume)
+        volume = (r * (w - out) + out * (co - na)) / (c - na - r)
+        reachable = (r != 0) & np.isfinite(volume) & (volume > 0) & (w + volume - out > 0)
+    return _out(np.where(reachable, volume, np.nan))
 
 
 def amount_in_volume(volume_ml: ArrayLike, concentration_per_l: ArrayLike) -> Figure:
@@ -258,3 +279,106 @@ def adjusted_body_weight(weight_kg: ArrayLike, ideal_kg: ArrayLike) -> Figure:
     """Ideal + 0.4 x (actual - ideal), kg (common practice)."""
     ideal = _arr(ideal_kg)
     return _out(ideal + ADJUSTED_WEIGHT_FACTOR * (_arr(weight_kg) - ideal))
+
+
+def watson_standard_error(male: ArrayLike) -> Figure:
+    """Watson's standard error of estimate of total body water, litres: 3.76 men, 3.60 women (Watson 1980)."""
+    return _out(np.where(np.asarray(male, dtype=bool), WATSON_SEE_MAN_L, WATSON_SEE_WOMAN_L))
+
+
+def tbw_band(
+    estimate_l: ArrayLike,
+    other_estimate_l: ArrayLike,
+    standard_error_l: ArrayLike,
+    weight_kg: ArrayLike,
+    share_low: float,
+    share_high: float,
+) -> tuple[Figure, Figure]:
+    """(low, high) total body water, litres: the two estimates, each widened by a standard error.
+
+    [min(estimate, other) - SE, max(estimate, other) + SE], where `other` is a
+    second method's estimate (Watson against the fraction of weight; NaN where
+    there is none), kept within `share_low`-`share_high` of body weight and
+    always holding `estimate` itself.
+    """
+    est, other, se, weight = _arr(estimate_l), _arr(other_estimate_l), _arr(standard_error_l), _arr(weight_kg)
+    low = np.maximum(np.fmin(est, other) - se, share_low * weight / KG_PER_LITRE)
+    high = np.minimum(np.fmax(est, other) + se, share_high * weight / KG_PER_LITRE)
+    return _out(np.fmin(low, est)), _out(np.fmax(high, est))
+
+
+def projected_sodium_range(
+    serum_sodium_mmol_l: ArrayLike,
+    infusate_cations_mmol_l: ArrayLike,
+    tbw_low_l: ArrayLike,
+    tbw_high_l: ArrayLike,
+    volume_l: ArrayLike,
+    sodium_error_mmol_l: ArrayLike,
+    urine_volume_l: ArrayLike = 0.0,
+    urine_cations_mmol_l: ArrayLike = 0.0,
+) -> tuple[Figure, Figure]:
+    """(low, high) of the balance (`projected_sodium`) over serum sodium +/- the error and TBW low to high.
+
+    The balance rises with the starting sodium and moves monotonically with
+    total body water, so its extremes over the box are at the four corners.
+    """
+    na, err = _arr(serum_sodium_mmol_l), _arr(sodium_error_mmol_l)
+    corners = [
+        _arr(projected_sodium(na + sign * err, infusate_cations_mmol_l, w, volume_l, urine_volume_l,
+                              urine_cations_mmol_l))
+        for sign in (-1.0, 1.0)
+        for w in (tbw_low_l, tbw_high_l)
+    ]  # fmt: skip
+    return _out(np.minimum.reduce(corners)), _out(np.maximum.reduce(corners))
+
+
+def electrolyte_free_water_clearance(
+    urine_volume_l: ArrayLike,
+    urine_sodium_mmol_l: ArrayLike,
+    urine_potassium_mmol_l: ArrayLike,
+    serum_sodium_mmol_l: ArrayLike,
+) -> Figure:
+    """Electrolyte-free water clearance V (1 - (U_Na + U_K) / P_Na), litres over the urine's period (secondary sources).
+
+    Positive: the urine takes out water free of sodium and potassium, so serum
+    sodium rises; negative: it takes out more than serum carries.
+    """
+    v, una, uk, pna = (
+        _arr(urine_volume_l),
+        _arr(urine_sodium_mmol_l),
+        _arr(urine_potassium_mmol_l),
+        _arr(serum_sodium_mmol_l),
+    )
+    return _out(v * (1.0 - (una + uk) / pna))
+
+
+def free_water_deficit(tbw_l: ArrayLike, serum_sodium_mmol_l: ArrayLike, target_sodium_mmol_l: ArrayLike) -> Figure:
+    """TBW (Na / target - 1), litres: the water that would bring sodium down to the target (secondary sources).
+
+    With the usual target of 140: a 68 kg man of 76 (TBW 34 L) at 168 lacks 6.8 L.
+    Ongoing losses during the correction come on top.
+    """
+    return _out(_arr(tbw_l) * (_arr(serum_sodium_mmol_l) / _arr(target_sodium_mmol_l) - 1.0))
+
+
+def apparent_tbw(
+    sodium_before_mmol_l: ArrayLike,
+    sodium_after_mmol_l: ArrayLike,
+    cations_in_mmol: ArrayLike,
+    volume_in_l: ArrayLike,
+    cations_out_mmol: ArrayLike = 0.0,
+    volume_out_l: ArrayLike = 0.0,
+) -> Figure:
+    """The total body water an observed sodium change implies, litres: the balance solved for TBW.
+
+    From Na_after (TBW + V_in - V_out) = Na_before TBW + (Na+K)_in - (Na+K)_out
+    (Barsoum & Levine 2002): TBW = [(Na+K)_in - (Na+K)_out - Na_after (V_in -
+    V_out)] / (Na_after - Na_before), amounts in mmol.  One dose alone is
+    V (C - Na_after) / (Na_after - Na_before).  NaN where sodium did not move.
+    """
+    before, after = _arr(sodium_before_mmol_l), _arr(sodium_after_mmol_l)
+    cin, vin, cout, vout = _arr(cations_in_mmol), _arr(volume_in_l), _arr(cations_out_mmol), _arr(volume_out_l)
+    change = after - before
+    with np.errstate(divide="ignore", invalid="ignore"):
+        tbw = (cin - cout - after * (vin - vout)) / np.where(change != 0, change, np.nan)
+    return _out(tbw)

@@ -49,6 +49,12 @@ PLAUSIBLE: dict[str, Range] = {
 }
 
 
+#: Total body water outside this share of body weight is not a body's (common practice, chosen wide:
+#: measured adult TBW is about 45-60 %): a Watson result outside it is refused, and the projected
+#: range never takes TBW beyond it.
+TBW_SHARE_OF_WEIGHT: tuple[float, float] = (0.3, 0.8)
+
+
 @dataclass(frozen=True)
 class StrengthRange:
     """The stock strengths of one solute that can be real, in % w/v (g per 100 mL).

@@ -84,10 +84,13 @@ async def test_hypertonic_saline_case_shows_the_figures_of_check_json_run_as_a_c
             shown(screen, "sodium-load") == f"{dose['sodium_mmol']:.1f} mmol ({dose['sodium_mmol_per_kg']:.2f} mmol/kg)"
         )
         assert shown(screen, "na-per-litre") == f"{expected['sodium_change_per_litre_mmol_l']:+.1f} mmol/L"
+        low, high = (x - 128 for x in expected["projected_sodium_range_mmol_l"])
         assert shown(screen, "projected-na") == (
-            f"{expected['projected_sodium_mmol_l']:.1f} mmol/L ({expected['projected_sodium_rise_mmol_l']:+.1f})"
+            f"{expected['projected_sodium_mmol_l']:.1f} mmol/L ({expected['projected_sodium_rise_mmol_l']:+.1f}; "
+            f"range {low:+.1f} to {high:+.1f})"
         )
-        assert shown(screen, "projected-na") == "134.0 mmol/L (+6.0)"
+        # The range's high end: 2.4 x the predicted +6 in hyponatraemia (Mohmand HK et al. CJASN 2007).
+        assert shown(screen, "projected-na") == "134.0 mmol/L (+6.0; range +3.5 to +14.4)"
         # glucose 108 mg/dL / 180.16 g/mol = 5.99 mmol/L; BUN 14 mg/dL / 28.01 = 5.0 mmol/L urea.
         assert shown(screen, "calc-osm") == f"{expected['calculated_osmolality_mosm_kg']:.1f} mOsm/kg"
         codes = [line.split(" ")[2].rstrip(":") for line in screen.query_one(ChecksPanel).lines]

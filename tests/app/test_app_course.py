@@ -95,7 +95,8 @@ async def test_course_screen_shows_the_timeline_and_findings_of_course_show(
         await pilot.pause()
         screen = course_screen(app)
         table = screen.query_one("#course-timeline", DataTable)
-        assert table.row_count == len(report["labs"]) + len(report["doses"]) + len(report["readings"])  # type: ignore[arg-type]
+        entries = len(report["labs"]) + len(report["doses"]) + len(report["readings"]) + len(report["outputs"])  # type: ignore[arg-type]
+        assert table.row_count == entries
         assert shown(screen, "#course-status") == "✖ REFUSE: a hard limit is crossed; no further dose without review"
         assert screen.query_one("#course-status").has_class("-refuse")
         findings = review(read_episode(path)[0], demo).findings

@@ -25,10 +25,25 @@ def test_open_course_has_one_row_per_entry_course_show_reports(
     path = copy_demo(tmp_path)
     state = open_course(path, demo)
     shown = show_json(path, capsys)
-    assert len(state.rows) == len(shown["labs"]) + len(shown["doses"]) + len(shown["readings"]) == 15  # type: ignore[arg-type]
+    entries = len(shown["labs"]) + len(shown["doses"]) + len(shown["readings"]) + len(shown["outputs"])  # type: ignore[arg-type]
+    assert len(state.rows) == entries == 17
     assert state.review.status == shown["status"] == "refuse"
     assert next(line for _, line in finding_rows(state)).startswith("✖ REFUSE osmolality-high: measured osmolality")
     assert status_text(state) == "✖ REFUSE: a hard limit is crossed; no further dose without review"
+
+
+def test_a_typed_urine_output_is_saved_and_enters_the_timeline(tmp_path: Path, demo: Formulary) -> None:
+    path = copy_demo(tmp_path)
+    before = open_course(path, demo)
+    values = {"time": "2026-12-01T23:00+00:00", "urine-volume": "600", "urine-sodium": "50", "over": "2h"}
+    outcome = add_entry(before, "output", demo, values)
+    assert outcome.error is None and outcome.state is not None
+    assert len(outcome.state.episode.outputs) == len(before.episode.outputs) + 1
+    assert outcome.state.rows[-1] == (
+        "2026-12-01T23:00+00:00",
+        "urine",
+        "urine 600 mL over 2 h  Na 50  K n/a (taken as 0)",
+    )
 
 
 def test_a_typed_lab_is_saved_and_the_review_follows_the_file(tmp_path: Path, demo: Formulary) -> None:
@@ -52,6 +67,8 @@ def test_a_typed_lab_is_saved_and_the_review_follows_the_file(tmp_path: Path, de
         ("dose", {"time": "now", "agent": "nacl-3", "volume": ""}, "volume"),
         ("dose", {"time": "now", "agent": "nacl-3", "volume": "150", "duration": "0"}, "duration"),
         ("reading", {"time": "now", "map": "80", "icp": "200"}, "icp"),
+        ("output", {"time": "now", "urine-volume": "25L"}, "urine-volume"),
+        ("output", {"time": "now", "urine-volume": "800", "urine-sodium": "600"}, "urine-sodium"),
     ],
 )
 def test_a_bad_value_names_its_field_and_nothing_is_written(

@@ -54,6 +54,7 @@ class CourseScreen(Screen[None]):
         Binding("l", "add('lab')", "lab"),
         Binding("d", "add('dose')", "dose"),
         Binding("r", "add('reading')", "reading"),
+        Binding("u", "add('output')", "urine"),
         Binding("p", "plan", "plan"),
         Binding("o", "open", "open"),
         Binding("escape", "app.pop_screen", "back"),

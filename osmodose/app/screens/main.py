@@ -21,10 +21,13 @@ from osmodose.app.view import (
     PATIENT_FIGURES,
     LoadedLabs,
     Outcome,
+    daily_fall_rows,
+    equiosmolar_rows,
     evaluate,
     fill_texts,
     patient_texts,
 )
+from osmodose.app.widgets.agent_volumes import AgentVolumes
 from osmodose.app.widgets.dose_panel import DosePanel
 from osmodose.app.widgets.figures import FigurePanel
 from osmodose.app.widgets.findings import ChecksPanel, LabsFilePanel, NotesPanel
@@ -73,7 +76,9 @@ class MainScreen(Screen[None]):
             with VerticalScroll(id="results"):
                 yield ChecksPanel()
                 yield DosePanel()
+                yield AgentVolumes("equiosmolar", "equiosmolar (same ideal mOsm)", equiosmolar_rows)
                 yield FigurePanel("figures", "figures", PATIENT_FIGURES)
+                yield AgentVolumes("daily-fall", "to lower Na by the daily fall limit", daily_fall_rows)
                 yield NotesPanel()
                 yield LabsFilePanel()
         yield Static(CAUTION, id="caution", markup=False)
@@ -117,6 +122,8 @@ class MainScreen(Screen[None]):
         result = outcome.result
         self.query_one("#figures", FigurePanel).show(patient_texts(result) if result else None)
         self.query_one(DosePanel).show_outcome(outcome)
+        for table in self.query(AgentVolumes):
+            table.show(outcome)
         self.query_one(ChecksPanel).show(outcome)
         self.query_one(NotesPanel).show(outcome)
         self.query_one(LabsFilePanel).show(outcome)
