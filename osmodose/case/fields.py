@@ -18,7 +18,7 @@ import functools
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
+from osmodose.case.choices import DOSE_MODE, LINE, SEX, TARGET_MODES, TBW_METHOD, Choice
 from osmodose.errors import InputError
 from osmodose.science.chemistry import molar_mass
 from osmodose.science.ranges import Range
@@ -232,10 +232,19 @@ FIELDS: dict[str, CaseField] = {
             "target-rise",
             "order",
             "target Na change",
-            "the sodium change wanted; bare number = mmol/L",
+            "the sodium change wanted (negative to lower it); bare number = mmol/L",
             "mmol/L, e.g. 6 or -4",
             unit="mmol/L",
             plausible=Range(-30.0, 30.0, "mmol/L"),
+        ),
+        CaseField(
+            "target-sodium",
+            "order",
+            "target Na",
+            "the serum sodium wanted after the order (read as a change from the serum sodium); bare number = mmol/L",
+            "mmol/L, e.g. 134",
+            unit="mmol/L",
+            plausible=Range(90.0, 200.0, "mmol/L"),
         ),
         CaseField(
             "duration",
@@ -339,7 +348,7 @@ def keys(*groups: Group) -> tuple[str, ...]:
 #: The order as a prescriber writes it, for verification: the check's order by volume (the volume
 #: is what will be given, so no dose or target change) and the prescriber's own figures.
 WRITTEN_ORDER_KEYS: tuple[str, ...] = tuple(
-    f.key for f in FIELDS.values() if f.group in ("order", "written") and f.key not in ("dose", "target-rise")
+    f.key for f in FIELDS.values() if f.group in ("order", "written") and f.key not in ("dose", *TARGET_MODES)
 )
 
 
