@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 import argparse
-import json
 
 from osmodose.case.inputs import parse_check_request
 from osmodose.check.report import render_text
 from osmodose.check.run import run_check
-from osmodose.cli.exit_codes import BY_STATUS
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import BY_STATUS, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
 
@@ -16,7 +16,7 @@ HELP = "compute osmolality, total body water, a dose and its sodium projection, 
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("check", help=HELP, description=HELP + ".")
+    parser = subparsers.add_parser("check", help=HELP, description=HELP + ".", epilog=STATUS_EPILOG)
     add_formulary_option(parser)
     add_case_options(parser)
     parser.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
@@ -27,8 +27,5 @@ def run(args: argparse.Namespace) -> int:
     formulary = formulary_from_args(args)
     request = parse_check_request(case_fields(args))
     result = run_check(request, formulary)
-    if args.json:
-        print(json.dumps(result.to_json(), indent=2))
-    else:
-        print(render_text(result), end="")
+    emit(result.to_json, lambda: render_text(result), args.json)
     return BY_STATUS[result.status]
