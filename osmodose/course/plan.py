@@ -79,7 +79,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
     if projection is None:
         raise InputError("plan", None, f"needs a lab drawn at or before {when(at)}", "osmodose course add-lab FILE ...")
     lab = episode.labs[projection.lab_index]
-    carried = carried_osmolality(lab, projection)  # None: the measured osmolality still holds
+    carried = carried_osmolality(timeline, projection, formulary.limits.lab_max_age)  # None: the lab's still holds
     p = episode.patient
     request = parse_check_request(
         {
@@ -107,7 +107,7 @@ def plan_dose(episode: Episode, formulary: Formulary, fields: Mapping[str, objec
         )
         judged_by_check = {"projected-sodium-high", *(x.code for x in check.findings)}
         findings = [x for x in findings if x.code not in judged_by_check]
-    osmolality, osmolality_notes = osmolality_findings(timeline, formulary, check, lab, projection, carried)
+    osmolality, osmolality_notes = osmolality_findings(timeline, formulary, check, projection, carried)
     findings += osmolality
     findings += _stale(timeline, formulary, at)
     findings += _mannitol(timeline, formulary, check, at, p.weight_kg)
