@@ -31,6 +31,7 @@ from osmodose.science.precision import (
     round_document,
     unit_decimals,
 )
+from tests.fhir_build import bundle, morning_labs, write
 
 EXAMPLES = Path(__file__).parent.parent / "examples"
 
@@ -218,3 +219,13 @@ def test_formulary_show_json_gives_stock_figures_as_the_table_prints_them() -> N
     # 7.5 % sodium chloride: 75 g/L / 58.44 g/mol = 1283.37 mmol/L, whole: 1283 (domain table: 1283).
     assert agents["nacl-7.5"]["sodium_mmol_l"] == 1283.0
     assert agents["nacl-7.5"]["sodium_mmol_per_ml"] == 1.283
+
+
+def test_every_float_of_check_json_with_a_labs_file_has_at_most_its_stated_decimals(tmp_path: Path) -> None:
+    # The labs file's provenance (`labs_file`: each value's age in hours) is rounded as declared too.
+    path = write(tmp_path / "labs.json", bundle(*morning_labs()))
+    _code, document = run_json(
+        "check", "--labs", str(path), "--at", "2026-12-01T08:30:00+01:00", "--agent", "nacl-3", "--volume", "250"
+    )
+    assert document["labs_file"]["fields"]
+    assert undeclared_or_too_long(document, "check --labs") == []

@@ -16,10 +16,10 @@ from pathlib import Path
 import pytest
 
 from osmodose.app.view import DOSE_MODES, asked_text, evaluate
-from osmodose.case.choices import DOSE_MODE
 from osmodose.case.fields import FIELDS
 from osmodose.cli.main import main
 from osmodose.formulary import Formulary
+from osmodose.science.choices import DOSE_MODE
 
 MAN = ["--weight", "70", "--age", "45", "--sex", "male"]
 

@@ -9,18 +9,22 @@ and the saved summary round alike.  Nothing here computes a clinical figure.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
-from typing import Any, Literal, cast
+from datetime import datetime
+from typing import TYPE_CHECKING, Any, Literal, cast
 
-from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
 from osmodose.check.report import LABELS, presentation_text, rate_text, status_words
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
-from osmodose.errors import InputError
+from osmodose.errors import InputError, LabsFileError
 from osmodose.formulary.model import Formulary
 from osmodose.science import precision as p
+from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
+
+if TYPE_CHECKING:
+    from osmodose.datain import FhirFile
 
 Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
 
@@ -84,7 +88,7 @@ class Outcome:
     """One evaluation: a result, or the error that stops one (never both)."""
 
     result: CheckResult | None
-    error: InputError | None = None
+    error: InputError | LabsFileError | None = None
     field: str | None = None
     """The form field to mark: the one the error names, in the form's own keys."""
     missing: bool = False
@@ -97,23 +101,85 @@ class Outcome:
         return "incomplete" if self.missing else "invalid"
 
 
-def evaluate(values: dict[str, str], formulary: Formulary) -> Outcome:
-    """Run the typed form through the core; any InputError becomes a marked field."""
+@dataclass(frozen=True)
+class LoadedLabs:
+    """A labs file read into the form: the file, and the text each box it filled was given."""
+
+    file: FhirFile
+    filled: dict[str, str]
+
+
+def evaluate(
+    values: dict[str, str], formulary: Formulary, labs: LoadedLabs | None = None, now: datetime | None = None
+) -> Outcome:
+    """Run the typed form through the core; any InputError becomes a marked field.
+
+    With a labs file loaded, a box still holding the text the file put there is
+    the file's value (with its resource and age), any other text is typed and
+    wins, exactly as `check --labs` with options.
+    """
     mode: DoseMode = DOSE_CHOICE.read(DOSE_MODE, values.get(DOSE_MODE) or "dose")
     fields: dict[str, object] = {k: v for k, v in values.items() if k not in (AMOUNT, DOSE_MODE)}
     amount = (values.get(AMOUNT) or "").strip()
     if amount:
         fields[mode] = amount
     try:
-        result = run_check(parse_check_request(fields, dose_mode=mode), formulary)
-    except InputError as error:
+        data_in = None
+        if labs is not None:
+            fields, data_in = labs_case(fields, labs, now or datetime.now().astimezone())
+        result = run_check(parse_check_request(fields, dose_mode=mode, data_in=data_in), formulary)
+    except (InputError, LabsFileError) as error:
         field, missing = _where(error, values, amount)
-        return Outcome(None, error.named(ERROR_NAMES), field, missing)
+        shown = error.named(ERROR_NAMES) if isinstance(error, InputError) else error
+        return Outcome(None, shown, field, missing)
     return Outcome(result)
 
 
-def _where(error: InputError, values: dict[str, str], amount: str) -> tuple[str, bool]:
+def labs_case(fields: dict[str, object], labs: LoadedLabs, now: datetime) -> tuple[dict[str, object], Any]:
+    """The form's fields with the file's values where the box holds what the file put there (or is empty)."""
+    from osmodose.datain import case_from_file  # noqa: PLC0415 (only once a labs file is loaded)
+
+    typed = {k: v for k, v in fields.items() if labs.filled.get(k) != v}
+    # A box the file filled and the user emptied takes nothing from the file.
+    cleared = {k for k in labs.filled if not str(fields.get(k) or "").strip()}
+    return case_from_file(typed, labs.file, now, [k for k in keys("patient", "labs") if k not in cleared])
+
+
+def fill_texts(labs_file: FhirFile, values: dict[str, str], now: datetime) -> dict[str, str]:
+    """The text to put in each empty box the file gives a value for (what is typed stays)."""
+    from osmodose.datain import case_from_file  # noqa: PLC0415 (only once a labs file is loaded)
+
+    typed = {k: v for k, v in values.items() if v.strip()}
+    wanted = keys("patient", "labs")
+    try:
+        fields, data_in = case_from_file(typed, labs_file, now, wanted)
+    except InputError as error:  # a gender to confirm: fill the rest, the form marks the sex
+        if error.field != "sex":
+            raise
+        fields, data_in = case_from_file(typed, labs_file, now, [k for k in wanted if k != "sex"])
+    texts = {}
+    for origin in data_in.fields:
+        if origin.source != "file":
+            continue
+        value = fields[origin.field]
+        # Age in full (rounding could cross the elderly cut-off); sex as the form's choice; the rest as written.
+        texts[origin.field] = (
+            repr(value) if origin.field == "age" else (str(value) if origin.field == "sex" else origin.shown)
+        )
+    return texts
+
+
+def labs_file_rows(result: CheckResult) -> list[str]:
+    """Where each value came from, as the report says it; empty when nothing was read from a file."""
+    from osmodose.check.report import labs_file_lines  # noqa: PLC0415 (only with a labs file)
+
+    return labs_file_lines(result.labs_file) if result.labs_file is not None else []
+
+
+def _where(error: InputError | LabsFileError, values: dict[str, str], amount: str) -> tuple[str, bool]:
     """Which form field an error belongs to, and whether it is only missing."""
+    if isinstance(error, LabsFileError):
+        return error.field or "sodium", False
     if error.field == "agent" and not amount:
         return AMOUNT, True  # an agent is chosen but no amount typed yet
     if error.field in DOSE_CHOICE.values:

@@ -21,13 +21,13 @@ import numpy as np
 from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
-from osmodose.case.choices import TARGET_MODES
 from osmodose.case.fields import FIELDS, LAB_FIELDS, CaseField
 from osmodose.case.inputs import DoseRequest, parse_dose, target_change, target_sodium_error
 from osmodose.check.engine import DOSE_UNITS, Cases, dose_unit_codes
 from osmodose.check.run import dose_misfit, height_required_error
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import TARGET_MODES
 
 #: A dose cell "number unit" whose unit is letters and slashes reads as number x (1 unit);
 #: anything else is handed whole to `parse_dose`.

@@ -8,14 +8,13 @@ reading the JSON never has to guess; a figure that cannot be computed is None
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, Literal
+from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.case.provenance import DataIn
+from osmodose.formulary.model import Formulary
 from osmodose.science.precision import round_document
-
-if TYPE_CHECKING:
-    from osmodose.formulary.model import Formulary
 
 _FROZEN = ConfigDict(frozen=True)
 
@@ -63,6 +62,10 @@ class FormularyRef(BaseModel):
             path=formulary.path,
             demo=formulary.demo,
         )
+
+    def line(self) -> str:
+        """The line every report heads with: which file, which version, which bytes."""
+        return f"formulary: {self.name} v{self.version} sha256 {self.sha256}"
 
 
 class PatientFigures(BaseModel):
@@ -128,6 +131,8 @@ class CheckResult(BaseModel):
     projected_sodium_rise_mmol_l: float | None
     program_version: str
     caution: str = CAUTION
+    labs_file: DataIn | None = None
+    """The labs file the case was read from: each value's resource, effective time and age; null when typed."""
 
     def to_json(self) -> dict[str, Any]:
         """The public JSON object (plain types only), every figure rounded as declared."""

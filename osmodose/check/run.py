@@ -12,7 +12,6 @@ import math
 import numpy as np
 
 from osmodose import __version__
-from osmodose.case.choices import TARGET_MODES
 from osmodose.case.fields import FIELDS
 from osmodose.case.inputs import CheckRequest, DoseRequest, Patient
 from osmodose.check.engine import Cases, Figures, compute
@@ -33,6 +32,7 @@ from osmodose.check.results import (
 from osmodose.check.rules import apply_rules
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary, Limits
+from osmodose.science.choices import TARGET_MODES
 from osmodose.science.ranges import Range
 
 MANNITOL_NOTE = (
@@ -88,6 +88,7 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         dose_per_kg=np.array([bool(dose and dose.per_kg)]),
         duration_min=np.array([_nan(dose.duration_min if dose else None)]),
         use_watson=np.array([use_watson]),
+        sodium_age_h=col(request.data_in.age_h("sodium") if request.data_in is not None else None),
     )
 
 
@@ -153,6 +154,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         projected_sodium_mmol_l=_opt(figures.projected_sodium[0]),
         projected_sodium_rise_mmol_l=_opt(figures.projected_rise[0]),
         program_version=__version__,
+        labs_file=request.data_in,
     )
 
 

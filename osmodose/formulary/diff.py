@@ -15,6 +15,7 @@ from typing import Any, Literal
 from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 from osmodose.formulary.model import Agent, Formulary
 from osmodose.formulary.summary import AgentRow, agent_cells, agent_rows
+from osmodose.science.formulas import RELATIVE_NOISE
 
 Area = Literal["formulary", "settings", "limits", "agents"]
 
@@ -185,6 +186,9 @@ def _one_agent(agent_id: str, old: Agent, old_row: AgentRow, new: Agent, new_row
     if old.potassium_mmol_l != new.potassium_mmol_l:
         was, now = f"{old.potassium_mmol_l:g}", f"{new.potassium_mmol_l:g}"
         add("potassium", was, now, f"potassium {was} mmol/L → {now} mmol/L")
+    if old.codes != new.codes:
+        was, now = ", ".join(old.codes) or "none", ", ".join(new.codes) or "none"
+        add("codes", was, now, f"medication codes {was} → {now}")
     if old.route != new.route:
         flag = ROUTE_NOW_PERIPHERAL if new.route == "peripheral" else ROUTE_NOW_CENTRAL
         add("route", before["route"], after["route"], f"route {before['route']} → {after['route']}: {flag}")
@@ -195,4 +199,4 @@ def _same_strength(old: Agent, new: Agent) -> bool:
     """Whether a concentration written differently ("0.9% w/v" and "9 g/L") is the same strength."""
     if old.solute_g_per_l is None or new.solute_g_per_l is None:
         return False
-    return math.isclose(old.solute_g_per_l, new.solute_g_per_l, rel_tol=1e-9)
+    return math.isclose(old.solute_g_per_l, new.solute_g_per_l, rel_tol=RELATIVE_NOISE)

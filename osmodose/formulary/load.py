@@ -24,7 +24,7 @@ from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseKind, DoseLimit, Formulary, Limits
-from osmodose.science.chemistry import SOLUTES
+from osmodose.science.chemistry import SOLUTES, molar_mass
 from osmodose.science.ranges import SOLUTE_STRENGTH
 from osmodose.science.units import is_per_mass, parse_quantity, ureg
 
@@ -148,11 +148,23 @@ def load_formulary(path: Path | str) -> Formulary:
 def _resolve_agents(entries: list[tuple[int, AgentEntry]], out: _Collector) -> tuple[tuple[int, Agent], ...]:
     agents: list[tuple[int, Agent]] = []
     seen: dict[str, int] = {}
+    coded: dict[str, int] = {}
     for index, entry in entries:
         where = f"agents[{index}]"
         if entry.id in seen:
             out.add(f"{where}.id", f"{entry.id!r} is already the id of agents[{seen[entry.id]}]")
         seen.setdefault(entry.id, index)
+        for number, code in enumerate(entry.codes, start=1):
+            system, bar, value = code.partition("|")
+            if not (bar and system.strip() and value.strip()) or "|" in value or code != code.strip():
+                out.add(
+                    f"{where}.codes[{number}]", f'{code!r} is not "system|code" (e.g. "http://example.org/stock|NACL3")'
+                )
+            elif code in coded and coded[code] != index:
+                out.add(
+                    f"{where}.codes[{number}]", f"{code!r} already names agents[{coded[code]}]: one code, one agent"
+                )
+            coded.setdefault(code, index)
         agent = _resolve_agent(entry, where, out)
         if agent is not None:
             agents.append((index, agent))
@@ -210,20 +222,19 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
     else:
         conc = out.quantity(f"{where}.concentration", entry.concentration, "g/L", ("g/L", "mmol/L"), percent_is_wv=True)
         if conc is not None:
-            if conc.check("[mass]/[volume]"):
-                grams = float(conc.m_as("g/L"))
-            else:
-                grams = float(conc.m_as("mmol/L")) * solute.molar_mass_g_per_mol / 1000.0
+            mass = conc if conc.check("[mass]/[volume]") else conc * molar_mass(entry.solute)
+            grams = float(mass.m_as("g/L"))
+            percent = float(mass.m_as("percent_wv"))
             strength = SOLUTE_STRENGTH.get(entry.solute)
             if grams <= 0:
                 out.add(f"{where}.concentration", f"{entry.concentration!r} is not above zero")
-            elif strength is not None and not strength.contains(grams / 10.0):
+            elif strength is not None and not strength.contains(percent):
                 out.add(
                     f"{where}.concentration",
-                    f"{entry.concentration!r} is {grams / 10.0:.4g} % w/v, outside the plausible range "
+                    f"{entry.concentration!r} is {percent:.4g} % w/v, outside the plausible range "
                     f"for {entry.solute} (accepted: {strength.describe()})",
                 )
-            moles = grams / solute.molar_mass_g_per_mol * 1000.0  # mmol/L
+            moles = float((mass / molar_mass(entry.solute)).m_as("mmol/L"))
             derived_na = moles * solute.sodium_per_mole
             derived_osm = moles * solute.osmoles_per_mole
     sodium = _explicit(entry.sodium, f"{where}.sodium", "mmol/L", ("mmol/L",), derived_na, out)
@@ -271,6 +282,7 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
         dose_warn=dose_warn,
         dose_refuse=dose_refuse,
         max_rate_ml_h=max_rate,
+        codes=tuple(entry.codes),
     )
 
 

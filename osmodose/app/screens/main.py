@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from datetime import datetime
 from typing import ClassVar
 
 from textual.app import ComposeResult
@@ -10,16 +11,30 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Input, Select, Static
 
+from osmodose.app.screens.labs_file import LabsFileScreen
 from osmodose.app.screens.save import SaveScreen
-from osmodose.app.view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, PATIENT_FIGURES, Outcome, evaluate, patient_texts
+from osmodose.app.view import (
+    AMOUNT,
+    AMOUNT_HINT,
+    DOSE_MODE,
+    FIELDS,
+    PATIENT_FIGURES,
+    LoadedLabs,
+    Outcome,
+    evaluate,
+    fill_texts,
+    patient_texts,
+)
 from osmodose.app.widgets.dose_panel import DosePanel
 from osmodose.app.widgets.figures import FigurePanel
-from osmodose.app.widgets.findings import ChecksPanel, NotesPanel
+from osmodose.app.widgets.findings import ChecksPanel, LabsFilePanel, NotesPanel
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.check.report import render_text
 from osmodose.check.results import CAUTION
+from osmodose.datain import FhirFile
+from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
 
 PANELS = ("patient", "labs", "order")
@@ -32,11 +47,13 @@ class MainScreen(Screen[None]):
         Binding("ctrl+s", "save", "save"),
         Binding("ctrl+y", "copy", "copy"),
         Binding("ctrl+n", "new_case", "new"),
+        Binding("ctrl+l", "labs_file", "labs"),
     ]
 
     def __init__(self, formulary: Formulary) -> None:
         super().__init__(id="main-screen")
         self.formulary = formulary
+        self.labs: LoadedLabs | None = None
         self.outcome: Outcome = evaluate({}, formulary)
 
     def compose(self) -> ComposeResult:
@@ -58,6 +75,7 @@ class MainScreen(Screen[None]):
                 yield DosePanel()
                 yield FigurePanel("figures", "figures", PATIENT_FIGURES)
                 yield NotesPanel()
+                yield LabsFilePanel()
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
 
@@ -88,7 +106,7 @@ class MainScreen(Screen[None]):
 
     def recompute(self) -> None:
         """Evaluate the whole form and replace every shown figure (or blank them all)."""
-        outcome = evaluate(self.values(), self.formulary)
+        outcome = evaluate(self.values(), self.formulary, self.labs)
         self.outcome = outcome
         for f in self.query(FormField):
             if f.spec.key == outcome.field:
@@ -101,6 +119,7 @@ class MainScreen(Screen[None]):
         self.query_one(DosePanel).show_outcome(outcome)
         self.query_one(ChecksPanel).show(outcome)
         self.query_one(NotesPanel).show(outcome)
+        self.query_one(LabsFilePanel).show(outcome)
         results = self.query_one("#results")
         for state in ("ok", "warn", "refuse", "invalid", "incomplete"):
             results.set_class(outcome.state == state, f"-{state}")
@@ -127,7 +146,26 @@ class MainScreen(Screen[None]):
             self.notify("Summary copied to the terminal's clipboard (where the terminal allows it).")
 
     def action_new_case(self) -> None:
+        self.labs = None
         for f in self.query(FormField):
             f.reset()
         self.recompute()
         self.field("weight").control.focus()
+
+    def action_labs_file(self) -> None:
+        self.app.push_screen(LabsFileScreen(), self._labs_read)
+
+    def _labs_read(self, file: FhirFile | None) -> None:
+        """Fill the empty boxes from the file (typed ones stay, and win), then recompute."""
+        if file is None:
+            return
+        try:
+            texts = fill_texts(file, self.values(), datetime.now().astimezone())
+        except OsmodoseError as error:
+            self.notify(str(error), severity="error", timeout=15)
+            return
+        for key, text in texts.items():
+            self.field(key).set_value(text)
+        self.labs = LoadedLabs(file, texts)
+        self.recompute()
+        self.notify(f"Labs read from {file.path}: {len(texts)} boxes filled; typed values kept.")

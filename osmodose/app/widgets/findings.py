@@ -5,7 +5,7 @@ from __future__ import annotations
 from textual.markup import escape
 from textual.widgets import Static
 
-from osmodose.app.view import SYMBOL, Outcome, finding_rows
+from osmodose.app.view import SYMBOL, Outcome, finding_rows, labs_file_rows
 
 _STYLE = {"": "$text-muted", "warn": "bold $text-warning", "refuse": "bold $text-error"}
 NOT_VALID_CHECKS = "not valid: no checks until every field reads"
@@ -42,6 +42,23 @@ class NotesPanel(Static):
 
     def show(self, outcome: Outcome) -> None:
         lines = [f"- {note}" for note in outcome.result.notes] if outcome.result else []
+        if lines != self.lines:
+            self.lines = lines
+            self.update("\n".join(lines))
+            self.display = bool(lines)
+
+
+class LabsFilePanel(Static):
+    """Where each value came from when a labs file is loaded: resource, drawn when, how old; or typed."""
+
+    def __init__(self) -> None:
+        super().__init__("", id="labs-file", classes="panel", markup=False)
+        self.border_title = "labs file"
+        self.lines: list[str] = []
+        self.display = False
+
+    def show(self, outcome: Outcome) -> None:
+        lines = labs_file_rows(outcome.result) if outcome.result else []
         if lines != self.lines:
             self.lines = lines
             self.update("\n".join(lines))
