@@ -13,7 +13,7 @@ import json
 from collections.abc import Iterator
 from math import isnan
 from pathlib import Path
-from typing import TextIO
+from typing import Any, TextIO
 
 import numpy as np
 
@@ -21,7 +21,7 @@ from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
 from osmodose.check.judging import SEVERITY_NAMES
 from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.formulary.model import Formulary
-from osmodose.science.precision import figure, round_document
+from osmodose.science.precision import figure, round_finding
 
 FINDING_SEPARATOR = ";"
 MESSAGE_SEPARATOR = " | "
@@ -53,10 +53,9 @@ def audit_figures(chunk: ChunkResult) -> dict[str, np.ndarray]:
     return {name: figure(name, chunk.figures[name]) for name, _ in FIGURES}
 
 
-def audit_findings(findings: list[dict[str, object]]) -> list[dict[str, object]]:
+def audit_findings(findings: list[dict[str, Any]]) -> list[dict[str, Any]]:
     """A row's findings with their value and limit rounded as `check --json` rounds them."""
-    rounded: list[dict[str, object]] = round_document(findings)
-    return rounded
+    return [round_finding(finding) for finding in findings]
 
 
 #: A CSV field with one of these is quoted (the csv module's minimal quoting).

@@ -22,6 +22,7 @@ audit row and a check of the same case print the same digits.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Mapping
 from typing import Any
@@ -118,8 +119,16 @@ MOST_DECIMALS = 4
 
 def rounded(values: Any, decimals: int) -> Any:
     """`values` (a float or an array) to `decimals` places; NaN stays NaN and -0.0 becomes 0.0."""
+    if isinstance(values, float):
+        return _rounded_float(values, decimals)
     out = np.round(np.asarray(values, dtype=float), decimals) + 0.0
     return float(out) if out.ndim == 0 else out
+
+
+@functools.lru_cache(maxsize=1 << 16)
+def _rounded_float(value: float, decimals: int) -> float:
+    """One float rounded by numpy's rule, as a column is (remembered: an audit's values repeat)."""
+    return float(np.round(np.float64(value), decimals)) + 0.0
 
 
 def figure(name: str, values: Any) -> Any:
@@ -147,12 +156,30 @@ def apart(value: float, limit: float | None, decimals: int) -> int:
     return digits
 
 
+@functools.lru_cache(maxsize=1 << 16)
 def judged(value: float | None, limit: float | None, unit: str, code: str | None = None) -> float | None:
     """A judged value rounded for its unit, told apart from its limit."""
     if value is None or not math.isfinite(value):
         return value
     decimals = unit_decimals(unit, code)
     return float(rounded(value, apart(value, limit, decimals)))
+
+
+def limit_figure(limit: float | None) -> float | None:
+    """A limit as the formulary writes it, to at most `MOST_DECIMALS` (infinite and None stay as they are)."""
+    if limit is None or not math.isfinite(limit):
+        return limit
+    return float(rounded(limit, MOST_DECIMALS))
+
+
+def round_finding(finding: dict[str, Any]) -> dict[str, Any]:
+    """A finding (`code`, `value`, `limit`, `unit`, ...) with its value and limit rounded, as `round_document` does."""
+    limit, unit, code = finding.get("limit"), str(finding.get("unit", "")), finding.get("code")
+    return {
+        **finding,
+        "value": judged(finding.get("value"), limit, unit, code if isinstance(code, str) else None),
+        "limit": limit_figure(limit),
+    }
 
 
 def text(value: float | None, decimals: int, unit: str = "") -> str:
@@ -196,7 +223,7 @@ def round_document(document: Any) -> Any:
             limit = document.get("limit") if key == "value" else None
             out[key] = judged(item, limit if isinstance(limit, float) else None, unit, code)
         elif isinstance(item, float) and isinstance(unit, str) and key == "limit":
-            out[key] = item if not math.isfinite(item) else float(rounded(item, MOST_DECIMALS))
+            out[key] = limit_figure(item)
         elif isinstance(item, float) and key in FIGURE_DECIMALS:
             out[key] = item if not math.isfinite(item) else figure(key, item)
         else:
