@@ -8,6 +8,7 @@ compare them word for word and front ends never assemble their own wording.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from pathlib import Path
 
 
@@ -25,19 +26,33 @@ class OsmodoseError(Exception):
 class InputError(OsmodoseError):
     """A value the user typed is unreadable, in the wrong unit, or implausible.
 
-    `field` is the name the user knows the value by (the option or form field),
+    `field` is the field's key (the command-line option without its dashes),
     `value` what they typed, `accepted` the range or form that would be accepted.
+    `name` is what the message calls the field when the place it was typed
+    shows it under other words (the app's "target Na change" for
+    `target-rise`); by default the key, as typed on the command line.
     """
 
-    def __init__(self, field: str, value: object, problem: str, accepted: str | None = None) -> None:
+    def __init__(
+        self, field: str, value: object, problem: str, accepted: str | None = None, name: str | None = None
+    ) -> None:
         self.field = field
         self.value = value
         self.problem = problem
         self.accepted = accepted
-        text = f"{field}: {value!s} {problem}" if value is not None and value != "" else f"{field}: {problem}"
+        self.name = name or field
+        shown = self.name
+        text = f"{shown}: {value!s} {problem}" if value is not None and value != "" else f"{shown}: {problem}"
         if accepted:
             text += f" (accepted: {accepted})"
         super().__init__(text)
+
+    def named(self, names: Mapping[str, str]) -> InputError:
+        """The same error calling its field by `names[field]` (the words shown where it was typed)."""
+        name = names.get(self.field)
+        if name is None or name == self.name:
+            return self
+        return InputError(self.field, self.value, self.problem, self.accepted, name)
 
 
 def formulary_location(path: Path, key_path: str | None, line: int | None) -> str:
@@ -116,6 +131,59 @@ class FormularyWarning:
 
     def __repr__(self) -> str:
         return f"FormularyWarning({self.located()!r})"
+
+
+def _json_kind(value: object) -> str:
+    """What a JSON value is, in words."""
+    if value is None:
+        return "null"
+    if isinstance(value, bool):
+        return "true or false"
+    if isinstance(value, (int, float)):
+        return "a number"
+    if isinstance(value, str):
+        return "text"
+    return "a list" if isinstance(value, (list, tuple)) else "an object"
+
+
+def _json_value(value: object) -> str:
+    if isinstance(value, str):
+        return f'"{value}"'
+    return "null" if value is None else str(value).lower() if isinstance(value, bool) else str(value)
+
+
+def file_problem(item: Mapping[str, object]) -> str:
+    """One problem found validating a JSON file (an episode), in osmodose's words, never the library's.
+
+    `item` is one entry of a validation error's list (`type`, `input`, `ctx`,
+    `msg`); the message says what is wrong and what is accepted.
+    """
+    kind = str(item.get("type", ""))
+    value = item.get("input")
+    ctx = item.get("ctx")
+    shown = _json_value(value)
+    if kind == "missing":
+        return "is required but missing"
+    if kind == "extra_forbidden":
+        return "is not a key osmodose knows here (a misspelt key would lose its value)"
+    if kind == "value_error":
+        return str(item.get("msg", "")).removeprefix("Value error, ")
+    if kind == "literal_error" and isinstance(ctx, Mapping):
+        allowed = str(ctx.get("expected", "")).replace("'", '"')
+        return f"{shown} is not one osmodose knows (accepted: {allowed})"
+    if kind in ("string_type", "str_type"):
+        return f"is {_json_kind(value)}, not text (accepted: text in double quotes)"
+    if kind in ("string_too_short", "too_short"):
+        return "is empty (accepted: a value, not an empty one)"
+    if kind.startswith(("float", "int")) or kind == "finite_number":
+        return f"{shown} is not a number (accepted: a JSON number, e.g. 70.5)"
+    if kind.startswith(("datetime", "date", "timezone")):
+        return f'{shown} is not a time with its UTC offset (accepted: ISO 8601, e.g. "2026-12-01T08:30:00+00:00")'
+    if kind in ("list_type", "tuple_type"):
+        return f"is {_json_kind(value)}, not a list (accepted: a JSON list in square brackets)"
+    if kind in ("model_type", "dict_type", "model_attributes_type"):
+        return f"is {_json_kind(value)}, not an object (accepted: a JSON object in curly brackets)"
+    return f"{shown} cannot be used here"
 
 
 class EpisodeFileError(OsmodoseError):

@@ -42,7 +42,7 @@ def as_json(capsys: pytest.CaptureFixture[str], *args: str) -> tuple[int, dict[s
 # --- bad input: one line on stderr, exit 2 -----------------------------------------------------
 
 _DOSE_ACCEPTED = "g, mL, mmol or mOsm, absolute or per kg (1 g/kg, 5 mL/kg, 50 g, 120 mmol)"
-_ONE_MODE = "exactly one of dose, volume or target-rise"
+_ONE_MODE = "exactly one of dose, volume, target-rise or target-sodium"
 _KNOWN = "nacl-0.9, nacl-3, nacl-7.5, nacl-23.4, mannitol-20, bicarb-8.4, glucose-5, lactated-ringers"
 
 
@@ -144,7 +144,7 @@ def test_exit_zero_for_mannitol_one_gram_per_kg(capsys: pytest.CaptureFixture[st
     assert dose["solute_g"] == pytest.approx(70.0)
     assert dose["solute_g_per_kg"] == pytest.approx(1.0)
     assert dose["volume_ml_per_kg"] == pytest.approx(5.0)
-    assert dose["osmoles_mosm"] == pytest.approx(70 / 182.17 * 1000)  # 384.3 mOsm
+    assert dose["osmoles_mosm"] == 384.0  # 70 g / 182.17 g/mol = 384.26 mOsm, printed to whole mOsm
     assert dose["sodium_mmol"] == 0.0
     assert dose["rate_ml_h"] == pytest.approx(1050.0)  # 350 mL in 20 min
     assert result["calculated_osmolality_mosm_kg"] == pytest.approx(290.0)
@@ -160,7 +160,7 @@ def test_exit_three_for_three_percent_on_a_peripheral_line(capsys: pytest.Captur
     assert code == 3
     assert result["status"] == "warn"
     assert [(f["code"], f["severity"]) for f in result["findings"]] == [("peripheral-osmolarity", "warn")]
-    assert result["projected_sodium_rise_mmol_l"] == pytest.approx(0.25 * 383 / 42.25)
+    assert result["projected_sodium_rise_mmol_l"] == 2.3  # 0.25 x 383 / 42.25 = 2.266, to 0.1 mmol/L
 
 
 def test_exit_four_for_a_central_only_vial_on_a_peripheral_line(capsys: pytest.CaptureFixture[str]) -> None:
@@ -177,17 +177,17 @@ def test_plain_report_says_the_status_and_the_caution(capsys: pytest.CaptureFixt
     code, out, err = cli(capsys, *MAN, "--sodium", "161")
     assert (code, err) == (4, "")
     # Labs only: there is no order to "give as ordered", so the words say what the labs mean.
-    assert out.startswith(
-        "osmodose check  [REFUSE] REFUSE: a hard limit is crossed by these labs; hold hyperosmolar therapy\n"
-    )
-    assert "[REFUSE] sodium-high: serum sodium 161.0 mmol/L is above the refuse limit of 160 mmol/L" in out
+    # One word per status: REFUSE, never "[REFUSE] REFUSE".
+    assert out.startswith("osmodose check  REFUSE: a hard limit is crossed by these labs; hold hyperosmolar therapy\n")
+    assert "\n  REFUSE sodium-high: serum sodium 161.0 mmol/L is above the refuse limit of 160 mmol/L\n" in out
+    assert "[REFUSE]" not in out
     assert out.endswith(CAUTION + "\n")
 
 
 def test_target_rise_gives_the_volume(capsys: pytest.CaptureFixture[str]) -> None:
     # +5 mmol/L with 3 % (513) at Na 110: V = 5 x 42 / (513 - 110 - 5) = 210 / 398 L = 527.6 mL.
     _code, result = as_json(capsys, *MAN, "--sodium", "110", "--agent", "nacl-3", "--target-rise", "5")
-    assert result["dose"]["volume_ml"] == pytest.approx(210 / 398 * 1000)
+    assert result["dose"]["volume_ml"] == 527.6  # 527.64 mL, to 0.1 mL
     assert result["projected_sodium_rise_mmol_l"] == pytest.approx(5.0)
     assert result["projected_sodium_mmol_l"] == pytest.approx(115.0)
 
@@ -279,7 +279,7 @@ def test_json_for_a_mixed_fluid_has_a_null_solute(capsys: pytest.CaptureFixture[
     assert result["dose"]["solute_g"] is None
     assert result["dose"]["solute_g_per_kg"] is None
     # Na 130 + K 4 (label): (134 - 125) / 43 = +0.209 mmol/L.
-    assert result["sodium_change_per_litre_mmol_l"] == pytest.approx(9 / 43)
+    assert result["sodium_change_per_litre_mmol_l"] == 0.2  # 9 / 43 = 0.209, to 0.1 mmol/L
 
 
 def test_mannitol_has_no_sodium_projection_and_says_why(capsys: pytest.CaptureFixture[str]) -> None:
@@ -316,7 +316,7 @@ def test_python_dash_m_osmodose_runs_a_check() -> None:
     assert done.returncode == 4, done.stderr
     assert done.stderr == ""
     result = json.loads(done.stdout)
-    assert round(result["sodium_change_per_litre_mmol_l"], 2) == 9.37
+    assert result["sodium_change_per_litre_mmol_l"] == 9.4  # 9.37, to 0.1 mmol/L
     assert result["formulary"]["sha256"] == hashlib.sha256(demo_formulary_path().read_bytes()).hexdigest()
 
 

@@ -121,11 +121,13 @@ def test_the_demo_episode_is_in_the_current_format() -> None:
         (
             '{"format_version": 2, "patient": {"weight_kg": 70, "age_years": 45, "sex": "male"}, '
             '"labs": [{"time": "2026-12-01T08:00", "sodium_mmol_l": 140}]}',
-            "labs[1].time: Input should have timezone info; the file was not changed",
+            'labs[1].time: "2026-12-01T08:00" is not a time with its UTC offset (accepted: ISO 8601, e.g. '
+            '"2026-12-01T08:30:00+00:00"); the file was not changed',
         ),
         (
             '{"format_version": 2, "patient": {"weight_kg": 70, "age_years": 45, "sex": "male", "wieght": 7}}',
-            "patient.wieght: Extra inputs are not permitted; the file was not changed",
+            "patient.wieght: is not a key osmodose knows here (a misspelt key would lose its value); "
+            "the file was not changed",
         ),
     ],
 )

@@ -45,14 +45,14 @@ def test_plan_judges_the_osmolality_carried_through_the_doses_not_the_stale_meas
     assert (found.severity, found.limit) == ("refuse", 320.0)
     assert found.value == pytest.approx(316 + 2 * (PROJECTED - 150))
     assert found.message == (
-        "osmolality now about 327.0 mOsm/kg (measured 316 at 2026-12-01T08:00+00:00 + 2 x 5.5 projected "
+        "osmolality now about 327.0 mOsm/kg (measured 316 at 2026-12-01T08:00+00:00, 3.0 h old, + 2 x 5.5 "
         "sodium change since) is above the refuse limit of 320 mOsm/kg"
     )
     assert plan.status == "refuse"
     assert (
-        "Osmolar gap n/a: the measured osmolality 316 mOsm/kg (2026-12-01T08:00+00:00) predates the 2 doses "
-        "since, so it is not set against the osmolality calculated from the projected sodium; osmolality is "
-        "judged as the larger of the calculated (322.0) and 316 + 2 x 5.5 = 327.0 mOsm/kg. "
+        "Osmolar gap n/a: the latest measured osmolality, 316 mOsm/kg at 2026-12-01T08:00+00:00 (3.0 h old), "
+        "predates the 2 doses since the latest lab, so it is not set against the osmolality calculated from the "
+        "sodium now; osmolality is judged as the larger of the calculated (322.0) and 316 + 2 x 5.5 = 327.0 mOsm/kg. "
         "Re-measure before dosing on it."
     ) in plan.notes
 

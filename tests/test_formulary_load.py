@@ -237,8 +237,9 @@ osmolarity = "273 mOsm/L"
 def test_an_unknown_solute(tmp_path: Path) -> None:
     path = write(tmp_path, HEADER + NACL_3.replace('"sodium chloride"', '"sodium chlorid"'))
     assert problems_of(path) == [
-        f"formulary {path}:7: agents[1].solute: 'sodium chlorid' is not one of "
-        "'sodium chloride', 'mannitol', 'sodium bicarbonate', 'glucose', 'glucose monohydrate' or 'mixed'"
+        f'formulary {path}:7: agents[1].solute: "sodium chlorid" is not a solute osmodose knows (accepted: '
+        '"sodium chloride", "mannitol", "sodium bicarbonate", "glucose", "glucose monohydrate" or "mixed", '
+        'e.g. solute = "sodium chloride")'
     ]
 
 

@@ -39,14 +39,14 @@ ERROR_CASES = {
     "unknown agent key: the misspelt one and the missing one": (
         {14: 'rout = "central"'},
         [
-            "9: agents[1].route: is required but missing",
+            '9: agents[1].route: is required but missing (accepted: add it, e.g. route = "any-line")',
             "14: agents[1].rout: is not a known key (did you mean 'route'?)",
         ],
     ),
     "unknown key with nothing close: the known keys are listed": (
         {2: 'title = "Test unit"'},
         [
-            "1: formulary.name: is required but missing",
+            '1: formulary.name: is required but missing (accepted: add it, e.g. name = "Ward 4 neuro ICU")',
             "2: formulary.title: is not a known key (known keys here: name, version)",
         ],
     ),
@@ -79,9 +79,9 @@ ERROR_CASES = {
             'unit, e.g. "3 % w/v"'
         ],
     ),
-    "a value of the wrong type: pydantic's words, with what was written": (
+    "a value of the wrong type: what it is, what is accepted, an example (never the library's words)": (
         {7: "sodium_refuse = [160]"},
-        ["7: limits.sodium_refuse: Input should be a valid string (got [160])"],
+        ['7: limits.sodium_refuse: is a list, not text (accepted: quoted text, e.g. sodium_refuse = "160 mmol/L")'],
     ),
     "a limit in the wrong dimension": (
         {7: 'sodium_refuse = "160 mOsm/kg"'},
@@ -131,11 +131,14 @@ ERROR_CASES = {
     ),
     "a route that is not one of the two": (
         {14: 'route = "centre"'},
-        ["14: agents[1].route: 'centre' is not one of 'central-only' or 'any-line'"],
+        [
+            '14: agents[1].route: "centre" is not a route osmodose knows (accepted: "central-only" or "any-line", '
+            'e.g. route = "any-line")'
+        ],
     ),
     "a required key missing: the line is the agent's table": (
         {11: ""},
-        ["9: agents[1].label: is required but missing"],
+        ['9: agents[1].label: is required but missing (accepted: add it, e.g. label = "Sodium chloride 3 % 250 mL")'],
     ),
     "an explicit sodium that disagrees with the concentration": (
         # 3 % w/v: 30 g/L / 58.44 g/mol = 513 mmol/L; 154 is the 0.9 % label (product labels).
@@ -361,7 +364,11 @@ def test_a_file_without_agents_names_the_missing_key_without_a_line(
     path = write(tmp_path, "\n".join(edited().splitlines()[:8]) + "\n")
     code, lines, _ = validate(capsys, str(path))
     assert code == 1
-    assert lines == [f"{path}: agents: is required but missing", f"{path}: not valid: 1 error"]
+    assert lines == [
+        f"{path}: agents: is required but missing "
+        '(accepted: add it, e.g. one [[agents]] table per stock solution, with id = "nacl-3")',
+        f"{path}: not valid: 1 error",
+    ]
 
 
 def test_an_unreadable_file_is_one_line_on_stderr_and_exit_two(

@@ -103,7 +103,7 @@ def test_the_request_is_frozen_and_keeps_what_was_typed() -> None:
 # --- bad input, word for word ------------------------------------------------------------------
 
 _DOSE_ACCEPTED = "g, mL, mmol or mOsm, absolute or per kg (1 g/kg, 5 mL/kg, 50 g, 120 mmol)"
-_ONE_MODE = "exactly one of dose, volume or target-rise"
+_ONE_MODE = "exactly one of dose, volume, target-rise or target-sodium"
 
 
 @pytest.mark.parametrize(

@@ -352,7 +352,7 @@ def test_maximum_rate(demo: Formulary, duration: str, expected: list) -> None:
 
 def test_maximum_rate_message(demo: Formulary) -> None:
     result = check(demo, sodium="140", agent="nacl-23.4", volume="30", duration="5", line="central")
-    assert only(result, "rate-too-fast").message == "rate 360 mL/h is faster than the agent's maximum of 180 mL/h"
+    assert only(result, "rate-too-fast").message == "rate 360.0 mL/h is faster than the agent's maximum of 180 mL/h"
 
 
 def test_a_central_only_agent_on_a_peripheral_line_is_refused(demo: Formulary) -> None:

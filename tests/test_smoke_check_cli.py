@@ -28,7 +28,7 @@ def test_check_json_for_one_litre_of_three_percent_saline() -> None:
     )
     assert done.returncode in (0, 3, 4), done.stderr
     result = json.loads(done.stdout)
-    assert round(result["projected_sodium_rise_mmol_l"], 2) == 9.37
+    assert result["projected_sodium_rise_mmol_l"] == 9.4  # (513 - 110) / 43 = 9.37, printed to 0.1 mmol/L
     assert result["patient"]["total_body_water_l"] == 42.0
 
 

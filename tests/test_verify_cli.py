@@ -74,7 +74,7 @@ def test_text_output_names_the_saved_record(tmp_path, capsys) -> None:
     args = verify_args(log, "--agent", "mannitol-20", "--volume", "250", "--duration", "20", "--line", "central")
     assert main(args) == 0
     lines = capsys.readouterr().out.splitlines()
-    assert lines[0] == "osmodose verification  [RELEASED] no limit crossed and nothing contradicts the order"
+    assert lines[0] == "osmodose verification  RELEASED: no limit crossed and nothing contradicts the order"
     assert lines[-2] == f"saved as record 1 in {log}"
     assert lines[-1].startswith("record sha256 ")
 
@@ -106,7 +106,7 @@ def test_log_path_from_the_environment(tmp_path, capsys, monkeypatch) -> None:
     assert log.is_file()
     capsys.readouterr()
     assert main(["log", "list"]) == 0
-    assert "released" in capsys.readouterr().out
+    assert "  RELEASED  " in capsys.readouterr().out
 
 
 @pytest.mark.parametrize(
@@ -136,11 +136,11 @@ def test_log_verify_list_and_show(tmp_path, capsys) -> None:
     assert main(["log", "list", "--log", str(log)]) == 0
     listed = capsys.readouterr().out.splitlines()
     assert len(listed) == 2
-    assert "  AB      refused " in listed[1] and "mannitol-20 3500 mL" in listed[1]
+    assert "  AB      REFUSED " in listed[1] and "mannitol-20 3500 mL" in listed[1]
     assert main(["log", "show", "2", "--log", str(log)]) == 0
     shown = capsys.readouterr().out.splitlines()
     assert shown[0] == f"record 2 of log {log}"
-    assert shown[3].startswith("osmodose verification  [REFUSED]")
+    assert shown[3].startswith("osmodose verification  REFUSED: ")
     assert main(["log", "show", "2", "--json", "--log", str(log)]) == 0
     assert json.loads(capsys.readouterr().out)["record"]["order"]["volume_ml"] == 3500.0
 
@@ -194,7 +194,7 @@ def test_verify_through_a_real_subprocess(tmp_path) -> None:
     log = tmp_path / "log.jsonl"
     done = run_cli(*verify_args(log, "--agent", "nacl-23.4", "--volume", "30", "--duration", "5", "--line", "central"))
     assert done.returncode == 4, done.stderr
-    assert "[REFUSE] rate-too-fast: rate 360 mL/h is faster than the agent's maximum of 180 mL/h" in done.stdout
+    assert "  REFUSE rate-too-fast: rate 360.0 mL/h is faster than the agent's maximum of 180 mL/h\n" in done.stdout
     assert run_cli("log", "verify", "--log", str(log)).returncode == 0
 
 

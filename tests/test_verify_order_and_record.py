@@ -126,10 +126,10 @@ def test_request_with_its_own_dose_is_a_programming_error(demo) -> None:
 
 def test_record_json_round_trips(demo) -> None:
     record = verify(demo, agent="mannitol-20", volume="3500", duration="30", stated_dose="1g/kg", line="peripheral")
-    text = json.dumps(record.to_json(), allow_nan=False)
-    again = VerificationRecord.model_validate_json(text)
+    # The log keeps the record in full precision; its JSON document rounds each figure once, as declared.
+    again = VerificationRecord.model_validate_json(record.model_dump_json())
     assert again == record
-    data = json.loads(text)
+    data = json.loads(json.dumps(record.to_json(), allow_nan=False))
     assert data["decision"]["outcome"] == "refused"
     assert data["result"]["dose"]["solute_g"] == pytest.approx(700.0)
     assert {d["code"] for d in data["discrepancies"]} == {"stated-dose-mismatch"}
@@ -147,12 +147,14 @@ def test_record_text_names_who_when_what_and_the_decision(demo) -> None:
     )
     text = record.render_text()
     lines = text.splitlines()
-    assert lines[0] == ("osmodose verification  [RELEASED WITH ACCEPTED WARNINGS] every warning accepted with a reason")
+    # One spelling per decision: the JSON value in capitals, in the heading and the decision line alike.
+    assert lines[0] == "osmodose verification  RELEASED-WITH-ACCEPTED-WARNINGS: every warning accepted with a reason"
+    assert "decision: RELEASED-WITH-ACCEPTED-WARNINGS" in lines
     assert lines[1] == "verified by AB at 2026-12-02T08:30:00+01:00 with osmodose 0.1.0"
     assert lines[2].startswith("formulary: Larkspur Point 7N neuro ICU (fictional demo unit) v2026-12-demo sha256 ")
     assert "order as written: agent mannitol-20, volume 350, duration 20, line central, stated-dose 1g/kg" in lines
     assert "  read as: mannitol-20 350 mL over 20 min, central line; stated dose 1 g/kg" in lines
     assert "  accepted by AB: volume-not-a-presentation: drawn from a 500 mL bag" in lines
     # The recomputation is the check report's own wording.
-    assert "    solute 70.00 g (1.00 g/kg)   sodium 0.0 mmol (0.00 mmol/kg)   osmoles 384 mOsm" in lines
+    assert "    solute 70.00 g (1.00 g/kg)   sodium load 0.0 mmol (0.00 mmol/kg)   osmolar load 384 mOsm" in lines
     assert lines[-1] == record.caution

@@ -15,11 +15,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
-from osmodose.app.view import SYMBOL, FieldSpec, spec_of
+from osmodose.app.view import SYMBOL, FieldSpec, shown_names, spec_of
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import LAB_KEYS
 from osmodose.course.entries import OUTPUT_KEYS, parse_dose_entry, parse_lab, parse_output, parse_reading
 from osmodose.course.episode import DoseEntry, Episode, LabEntry, OutputEntry, ReadingEntry
+from osmodose.course.marks import LEGEND, TimelineRow
 from osmodose.course.plan import plan_dose
 from osmodose.course.report import (
     COURSE_STATUS_WORDS,
@@ -28,12 +29,12 @@ from osmodose.course.report import (
     projection_line,
     render_plan_text,
     review,
-    timeline_rows,
+    timeline_table,
 )
 from osmodose.course.report_response import apparent_lines, icp_lines
 from osmodose.course.series import CourseSeries, course_series
 from osmodose.course.store import read_episode, save_episode
-from osmodose.errors import OsmodoseError
+from osmodose.errors import InputError, OsmodoseError
 from osmodose.formulary.model import Formulary
 
 EntryKind = Literal["lab", "dose", "reading", "output"]
@@ -71,6 +72,7 @@ PLAN_FIELDS: tuple[FieldSpec, ...] = (
     spec_of("volume", "plan"),
     spec_of("dose", "plan", label="or dose", hint="1 g/kg, or 50 g"),
     spec_of("target-rise", "plan", label="or Na change"),
+    spec_of("target-sodium", "plan", label="or target Na"),
     spec_of("duration", "plan"),
     spec_of("line", "plan"),
     spec_of("time", "plan", label="at", hint="blank = now; " + TIME_HINT),
@@ -87,7 +89,9 @@ class CourseState:
     review: Review
     series: CourseSeries
     rows: tuple[tuple[str, str, str], ...]
-    """(time, entry, details) rows of the timeline table."""
+    """(time, entry, details) rows of the timeline table; a value past a limit carries its word (324.0 TOO HIGH)."""
+    table: tuple[TimelineRow, ...] = ()
+    """The same rows as cells, each with its mark and severity, for a screen that colours them too."""
 
 
 def open_course(path: Path | str, formulary: Formulary) -> CourseState:
@@ -95,13 +99,15 @@ def open_course(path: Path | str, formulary: Formulary) -> CourseState:
     path = Path(path)
     episode, digest = read_episode(path)
     result = review(episode, formulary)
+    table = tuple(timeline_table(result))
     return CourseState(
         path=path,
         episode=episode,
         sha256=digest,
         review=result,
         series=course_series(episode, formulary),
-        rows=tuple(timeline_rows(result)),
+        rows=tuple((row.time, row.kind, row.text) for row in table),
+        table=table,
     )
 
 
@@ -117,8 +123,11 @@ class FormOutcome:
 
 
 def _error(error: OsmodoseError, specs: tuple[FieldSpec, ...]) -> FormOutcome:
+    """The error in the form's own words (its box labels), and the box it marks."""
     keys = {spec.key for spec in specs}
     field = getattr(error, "field", None)
+    if isinstance(error, InputError):
+        error = error.named(shown_names(specs))
     return FormOutcome(error=error, field=field if field in keys else None)
 
 
@@ -168,6 +177,11 @@ def head_text(state: CourseState) -> str:
     if ep.outputs:
         counts += f", {len(ep.outputs)} urine outputs"
     return f"episode: {state.path}  ({counts})\n{patient_line(state.review)}"
+
+
+def legend_text(state: CourseState) -> str:
+    """What the marks in the timeline mean, when any cell is marked (else nothing)."""
+    return LEGEND if any(row.severity for row in state.table) else ""
 
 
 def finding_rows(state: CourseState) -> list[tuple[str, str]]:

@@ -24,12 +24,19 @@ FIGURE_HELP: tuple[tuple[str, str], ...] = (
     (
         "volume",
         "dose ÷ the agent's concentration (× weight for a per-kg dose); for a target Na change "
-        "R: V = R × TBW ÷ (Na_inf + K_inf − Na − R)",
+        "R: V = R × TBW ÷ (Na_inf + K_inf − Na − R); a target Na is the change target − Na",
     ),
     ("rate", "volume ÷ duration, in mL/h"),
-    ("solute, sodium, osmoles", "volume × the agent's g/L, sodium mmol/L and mOsm/L; per kg ÷ weight"),
-    ("from stock", "whole bags or vials of each size kept that hold the volume, and what is left to discard"),
-    ("Na per litre", "Adrogué–Madias: (Na_inf + K_inf − Na) ÷ (TBW + 1)"),
+    (
+        "solute, sodium load, osmolar load",
+        "what the volume carries: volume × the agent's g/L, sodium mmol/L and mOsm/L; per kg ÷ weight",
+    ),
+    (
+        "from stock",
+        "alternatives, the least waste first: the whole volume from bags or vials of one size, "
+        "and what is left to discard",
+    ),
+    ("Na change per litre of this fluid", "Adrogué–Madias: (Na_inf + K_inf − Na) ÷ (TBW + 1)"),
     (
         "projected Na",
         "mass balance Na + V (Na_inf + K_inf − Na) ÷ (TBW + V); with urine typed, the full balance "
@@ -37,7 +44,7 @@ FIGURE_HELP: tuple[tuple[str, str], ...] = (
         "the range spans TBW (fraction against Watson, ± Watson's error), sodium ± 2 and, in hyponatraemia, "
         "2.4 × the predicted rise (Mohmand 2007); none for mannitol",
     ),
-    ("Na w/o urine", "the same projection with the infusate alone, as without urine"),
+    ("Na without urine losses", "the same projection with the infusate alone, as without urine"),
     ("equiosmolar", "the volume of each other osmotherapy agent with the same ideal mOsm as the order"),
     ("checks", "each figure against the formulary's limit: warn or refuse when strictly above it"),
 )

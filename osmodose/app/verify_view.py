@@ -21,13 +21,13 @@ from dataclasses import dataclass, field
 from datetime import datetime
 from typing import NamedTuple
 
-from osmodose.app.view import FIELDS, SYMBOL, FieldSpec, spec_of
+from osmodose.app.view import ERROR_NAMES, FIELDS, SYMBOL, FieldSpec, shown_names, spec_of
 from osmodose.case.fields import WRITTEN_ORDER_KEYS
 from osmodose.case.inputs import parse_check_request
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.verify import VerificationRecord, make_acceptance, parse_initials, parse_order, verify_order
-from osmodose.verify.decision import MIN_REASON_LENGTH, NOT_ACCEPTABLE
+from osmodose.verify.decision import MIN_REASON_LENGTH, NOT_ACCEPTABLE, decision_word
 from osmodose.verify.discrepancies import Discrepancy
 
 #: Keys of the check screen's form that belong to its own order, not to the patient or the labs.
@@ -50,13 +50,23 @@ ORDER_SPECS: tuple[FieldSpec, ...] = (
 )
 INITIALS_SPEC = FieldSpec("initials", "initials", "verifier", "e.g. AB")
 assert {spec.key for spec in ORDER_SPECS} == set(WRITTEN_ORDER_KEYS)
+#: What an error calls each box of the order as written: its label on this screen.
+ORDER_NAMES = shown_names(ORDER_SPECS)
 
 #: The decision line: symbol, word and CSS state (ok/warn/refuse colours), so it reads without colour too.
 DECISION_SHOWN: dict[str, tuple[str, str, str]] = {
-    "released": ("✔", "RELEASED: nothing crossed and nothing contradicts the order", "ok"),
-    "released-with-accepted-warnings": ("✔", "RELEASED WITH ACCEPTED WARNINGS: each has a reason", "ok"),
-    "held": ("▲", "HELD: a warning is not accepted; not released until it is, or the order changes", "warn"),
-    "refused": ("✖", "REFUSED: do not give as written; the order must be changed", "refuse"),
+    "released": ("✔", f"{decision_word('released')}: nothing crossed and nothing contradicts the order", "ok"),
+    "released-with-accepted-warnings": (
+        "✔",
+        f"{decision_word('released-with-accepted-warnings')}: each has a reason",
+        "ok",
+    ),
+    "held": (
+        "▲",
+        f"{decision_word('held')}: a warning is not accepted; not released until it is, or the order changes",
+        "warn",
+    ),
+    "refused": ("✖", f"{decision_word('refused')}: do not give as written; the order must be changed", "refuse"),
 }
 
 
@@ -142,15 +152,15 @@ def evaluate(entry: Entry, formulary: Formulary, now: datetime | None = None) ->
     try:
         request = parse_check_request(dict(entry.patient))
     except InputError as error:
-        return VerifyState(None, None, error, PATIENT, error.value is None)
+        return VerifyState(None, None, error.named(ERROR_NAMES), PATIENT, error.value is None)
     try:
         order = parse_order(dict(entry.order))
     except InputError as error:
-        return VerifyState(None, None, error, error.field, error.value is None)
+        return VerifyState(None, None, error.named(ORDER_NAMES), error.field, error.value is None)
     try:
         preview = verify_order(request, order, formulary, (), PREVIEW_INITIALS, now=now)
     except InputError as error:
-        return VerifyState(None, None, error, error.field, error.value is None)
+        return VerifyState(None, None, error.named(ORDER_NAMES), error.field, error.value is None)
     acceptances = []
     for code in preview.decision.open_warnings:
         if code in preview.decision.must_state or not entry.accepted.get(code):

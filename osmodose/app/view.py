@@ -2,8 +2,8 @@
 
 The form's fields, one evaluation of the typed text through the core
 (`parse_check_request` then `run_check`), and the text of each shown figure,
-formatted with the report's own `fmt`/`signed` so the screen and the saved
-summary round alike.  Nothing here computes a clinical figure.
+formatted by `science.precision` as the report and the JSON are, so the screen
+and the saved summary round alike.  Nothing here computes a clinical figure.
 """
 
 from __future__ import annotations
@@ -16,11 +16,13 @@ from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
 from osmodose.case.inputs import DoseMode, parse_check_request
 from osmodose.check.report import (
+    LABELS,
     corrected_sodium_text,
     fmt,
+    presentation_text,
     range_text,
+    rate_text,
     rise_budget_text,
-    signed,
     status_words,
     volume_text,
 )
@@ -28,6 +30,7 @@ from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.errors import InputError, LabsFileError
 from osmodose.formulary.model import Formulary
+from osmodose.science import precision as p
 from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 
 if TYPE_CHECKING:
@@ -79,6 +82,19 @@ FIELDS: tuple[FieldSpec, ...] = (
 )
 
 
+def shown_names(specs: tuple[FieldSpec, ...]) -> dict[str, str]:
+    """What a form calls each field, for its errors: the box's label ("or BUN" as "BUN")."""
+    return {spec.key: spec.label.removeprefix("or ") for spec in specs}
+
+
+#: What an error calls each field typed on the check screen: the box's label, and an amount by
+#: the style it is asked as ("target Na change", not the command line's `target-rise`).
+ERROR_NAMES: dict[str, str] = {
+    **shown_names(FIELDS),
+    **{mode: DOSE_CHOICE.label(mode) for mode in DOSE_CHOICE.values},
+}
+
+
 @dataclass(frozen=True)
 class Outcome:
     """One evaluation: a result, or the error that stops one (never both)."""
@@ -126,7 +142,8 @@ def evaluate(
         result = run_check(parse_check_request(fields, dose_mode=mode, data_in=data_in), formulary)
     except (InputError, LabsFileError) as error:
         field, missing = _where(error, values, amount)
-        return Outcome(None, error, field, missing)
+        shown = error.named(ERROR_NAMES) if isinstance(error, InputError) else error
+        return Outcome(None, shown, field, missing)
     return Outcome(result)
 
 
@@ -177,7 +194,7 @@ def _where(error: InputError | LabsFileError, values: dict[str, str], amount: st
         return error.field or "sodium", False
     if error.field == "agent" and not amount:
         return AMOUNT, True  # an agent is chosen but no amount typed yet
-    if error.field in ("dose", "volume", "target-rise"):
+    if error.field in DOSE_CHOICE.values:
         if not (values.get("agent") or "").strip():
             return "agent", True
         return AMOUNT, False
@@ -207,32 +224,33 @@ PATIENT_FIGURES: tuple[tuple[str, str], ...] = (
 )
 #: (id, label) of the order's figures.
 DOSE_FIGURES: tuple[tuple[str, str], ...] = (
-    ("volume", "volume"),
-    ("rate", "rate"),
-    ("solute", "solute"),
-    ("sodium-load", "sodium"),
-    ("osmoles", "osmoles"),
-    ("na-per-litre", "Na per litre"),
-    ("projected-na", "projected Na"),
-    ("na-no-losses", "Na w/o urine"),
+    ("volume", LABELS["volume"]),
+    ("rate", LABELS["rate"]),
+    ("solute", LABELS["solute"]),
+    ("sodium-load", LABELS["sodium-load"]),
+    ("osmoles", LABELS["osmolar-load"]),
+    ("na-per-litre", LABELS["na-per-litre"]),
+    ("projected-na", LABELS["projected-na"]),
+    ("na-no-losses", "Na without urine losses"),
 )
 
 
 def patient_texts(result: CheckResult) -> dict[str, str]:
     """Shown text of each figure that needs no order."""
-    p = result.patient
-    method = "Watson" if p.tbw_method == "watson" else "fraction"
+    pt = result.patient
+    method = "Watson" if pt.tbw_method == "watson" else "fraction"
+    f = p.figure_text
     return {
-        "tbw": f"{fmt(p.total_body_water_l, 'L')} ({method})",
-        "calc-osm": fmt(result.calculated_osmolality_mosm_kg, "mOsm/kg"),
-        "eff-osm": fmt(result.effective_osmolality_mosm_kg, "mOsm/kg"),
-        "gap": fmt(result.osmolar_gap_mosm_kg, "mOsm/kg"),
+        "tbw": f"{f('total_body_water_l', pt.total_body_water_l, 'L')} ({method})",
+        "calc-osm": f("calculated_osmolality_mosm_kg", result.calculated_osmolality_mosm_kg, "mOsm/kg"),
+        "eff-osm": f("effective_osmolality_mosm_kg", result.effective_osmolality_mosm_kg, "mOsm/kg"),
+        "gap": f("osmolar_gap_mosm_kg", result.osmolar_gap_mosm_kg, "mOsm/kg"),
         "free-water": "n/a (sodium not high)"
         if result.free_water_deficit_l is None
-        else fmt(result.free_water_deficit_l, "L"),
+        else f("free_water_deficit_l", result.free_water_deficit_l, "L"),
         "urine-water": "n/a (no urine given)"
         if result.urine is None
-        else fmt(result.electrolyte_free_water_clearance_l, "L", 2),
+        else f("electrolyte_free_water_clearance_l", result.electrolyte_free_water_clearance_l, "L"),
     }
 
 
@@ -241,26 +259,28 @@ def dose_texts(result: CheckResult) -> dict[str, str]:
     dose = result.dose
     if dose is None:
         return {}
-    rate = "n/a (no duration)"
-    if dose.rate_ml_h is not None and dose.duration_min:
-        rate = f"{dose.rate_ml_h:.0f} mL/h over {dose.duration_min:g} min"
+    f = p.figure_text
     return {
-        "volume": f"{fmt(dose.volume_ml, 'mL')} ({fmt(dose.volume_ml_per_kg, 'mL/kg', 2)})",
-        "rate": rate,
-        "solute": f"{fmt(dose.solute_g, 'g', 2)} ({fmt(dose.solute_g_per_kg, 'g/kg', 2)})",
-        "sodium-load": f"{fmt(dose.sodium_mmol, 'mmol')} ({fmt(dose.sodium_mmol_per_kg, 'mmol/kg', 2)})",
-        "osmoles": fmt(dose.osmoles_mosm, "mOsm", 0),
-        "na-per-litre": signed(result.sodium_change_per_litre_mmol_l, "mmol/L"),
-        "projected-na": f"{fmt(result.projected_sodium_mmol_l, 'mmol/L')} "
-        f"({signed(result.projected_sodium_rise_mmol_l)}{range_text(result)})",
+        "volume": f"{f('volume_ml', dose.volume_ml, 'mL')} ({f('volume_ml_per_kg', dose.volume_ml_per_kg, 'mL/kg')})",
+        "rate": rate_text(result) or "n/a (no duration)",
+        "solute": f"{f('solute_g', dose.solute_g, 'g')} ({f('solute_g_per_kg', dose.solute_g_per_kg, 'g/kg')})",
+        "sodium-load": f"{f('sodium_mmol', dose.sodium_mmol, 'mmol')} "
+        f"({f('sodium_mmol_per_kg', dose.sodium_mmol_per_kg, 'mmol/kg')})",
+        "osmoles": f("osmoles_mosm", dose.osmoles_mosm, "mOsm"),
+        "na-per-litre": p.signed_text(
+            "sodium_change_per_litre_mmol_l", result.sodium_change_per_litre_mmol_l, "mmol/L"
+        ),
+        "projected-na": f"{f('projected_sodium_mmol_l', result.projected_sodium_mmol_l, 'mmol/L')} "
+        f"({p.signed_text('projected_sodium_rise_mmol_l', result.projected_sodium_rise_mmol_l, 'mmol/L')}"
+        f"{range_text(result)})",
         "na-no-losses": "n/a (no urine given)"
         if result.urine is None
-        else fmt(result.projected_sodium_without_losses_mmol_l, "mmol/L"),
+        else f("projected_sodium_without_losses_mmol_l", result.projected_sodium_without_losses_mmol_l, "mmol/L"),
     }
 
 
 #: (id, label) of the patient-level figures added for the safety checks (body size, tonicity, the rise
-#: budget), shown only where the case has them; not yet laid out on a screen.
+#: budget), shown only where the case has them.
 SAFETY_FIGURES: tuple[tuple[str, str], ...] = (
     ("bmi", "body mass index"),
     ("corrected-na", "Na corrected for glucose"),
@@ -292,15 +312,23 @@ def daily_fall_rows(result: CheckResult) -> list[tuple[str, str]]:
     return [(v.agent, volume_text(v.volume_ml)) for v in result.volumes_for_daily_fall]
 
 
+def asked_text(result: CheckResult) -> str:
+    """The order as asked for, its style named as the "asked as" select names it: "target Na change 6"."""
+    dose = result.dose
+    if dose is None:
+        return ""
+    return f"{DOSE_CHOICE.label(dose.mode)} {dose.requested.removeprefix(dose.mode + ' ')}"
+
+
 def stock_rows(result: CheckResult) -> list[str]:
-    """The volume against each bag or vial size the agent is kept in."""
+    """The ways to draw the volume from the agent's bag or vial sizes: alternatives, best first.
+
+    "1 × 500 mL (discard 150 mL)", then "or 2 × 250 mL (discard 150 mL)": each
+    row is the whole volume from one size, never a part of a combination.
+    """
     if result.dose is None:
         return []
-    rows = []
-    for fit in result.dose.presentations:
-        text = f"{fit.containers} × {fit.size_ml:g} mL"
-        text += f", discard {fit.discard_ml:g} mL" if fit.discard_ml else ", none left over"
-        rows.append(text)
+    rows = [("or " if k else "") + presentation_text(fit) for k, fit in enumerate(result.dose.presentations)]
     return rows or ["no presentations listed in the formulary"]
 
 

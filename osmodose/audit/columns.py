@@ -68,7 +68,8 @@ def _columns() -> dict[str, ColumnSpec]:
 COLUMNS: dict[str, ColumnSpec] = _columns()
 
 #: The columns that say how much of the agent was ordered (at most one per row).
-ORDER_COLUMNS: tuple[str, ...] = ("dose", "volume", "target-rise")
+ORDER_COLUMNS: tuple[str, ...] = ("dose", "volume", "target-rise", "target-sodium")
+_ORDER_WORDS = "a dose, volume, target-rise or target-sodium column"
 
 
 @dataclass(frozen=True)
@@ -153,10 +154,10 @@ def _check_together(header: Header) -> None:
             raise OrdersFileError(path, "is required", spec.name)
     ordered = [name for name in ORDER_COLUMNS if name in header]
     if ordered and "agent" not in header:
-        raise OrdersFileError(path, "is required with a dose, volume or target-rise column", "agent")
+        raise OrdersFileError(path, f"is required with {_ORDER_WORDS}", "agent")
     if "agent" in header and not ordered:
         column = header.columns["agent"]
-        raise OrdersFileError(path, "needs a dose, volume or target-rise column", column.written, column.index + 1)
+        raise OrdersFileError(path, f"needs {_ORDER_WORDS}", column.written, column.index + 1)
     unit_column = header.get("dose-unit")
     if unit_column is not None:
         dose = header.get("dose")

@@ -22,17 +22,25 @@ from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
 from osmodose.audit.reader import RawChunk
 from osmodose.case.fields import FIELDS, LAB_FIELDS, URINE_FIELDS, CaseField
-from osmodose.case.inputs import URINE_SODIUM_ACCEPTED, URINE_VOLUME_ACCEPTED, DoseRequest, parse_dose
+from osmodose.case.inputs import (
+    URINE_SODIUM_ACCEPTED,
+    URINE_VOLUME_ACCEPTED,
+    DoseRequest,
+    parse_dose,
+    target_change,
+    target_sodium_error,
+)
 from osmodose.check.engine import DOSE_UNITS, DOSE_WEIGHTS, Cases, dose_unit_codes
 from osmodose.check.patient_figures import dose_weight_height_error, dose_weight_problems
 from osmodose.check.run import dose_misfit, height_required_error
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import TARGET_MODES
 
 #: A dose cell "number unit" whose unit is letters and slashes reads as number x (1 unit);
 #: anything else is handed whole to `parse_dose`.
 _DOSE_SPLIT = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ][A-Za-zµμ/ ]*?)\s*")
-_ONE_ORDER = "exactly one of dose, volume or target-rise"
+_ONE_ORDER = "exactly one of dose, volume, target-rise or target-sodium"
 OUTSIDE = "is outside the plausible range"
 #: Every lab column a row may have, including those read into another (BUN into urea), in table order.
 LAB_FIELDS_TYPED = tuple(f for f in FIELDS.values() if f.group == "labs")
@@ -211,10 +219,10 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     )
     active = has_agent & (count == 1) & ~reasons.bad
     number("duration", active=active)
-    mode = np.full(n, "", dtype="U11")
+    mode = np.full(n, "", dtype=f"U{max(map(len, ORDER_COLUMNS))}")
     for name in ORDER_COLUMNS:
         mode[active & orders[name]] = name
-    dose_unit = np.where(mode == "volume", "mL", np.where(mode == "target-rise", "mmol/L", "")).astype("U6")
+    dose_unit = np.where(mode == "volume", "mL", np.where(np.isin(mode, TARGET_MODES), "mmol/L", "")).astype("U6")
     number("volume", active=mode == "volume")
     rise_text = mode == "target-rise"
     rise_values = chunk.number("target-rise").engine  # unreadable cells are NaN, never zero
@@ -225,7 +233,24 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         lambda i: _error("target-rise", chunk.shown("target-rise", i), "is zero", rise_accepted),
     )
     number("target-rise", active=rise_text)
-    amount = np.where(mode == "volume", values["volume"], np.where(rise_text, values["target-rise"], np.nan))
+    target_text = mode == "target-sodium"
+    number("target-sodium", active=target_text)
+    serum = values["sodium"]
+    change = target_change(values["target-sodium"], serum)
+    bounds = FIELDS["target-rise"].bounds
+    with np.errstate(invalid="ignore"):
+        target_bad = (
+            target_text & given["target-sodium"] & ((change == 0) | (change < bounds.low) | (change > bounds.high))
+        )
+
+    def target_reason(i: int) -> str:
+        shown = chunk.shown("target-sodium", i)
+        return str(target_sodium_error(shown, float(values["target-sodium"][i]), float(serum[i])))
+
+    reasons.add(target_bad, target_reason)
+    amount = np.select(
+        [mode == "volume", rise_text, target_text], [values["volume"], values["target-rise"], change], default=np.nan
+    )
     per_kg = np.zeros(n, dtype=bool)
     _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg)
 

@@ -1,8 +1,10 @@
 """Writing audit results: one row per order, as CSV or JSON, and the list of bad rows.
 
-Figures are written in full precision (Python's shortest round-trip form), so
-a row reads back as exactly the figures `osmodose check --json` gives for it;
-a figure that cannot be computed is an empty CSV cell or JSON null.
+Figures are rounded once, here, to the decimals `science.precision` declares
+for them (`audit_figures`, `audit_findings`), so a row reads back as exactly
+the figures `osmodose check --json` gives for it; a figure that cannot be
+computed is an empty CSV cell or JSON null.  Keys are the same in CSV and
+JSON, and the same as `check --json`'s (`order_id`, `volume_ml`).
 """
 
 from __future__ import annotations
@@ -11,7 +13,7 @@ import json
 from collections.abc import Iterator
 from math import isnan
 from pathlib import Path
-from typing import TextIO
+from typing import Any, TextIO
 
 import numpy as np
 
@@ -19,6 +21,7 @@ from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
 from osmodose.check.judging import SEVERITY_NAMES
 from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.formulary.model import Formulary
+from osmodose.science.precision import figure, round_finding
 
 FINDING_SEPARATOR = ";"
 MESSAGE_SEPARATOR = " | "
@@ -37,8 +40,22 @@ def _numbers(values: np.ndarray) -> list[str]:
     return text
 
 
-def formulary_ref(formulary: Formulary) -> dict[str, str]:
+def formulary_ref(formulary: Formulary) -> dict[str, object]:
     return FormularyRef.of(formulary).model_dump(mode="json")
+
+
+#: The key of an order's id in the results (CSV and JSON alike); the orders file's column is `order-id`.
+ORDER_ID = "order_id"
+
+
+def audit_figures(chunk: ChunkResult) -> dict[str, np.ndarray]:
+    """Each figure column of a chunk, rounded as declared for its key (NaN stays NaN)."""
+    return {name: figure(name, chunk.figures[name]) for name, _ in FIGURES}
+
+
+def audit_findings(findings: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """A row's findings with their value and limit rounded as `check --json` rounds them."""
+    return [round_finding(finding) for finding in findings]
 
 
 #: A CSV field with one of these is quoted (the csv module's minimal quoting).
@@ -68,7 +85,7 @@ class CsvResults:
     def __init__(self, stream: TextIO, with_order_id: bool) -> None:
         self.stream = stream
         self.with_order_id = with_order_id
-        head = ["row", *(["order-id"] if with_order_id else []), "status", "reason", "agent", "tbw_method"]
+        head = ["row", *([ORDER_ID] if with_order_id else []), "status", "reason", "agent", "tbw_method"]
         self._write([[name] for name in [*head, *(name for name, _ in FIGURES), "findings", "messages"]])
 
     def _write(self, columns: list[list[str] | tuple[str, ...]]) -> None:
@@ -90,7 +107,8 @@ class CsvResults:
         if self.with_order_id:
             columns.append(_quoted(chunk.order_id or ("",) * n))
         columns += [status, _quoted(reasons), _quoted([str(a) for a in chunk.agent_text.tolist()]), method]
-        columns += [_numbers(chunk.figures[name]) for name, _ in FIGURES]
+        figures = audit_figures(chunk)
+        columns += [_numbers(figures[name]) for name, _ in FIGURES]
         columns += [codes, _quoted(messages)]
         self._write(columns)
 
@@ -131,12 +149,12 @@ def _finding_texts(chunk: ChunkResult) -> dict[int, list[tuple[bool, str, str]]]
 def row_dicts(chunk: ChunkResult) -> Iterator[dict[str, object]]:
     """Each row as a JSON object: the names and values of `check --json`, flattened."""
     found = chunk.findings()
-    figures = {name: chunk.figures[name].tolist() for name, _ in FIGURES}
+    figures = {name: column.tolist() for name, column in audit_figures(chunk).items()}
     for i in range(len(chunk)):
         status = STATUS_NAMES[int(chunk.status[i])]
         row: dict[str, object] = {"row": int(chunk.lines[i])}
         if chunk.order_id is not None:
-            row["order_id"] = chunk.order_id[i]
+            row[ORDER_ID] = chunk.order_id[i]
         row["status"] = status
         row["reason"] = chunk.reasons.get(i)
         row["agent"] = str(chunk.agent_text[i]) or None
@@ -144,7 +162,7 @@ def row_dicts(chunk: ChunkResult) -> Iterator[dict[str, object]]:
         for name, _ in FIGURES:
             value = figures[name][i]
             row[name] = None if isnan(value) else value  # NaN: cannot be computed
-        row["findings"] = found.get(i, [])
+        row["findings"] = audit_findings(found.get(i, []))
         yield row
 
 

@@ -15,6 +15,7 @@ from osmodose.audit.output import formulary_ref
 from osmodose.audit.run import ChunkResult
 from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.formulary.model import Formulary
+from osmodose.science.precision import round_document, text, unit_decimals
 
 #: Per-kg figures summarised per agent: (unit, output figure name).
 DOSE_MEASURES: tuple[tuple[str, str], ...] = (
@@ -101,7 +102,7 @@ class Summary:
                     if counts[a].any()
                 },
             }
-        return {
+        document: dict[str, Any] = {
             "orders": self.path,
             "formulary": formulary_ref(self.formulary),
             "rows": int(self.status.sum()),
@@ -111,6 +112,8 @@ class Summary:
             "dose_per_kg": self.dose_rows(),
             "caution": CAUTION,
         }
+        rounded: dict[str, Any] = round_document(document)
+        return rounded
 
     def render(self) -> str:
         data = self.to_json()
@@ -136,9 +139,8 @@ class Summary:
             ]
         lines += ["", "dose per kg                        n       min    median       p90       max"]
         for d in data["dose_per_kg"]:
-            lines.append(
-                f"  {d['agent']:<20} {d['unit']:<8} {d['n']:>7} {d['min']:>9.3g} {d['median']:>9.3g}"
-                f" {d['p90']:>9.3g} {d['max']:>9.3g}"
-            )
+            places = unit_decimals(d["unit"], "dose-per-kg")
+            figures = " ".join(f"{text(d[k], places):>9}" for k in ("min", "median", "p90", "max"))
+            lines.append(f"  {d['agent']:<20} {d['unit']:<8} {d['n']:>7} {figures}")
         lines += ["", CAUTION]
         return "\n".join(lines) + "\n"

@@ -21,7 +21,7 @@ from typing import Any, Literal
 from osmodose.case.loinc import Loinc, memory, profile, value_set
 from osmodose.errors import InputError
 from osmodose.science.chemistry import molar_mass
-from osmodose.science.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, YES_NO, Choice
+from osmodose.science.choices import DOSE_MODE, LINE, SEX, TARGET_MODES, TBW_METHOD, YES_NO, Choice
 from osmodose.science.ranges import Range
 from osmodose.science.units import Quantity, as_osmolar, is_bare_number, one, parse_quantity, ureg
 
@@ -210,8 +210,12 @@ FIELDS: dict[str, CaseField] = {
                   "1 g/kg, 5 mL/kg, 50 g", kind="dose"),
         _number("volume", "order", "volume", "volume; bare number = mL", "mL, or 0.25 L", "mL", 0.1, 5000.0,
                 "volume_ml"),
-        _number("target-rise", "order", "target Na change", "the sodium change wanted; bare number = mmol/L",
-                "mmol/L, e.g. 6 or -4", "mmol/L", -30.0, 30.0),
+        _number("target-rise", "order", "target Na change",
+                "the sodium change wanted (negative to lower it); bare number = mmol/L", "mmol/L, e.g. 6 or -4",
+                "mmol/L", -30.0, 30.0),
+        _number("target-sodium", "order", "target Na",
+                "the serum sodium wanted after the order (read as a change from the serum sodium); "
+                "bare number = mmol/L", "mmol/L, e.g. 134", "mmol/L", 90.0, 200.0),
         _number("duration", "order", "duration", "infusion time; bare number = minutes (e.g. 20, 2h)",
                 "min, or 2 h", "min", 1.0, 7 * 24 * 60.0, "duration_min"),
         _choice("line", "order", "line", "the line the order runs through; without it no line check", LINE,
@@ -258,7 +262,7 @@ def keys(*groups: Group) -> tuple[str, ...]:
 #: The order as a prescriber writes it, for verification: the check's order by volume (the volume
 #: is what will be given, so no dose or target change) and the prescriber's own figures.
 WRITTEN_ORDER_KEYS: tuple[str, ...] = tuple(
-    f.key for f in FIELDS.values() if f.group in ("order", "written") and f.key not in ("dose", "target-rise")
+    f.key for f in FIELDS.values() if f.group in ("order", "written") and f.key not in ("dose", *TARGET_MODES)
 )
 
 

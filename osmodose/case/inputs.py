@@ -43,6 +43,8 @@ __all__ = [
     "parse_dose",
     "parse_labs",
     "parse_urine",
+    "target_change",
+    "target_sodium_error",
 ]
 
 
@@ -129,9 +131,9 @@ class DoseRequest(BaseModel):
     agent_id: str
     """Id of the agent in the formulary."""
     mode: DoseMode
-    """Which of --dose, --volume or --target-rise was given."""
+    """Which of --dose, --volume, --target-rise or --target-sodium was given."""
     amount: float
-    """The amount in `unit`."""
+    """The amount in `unit` (for a target sodium: the change from the serum sodium it asks for)."""
     unit: DoseUnit
     """g of solute, mL, mmol of sodium, mOsm, or mmol/L of sodium change."""
     per_kg: bool = False
@@ -202,7 +204,7 @@ def parse_check_request(
     return CheckRequest(
         patient=patient,
         labs=labs,
-        dose=_dose_request(given, dose_mode),
+        dose=_dose_request(given, dose_mode, labs.sodium_mmol_l),
         line=line,
         tbw_method=tbw_method,
         entered=entered,
@@ -275,10 +277,43 @@ def parse_labs(fields: dict[str, object]) -> Labs:
     return Labs(**values)
 
 
-_ONE_ORDER = "exactly one of dose, volume or target-rise"
+_ONE_ORDER = "exactly one of dose, volume, target-rise or target-sodium"
+_RISE_NOT_ZERO = "a change from -30 to 30 mmol/L, not 0"
 
 
-def _dose_request(given: dict[str, object], dose_mode: DoseMode | None) -> DoseRequest | None:
+def target_change(target_sodium_mmol_l: Any, serum_sodium_mmol_l: Any) -> Any:
+    """The sodium change a target sodium asks for: target minus serum, in mmol/L (floats or columns alike)."""
+    return target_sodium_mmol_l - serum_sodium_mmol_l
+
+
+def target_sodium_error(raw: object, target_mmol_l: float, serum_mmol_l: float) -> InputError | None:
+    """Why a target sodium cannot be ordered (it is the serum sodium, or too far from it), or None.
+
+    The change it asks for is held to the plausible range of a typed change
+    (`target-rise`), so a target sodium and the change it stands for are
+    accepted alike; the error names the target as typed.
+    """
+    change = target_change(target_mmol_l, serum_mmol_l)
+    if change == 0:
+        return InputError(
+            "target-sodium",
+            raw,
+            f"is the serum sodium already ({serum_mmol_l:g} mmol/L)",
+            f"a target other than {serum_mmol_l:g} mmol/L",
+        )
+    bounds = FIELDS["target-rise"].bounds
+    if not bounds.low <= change <= bounds.high:
+        low, high = serum_mmol_l + bounds.low, serum_mmol_l + bounds.high
+        return InputError(
+            "target-sodium",
+            raw,
+            f"is {change:+g} mmol/L from the serum sodium of {serum_mmol_l:g} mmol/L, outside the plausible change",
+            f"a target from {low:g} to {high:g} mmol/L, within {bounds.high:g} mmol/L of the serum sodium",
+        )
+    return None
+
+
+def _dose_request(given: dict[str, object], dose_mode: DoseMode | None, sodium_mmol_l: float) -> DoseRequest | None:
     modes = [m for m in DOSE_MODES if m in given]
     if dose_mode is not None:
         # A form that keeps all three boxes says which one is meant; the others are ignored.
@@ -303,9 +338,18 @@ def _dose_request(given: dict[str, object], dose_mode: DoseMode | None) -> DoseR
     if mode == "target-rise":
         rise = read("target-rise", raw)
         if rise == 0:
-            raise InputError("target-rise", raw, "is zero", "a change from -30 to 30 mmol/L, not 0")
+            raise InputError("target-rise", raw, "is zero", _RISE_NOT_ZERO)
         return DoseRequest(
             agent_id=agent_id, mode="target-rise", amount=rise, unit="mmol/L", duration_min=duration, text=str(raw)
+        )
+    if mode == "target-sodium":
+        target = read("target-sodium", raw)
+        problem = target_sodium_error(raw, target, sodium_mmol_l)
+        if problem is not None:
+            raise problem
+        change = target_change(target, sodium_mmol_l)
+        return DoseRequest(
+            agent_id=agent_id, mode="target-sodium", amount=change, unit="mmol/L", duration_min=duration, text=str(raw)
         )
     return parse_dose(agent_id, raw, duration)
 

@@ -1,18 +1,28 @@
 """The plain-text report of a check: what `osmodose check` prints and the app saves.
 
 One function builds it so the terminal, the app's saved summary and any
-printout say the same thing in the same words.
+printout say the same thing in the same words.  Every figure is rounded by
+`science.precision`, exactly as the JSON rounds it, and carries its unit.
+
+Words: a status is one word, its value in capitals (`ok` -> OK, `warn` ->
+WARN, `refuse` -> REFUSE), never a mark and a word together; the stock sizes
+a volume can be drawn from are alternatives ("1 × 500 mL (discard 150 mL),
+or 2 × 250 mL (discard 150 mL)"), the least waste first.
 """
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from datetime import datetime
 
 from osmodose.case.provenance import DataIn
-from osmodose.check.results import CheckResult
+from osmodose.check.results import CheckResult, FormularyRef, PresentationFit
+from osmodose.formulary.demo import DEMO_NOTE
+from osmodose.science import precision as p
 from osmodose.science.formulas import CORRECTED_SODIUM_GLUCOSE_FROM_MG_DL, GLUCOSE_MG_DL_PER_MMOL_L
 
-STATUS_MARK = {"ok": "[OK]", "warn": "[WARN]", "refuse": "[REFUSE]"}
+#: Each status's one word, as every text output prints it (the JSON value in capitals).
+STATUS_MARK = {"ok": "OK", "warn": "WARN", "refuse": "REFUSE"}
 STATUS_WORDS = {
     "ok": "OK: no limit crossed",
     "warn": "WARN: a soft limit is crossed; review before giving",
@@ -25,6 +35,18 @@ LABS_ONLY_WORDS = {
     "refuse": "REFUSE: a hard limit is crossed by these labs; hold hyperosmolar therapy",
 }
 
+#: What each figure of an order is, as the report and the app's panels label it.
+LABELS = {
+    "volume": "volume",
+    "rate": "rate",
+    "solute": "solute",
+    "sodium-load": "sodium load",
+    "osmolar-load": "osmolar load",
+    "na-per-litre": "Na change per litre of this fluid",
+    "projected-na": "projected Na",
+    "stock": "from stock",
+}
+
 
 def status_words(result: CheckResult) -> str:
     """What the status means for this result, with or without an order."""
@@ -33,60 +55,107 @@ def status_words(result: CheckResult) -> str:
 
 def fmt(value: float | None, unit: str = "", digits: int = 1) -> str:
     """A figure for display; None shows as "n/a" so a missing figure is never read as 0."""
-    if value is None:
-        return "n/a"
-    text = f"{value:.{digits}f}"
-    return f"{text} {unit}".rstrip()
+    return p.text(value, digits, unit)
 
 
 def signed(value: float | None, unit: str = "", digits: int = 1) -> str:
     if value is None:
         return "n/a"
-    return f"{value:+.{digits}f} {unit}".rstrip()
+    return f"{p.rounded(value, digits):+.{digits}f} {unit}".rstrip()
+
+
+def plain(value: float, decimals: int) -> str:
+    """A size or count as people write it: rounded to `decimals`, without trailing zeros (500, 0.5)."""
+    text = f"{p.rounded(value, decimals):.{decimals}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
+
+def presentation_text(fit: PresentationFit) -> str:
+    """One way to draw the volume from stock: "1 × 500 mL (discard 150 mL)"."""
+    size = plain(fit.size_ml, p.FIGURE_DECIMALS["size_ml"])
+    discard = plain(fit.discard_ml, p.FIGURE_DECIMALS["discard_ml"])
+    left = f"discard {discard} mL" if float(discard) else "no discard"
+    return f"{fit.containers} × {size} mL ({left})"
+
+
+def presentations_text(fits: Sequence[PresentationFit]) -> str:
+    """The alternatives, best first, in words: "1 × 500 mL (discard 150 mL), or 2 × 250 mL (...)"."""
+    return ", or ".join(presentation_text(fit) for fit in fits)
+
+
+def formulary_lines(ref: FormularyRef) -> list[str]:
+    """The formulary a result was worked with, and the DEMO marker while the demo is in use."""
+    lines = [ref.line()]
+    if ref.demo:
+        lines.append(DEMO_NOTE)
+    return lines
+
+
+def finding_line(severity: str, code: str, message: str) -> str:
+    """One finding: its one status word, its code and its message."""
+    return f"{STATUS_MARK[severity]} {code}: {message}"
+
+
+def patient_text(result: CheckResult) -> str:
+    """The patient as typed and read: "70 kg, 45 y, male, 180 cm"."""
+    pt = result.patient
+    weight = plain(pt.weight_kg, p.FIGURE_DECIMALS["weight_kg"])
+    text = f"{weight} kg, {plain(pt.age_years, p.FIGURE_DECIMALS['age_years'])} y, {pt.sex}"
+    if pt.height_cm is not None:
+        text += f", {plain(pt.height_cm, p.FIGURE_DECIMALS['height_cm'])} cm"
+    return text
+
+
+def rate_text(result: CheckResult) -> str | None:
+    """ "1050.0 mL/h over 20 min", or None without a duration."""
+    dose = result.dose
+    if dose is None or dose.rate_ml_h is None or not dose.duration_min:
+        return None
+    minutes = plain(dose.duration_min, p.FIGURE_DECIMALS["duration_min"])
+    return f"{p.figure_text('rate_ml_h', dose.rate_ml_h, 'mL/h')} over {minutes} min"
 
 
 def render_text(result: CheckResult) -> str:
     """The readable report, ending with the caution line."""
-    p = result.patient
+    pt = result.patient
+    osm = "mOsm/kg"
     lines = [
-        f"osmodose check  {STATUS_MARK[result.status]} {status_words(result)}",
-        result.formulary.line(),
+        f"osmodose check  {status_words(result)}",
+        *formulary_lines(result.formulary),
         "",
-        f"patient: {p.weight_kg:.1f} kg, {p.age_years:g} y, {p.sex}"
-        + (f", {p.height_cm:.0f} cm" if p.height_cm is not None else ""),
-        f"total body water: {p.total_body_water_l:.1f} L ({_method(p.tbw_method)})",
-        f"calculated osmolality: {fmt(result.calculated_osmolality_mosm_kg, 'mOsm/kg')}"
-        f"   effective: {fmt(result.effective_osmolality_mosm_kg, 'mOsm/kg')}"
-        f"   osmolar gap: {fmt(result.osmolar_gap_mosm_kg, 'mOsm/kg')}",
+        f"patient: {patient_text(result)}",
+        f"total body water: {p.figure_text('total_body_water_l', pt.total_body_water_l, 'L')}"
+        f" ({_method(pt.tbw_method)})",
+        "calculated osmolality: "
+        f"{p.figure_text('calculated_osmolality_mosm_kg', result.calculated_osmolality_mosm_kg, osm)}"
+        f"   effective: {p.figure_text('effective_osmolality_mosm_kg', result.effective_osmolality_mosm_kg, osm)}"
+        f"   osmolar gap: {p.figure_text('osmolar_gap_mosm_kg', result.osmolar_gap_mosm_kg, osm)}",
         *patient_lines(result),
     ]
     dose = result.dose
     if dose is not None:
+        rate = rate_text(result)
         lines += [
             "",
             f"order: {dose.agent_label} [{dose.agent}], {dose.requested}"
             + (f", {result.line} line" if result.line else ""),
-            f"  volume {dose.volume_ml:.1f} mL ({dose.volume_ml_per_kg:.2f} mL/kg)"
-            + (
-                f" at {dose.rate_ml_h:.0f} mL/h over {dose.duration_min:g} min"
-                if dose.rate_ml_h is not None and dose.duration_min
-                else ""
-            ),
-            f"  solute {fmt(dose.solute_g, 'g', 2)} ({fmt(dose.solute_g_per_kg, 'g/kg', 2)})"
-            f"   sodium {dose.sodium_mmol:.1f} mmol ({dose.sodium_mmol_per_kg:.2f} mmol/kg)"
-            f"   osmoles {dose.osmoles_mosm:.0f} mOsm",
+            f"  {LABELS['volume']} {p.figure_text('volume_ml', dose.volume_ml, 'mL')}"
+            f" ({p.figure_text('volume_ml_per_kg', dose.volume_ml_per_kg, 'mL/kg')})" + (f" at {rate}" if rate else ""),
+            f"  {LABELS['solute']} {p.figure_text('solute_g', dose.solute_g, 'g')}"
+            f" ({p.figure_text('solute_g_per_kg', dose.solute_g_per_kg, 'g/kg')})"
+            f"   {LABELS['sodium-load']} {p.figure_text('sodium_mmol', dose.sodium_mmol, 'mmol')}"
+            f" ({p.figure_text('sodium_mmol_per_kg', dose.sodium_mmol_per_kg, 'mmol/kg')})"
+            f"   {LABELS['osmolar-load']} {p.figure_text('osmoles_mosm', dose.osmoles_mosm, 'mOsm')}",
         ]
         if dose.presentations:
-            fits = ", ".join(
-                f"{fit.containers} x {fit.size_ml:g} mL"
-                + (f" (discard {fit.discard_ml:g} mL)" if fit.discard_ml else "")
-                for fit in dose.presentations
-            )
-            lines.append(f"  from stock: {fits}")
+            lines.append(f"  {LABELS['stock']}: {presentations_text(dose.presentations)}")
         lines.append(
-            f"  sodium: change per litre {signed(result.sodium_change_per_litre_mmol_l, 'mmol/L')}"
-            f"   projected {fmt(result.projected_sodium_mmol_l, 'mmol/L')}"
-            f" ({signed(result.projected_sodium_rise_mmol_l, 'mmol/L')}{range_text(result)})"
+            f"  {LABELS['na-per-litre']} "
+            f"{p.signed_text('sodium_change_per_litre_mmol_l', result.sodium_change_per_litre_mmol_l, 'mmol/L')}"
+            f"   {LABELS['projected-na']} "
+            f"{p.figure_text('projected_sodium_mmol_l', result.projected_sodium_mmol_l, 'mmol/L')}"
+            f" ({p.signed_text('projected_sodium_rise_mmol_l', result.projected_sodium_rise_mmol_l, 'mmol/L')}"
+            f"{range_text(result)})"
         )
         lines += order_lines(result)
         lines += equiosmolar_lines(result)
@@ -94,7 +163,7 @@ def render_text(result: CheckResult) -> str:
     lines.append("")
     if result.findings:
         lines.append("checks:")
-        lines += [f"  {STATUS_MARK[x.severity]} {x.code}: {x.message}" for x in result.findings]
+        lines += [f"  {finding_line(x.severity, x.code, x.message)}" for x in result.findings]
     else:
         lines.append("checks: none crossed")
     if result.notes:

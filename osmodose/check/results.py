@@ -2,7 +2,8 @@
 
 Field names carry their unit (`volume_ml`, `osmolar_gap_mosm_kg`) so a script
 reading the JSON never has to guess; a figure that cannot be computed is None
-(null), never 0.
+(null), never 0.  `to_json` rounds every figure once, to the decimals
+`science.precision` declares for it; the models keep full precision.
 """
 
 from __future__ import annotations
@@ -13,6 +14,7 @@ from pydantic import BaseModel, ConfigDict
 
 from osmodose.case.provenance import DataIn
 from osmodose.formulary.model import Formulary
+from osmodose.science.precision import round_document
 
 _FROZEN = ConfigDict(frozen=True)
 
@@ -47,10 +49,19 @@ class FormularyRef(BaseModel):
     version: str
     sha256: str
     path: str
+    demo: bool = False
+    """True while the bundled demo formulary (an invented unit) is in use."""
 
     @classmethod
     def of(cls, formulary: Formulary) -> FormularyRef:
-        return cls(name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path)
+        """The reference every result carries to the formulary it was worked with."""
+        return cls(
+            name=formulary.name,
+            version=formulary.version,
+            sha256=formulary.sha256,
+            path=formulary.path,
+            demo=formulary.demo,
+        )
 
     def line(self) -> str:
         """The line every report heads with: which file, which version, which bytes."""
@@ -71,7 +82,7 @@ class PatientFigures(BaseModel):
 
 
 class PresentationFit(BaseModel):
-    """How a volume is made up from one bag or vial size."""
+    """How a volume is made up from one bag or vial size: one alternative, not a part of a combination."""
 
     model_config = _FROZEN
 
@@ -86,6 +97,9 @@ class DoseFigures(BaseModel):
     agent: str
     agent_label: str
     requested: str
+    """The order as asked for, its style first: "dose 1g/kg", "target-sodium 134 (a change of +6.0 mmol/L)"."""
+    mode: Literal["dose", "volume", "target-rise", "target-sodium"] = "dose"
+    """The style the order was asked in (the first word of `requested`)."""
     volume_ml: float
     solute_g: float | None
     sodium_mmol: float
@@ -180,5 +194,6 @@ class CheckResult(BaseModel):
     equiosmolar: list[AgentVolume] | None = None
 
     def to_json(self) -> dict[str, Any]:
-        """The public JSON object (plain types only)."""
-        return self.model_dump(mode="json")
+        """The public JSON object (plain types only), every figure rounded as declared."""
+        document: dict[str, Any] = round_document(self.model_dump(mode="json"))
+        return document

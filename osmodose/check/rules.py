@@ -39,6 +39,7 @@ from osmodose.check.judging import (
 from osmodose.check.patient_rules import PatientColumns
 from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.model import Agent, DoseKind, Limits
+from osmodose.science.precision import apart, rounded
 
 Describe = Callable[[float, float, str], str]
 LimitOf = Callable[["Batch"], "np.ndarray | float"]
@@ -64,15 +65,15 @@ class RuleOutcome:
 
 
 def shown(value: float, limit: float) -> str:
-    """`value` to one decimal, or to as many as it takes not to print the limit itself.
+    """`value` to one decimal, or to as many as it takes not to print the limit itself (`precision.apart`).
 
     "310.0 is above the limit of 310" reads as a contradiction; "310.04" does not.
+    The JSON's `value` is rounded by the same rule, so the message and the figure agree.
     """
-    for digits in (1, 2, 3, 4):
-        text = f"{value:.{digits}f}"
-        if float(text) != limit:
-            return text
-    return f"{value:.6g}"
+    digits = apart(value, limit, 1)
+    if value != limit and rounded(value, digits) == limit:
+        return f"{value:.6g}"
+    return f"{rounded(value, digits):.{digits}f}"
 
 
 @dataclass(frozen=True)
@@ -292,7 +293,7 @@ def _central(value: float, _limit: float, _severity: str) -> str:
 
 
 def _too_fast(value: float, maximum: float, _severity: str) -> str:
-    return f"rate {value:.0f} mL/h is faster than the agent's maximum of {maximum:g} mL/h"
+    return f"rate {shown(value, maximum)} mL/h is faster than the agent's maximum of {maximum:g} mL/h"
 
 
 def _agent_limit(pick: Callable[[Agent], float | None]) -> LimitOf:

@@ -42,6 +42,7 @@ from osmodose.check.results import (
 from osmodose.check.rules import apply_rules
 from osmodose.errors import InputError
 from osmodose.formulary.model import Agent, Formulary, Limits
+from osmodose.science.choices import TARGET_MODES
 from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT, Range
 
 MANNITOL_NOTE = (
@@ -239,7 +240,7 @@ def dose_misfit(dose: DoseRequest, agent: Agent) -> InputError | None:
     Shared with the audit, which asks it once per (dose unit, agent) pair and
     again for the message of each row that fails.
     """
-    field = "target-rise" if dose.mode == "target-rise" else "dose"
+    field = dose.mode if dose.mode in TARGET_MODES else "dose"
     if dose.unit == "mmol/L" and not agent.projects_sodium:
         return InputError(
             field, dose.text, f"cannot be used with {agent.id}: osmodose projects no sodium for it", "dose or volume"
@@ -257,7 +258,7 @@ def volume_problems(mode: np.ndarray, volume_ml: np.ndarray) -> tuple[np.ndarray
     A volume given as such was range-checked when read; a volume worked out
     from a dose or a target change is checked here, after the engine.
     """
-    unreachable = (mode == "target-rise") & np.isnan(volume_ml)
+    unreachable = np.isin(mode, TARGET_MODES) & np.isnan(volume_ml)
     bounds = VOLUME_RANGE
     with np.errstate(invalid="ignore"):
         inside = (bounds.low <= volume_ml) & (volume_ml <= bounds.high)
@@ -268,12 +269,17 @@ def volume_error(dose: DoseRequest, agent: Agent, serum_sodium_mmol_l: float, vo
     """The error for an order whose worked-out volume cannot be given, or None."""
     unreachable, implausible = volume_problems(np.array([dose.mode]), np.array([volume_ml]))
     if unreachable[0]:
+        accepted = (
+            "a target between the serum sodium and the infusate's"
+            if dose.mode == "target-sodium"
+            else "a change toward the infusate's sodium, smaller than the difference"
+        )
         return InputError(
-            "target-rise",
+            dose.mode,
             dose.text,
             f"cannot be reached with {agent.id}: its sodium + potassium is {agent.cations_mmol_l:g} mmol/L "
             f"against serum {serum_sodium_mmol_l:g} mmol/L",
-            "a change toward the infusate's sodium, smaller than the difference",
+            accepted,
         )
     if implausible[0]:
         return InputError(
@@ -285,6 +291,14 @@ def volume_error(dose: DoseRequest, agent: Agent, serum_sodium_mmol_l: float, vo
     return None
 
 
+def requested_text(dose: DoseRequest) -> str:
+    """The order as asked for: "dose 1g/kg", "target-sodium 134 (a change of -6.0 mmol/L)"."""
+    text = f"{dose.mode} {dose.text}"
+    if dose.mode == "target-sodium":
+        text += f" (a change of {dose.amount:+.1f} mmol/L)"
+    return text
+
+
 def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures, adult_age: float) -> DoseFigures | None:
     if agent is None or request.dose is None:
         return None
@@ -292,7 +306,8 @@ def _dose_figures(request: CheckRequest, agent: Agent | None, figures: Figures, 
     return DoseFigures(
         agent=agent.id,
         agent_label=agent.label,
-        requested=f"{request.dose.mode} {request.dose.text}",
+        requested=requested_text(request.dose),
+        mode=request.dose.mode,
         volume_ml=volume,
         solute_g=_opt(figures.solute_g[0]),
         sodium_mmol=float(figures.sodium_mmol[0]),

@@ -11,7 +11,8 @@ from contextlib import contextmanager
 from pathlib import Path
 from typing import TextIO
 
-from osmodose.cli.exit_codes import INVALID, OK
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import AUDIT_EPILOG, INVALID, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.errors import InputError
 
@@ -22,8 +23,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser = subparsers.add_parser(
         "audit",
         help=HELP,
-        description=HELP + ". Columns and units: see docs/audit.md. Exit status 0 when every row was audited, "
-        "1 when some rows could not be (each is listed with its reason), 2 when the file cannot be read.",
+        description=HELP + ". Columns and units: see docs/audit.md.",
+        epilog=AUDIT_EPILOG,
     )
     parser.add_argument("orders", metavar="ORDERS.csv", help="the orders file (CSV with a header row)")
     add_formulary_option(parser)
@@ -63,12 +64,7 @@ def run(args: argparse.Namespace) -> int:
             sinks.append(JsonResults(handle, formulary) if as_json else CsvResults(handle, with_order_id))
         run_audit(path, formulary, sinks, progress=progress)
     if args.summary:
-        if args.json:
-            import json  # noqa: PLC0415
-
-            print(json.dumps(summary.to_json(), indent=2))
-        else:
-            print(summary.render(), end="")
+        emit(summary.to_json, summary.render, args.json)
     elif out_path is not None:
         s = summary.to_json()["status"]
         print(

@@ -3,14 +3,14 @@
 from __future__ import annotations
 
 import argparse
-import json
 
 from osmodose.case.fields import keys
 from osmodose.case.inputs import CheckRequest, parse_check_request
 from osmodose.check.report import render_text
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
-from osmodose.cli.exit_codes import BY_STATUS
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import BY_STATUS, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.labs_args import with_labs
 from osmodose.cli.patient_args import add_case_options, case_fields
@@ -20,7 +20,7 @@ HELP = "compute osmolality, total body water, a dose and its sodium projection, 
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("check", help=HELP, description=HELP + ".")
+    parser = subparsers.add_parser("check", help=HELP, description=HELP + ".", epilog=STATUS_EPILOG)
     add_formulary_option(parser)
     add_case_options(parser, labs=True)
     parser.add_argument(
@@ -40,10 +40,7 @@ def run(args: argparse.Namespace) -> int:
     request = parse_check_request(fields, data_in=data_in)
     episode = args.episode
     result = run_check(request, formulary) if episode is None else _with_episode(request, formulary, episode, args.at)
-    if args.json:
-        print(json.dumps(result.to_json(), indent=2))
-    else:
-        print(render_text(result), end="")
+    emit(result.to_json, lambda: render_text(result), args.json)
     return BY_STATUS[result.status]
 
 

@@ -8,17 +8,13 @@ registering this command costs nothing at start-up.
 from __future__ import annotations
 
 import argparse
-import json
 from datetime import datetime
-from typing import TYPE_CHECKING
 
 from osmodose.case.fields import FIELDS, LAB_KEYS, keys
-from osmodose.cli.exit_codes import BY_STATUS, OK
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import BY_STATUS, DONE_EPILOG, OK, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_field_options, case_fields
-
-if TYPE_CHECKING:
-    pass
 
 HELP = "a course of therapy: serial labs, doses, pressures and urine outputs in an episode file"
 #: The fields of `course add-output`, keyed as the field table keys them (as `entries.OUTPUT_KEYS`).
@@ -26,9 +22,9 @@ OUTPUT_OPTIONS = ("time", "urine-volume", "urine-sodium", "urine-potassium", "ov
 
 
 def _sub(
-    subparsers: argparse._SubParsersAction, name: str, text: str, formulary: bool = True
+    subparsers: argparse._SubParsersAction, name: str, text: str, formulary: bool = True, epilog: str = DONE_EPILOG
 ) -> argparse.ArgumentParser:
-    parser = subparsers.add_parser(name, help=text, description=text + ".")
+    parser = subparsers.add_parser(name, help=text, description=text + ".", epilog=epilog)
     parser.add_argument("file", metavar="FILE", help="the episode file (JSON)")
     if formulary:
         add_formulary_option(parser)
@@ -36,7 +32,9 @@ def _sub(
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    course = subparsers.add_parser("course", help=HELP, description=HELP + ". Decision support only.")
+    course = subparsers.add_parser(
+        "course", help=HELP, description=HELP + ". Decision support only.", epilog=STATUS_EPILOG
+    )
     sub = course.add_subparsers(title="course commands", metavar="COMMAND", required=True)
 
     new = _sub(sub, "new", "start an episode file for one patient", formulary=False)
@@ -94,11 +92,16 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     )
     output.set_defaults(handler=run_add_output)
 
-    show = _sub(sub, "show", "the timeline table and the findings across the course")
+    show = _sub(sub, "show", "the timeline table and the findings across the course", epilog=STATUS_EPILOG)
     show.add_argument("--json", action="store_true", help="print one JSON object instead of the table")
     show.set_defaults(handler=run_show)
 
-    plan = _sub(sub, "plan", "what the next dose would do, projected from the latest sodium and the doses since")
+    plan = _sub(
+        sub,
+        "plan",
+        "what the next dose would do, projected from the latest sodium and the doses since",
+        epilog=STATUS_EPILOG,
+    )
     add_field_options(plan, keys("order"), required=("agent",))
     add_field_options(plan, ("time",), help_for={"time": FIELDS["time"].help + " (default: now)"})
     plan.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
@@ -202,10 +205,7 @@ def run_show(args: argparse.Namespace) -> int:
 
     episode = load_episode(args.file)
     result = review(episode, formulary_from_args(args))
-    if args.json:
-        print(json.dumps(review_json(result, args.file), indent=2))
-    else:
-        print(render_review_text(result, args.file), end="")
+    emit(lambda: review_json(result, args.file), lambda: render_review_text(result, args.file), args.json)
     return BY_STATUS[result.status]
 
 
@@ -216,10 +216,7 @@ def run_plan(args: argparse.Namespace) -> int:
 
     episode = load_episode(args.file)
     plan = plan_dose(episode, formulary_from_args(args), case_fields(args, (*keys("order"), "time")))
-    if args.json:
-        print(json.dumps(plan_json(plan, args.file), indent=2))
-    else:
-        print(render_plan_text(plan, args.file), end="")
+    emit(lambda: plan_json(plan, args.file), lambda: render_plan_text(plan, args.file), args.json)
     return BY_STATUS[plan.status]
 
 

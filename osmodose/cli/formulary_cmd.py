@@ -10,31 +10,25 @@ that cannot be read or, for show and diff, cannot be used.
 from __future__ import annotations
 
 import argparse
-import json
 import sys
-from collections.abc import Sequence
-from dataclasses import asdict
 from pathlib import Path
 
 from osmodose.check.results import CAUTION
-from osmodose.cli.exit_codes import INVALID, OK
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import DIFF_EPILOG, DONE_EPILOG, INVALID, OK, VALIDATE_EPILOG
 from osmodose.errors import FormularyError
 from osmodose.formulary import demo_formulary_path, load_formulary
-from osmodose.formulary.diff import attention_lines, diff_formularies, summary_line
+from osmodose.formulary.diff import diff_formularies, diff_json, render_diff
 from osmodose.formulary.schema import formulary_schema
-from osmodose.formulary.summary import AGENT_COLUMNS, LIMIT_COLUMNS, agent_cells, agent_rows, limit_cells, limit_rows
+from osmodose.formulary.summary import render_show, show_json
 from osmodose.formulary.template import formulary_template
 from osmodose.formulary.validate import validate_formulary
-
-#: The agents table is printed as two tables keyed by id, to fit a terminal.
-_FIGURE_COLUMNS = ("id", "concentration", "Na mmol/L", "Na mmol/mL", "mOsm/L", "g/mL", "route")
-_STOCK_COLUMNS = ("id", "label", "presentations", "dose limits", "max rate")
 
 HELP = "check, inspect, compare and start a unit's formulary file"
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("formulary", help=HELP, description=HELP + ".")
+    parser = subparsers.add_parser("formulary", help=HELP, description=HELP + ".", epilog=DONE_EPILOG)
     actions = parser.add_subparsers(title="actions", metavar="ACTION", required=True)
 
     validate = actions.add_parser(
@@ -42,6 +36,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         help="list every problem in a formulary file (exit 0 valid, 1 not valid)",
         description="List every error and warning in a formulary file, each as FILE:LINE: key.path: problem. "
         "Exit 0 when valid (warnings allowed), 1 when not, 2 when the file cannot be read.",
+        epilog=VALIDATE_EPILOG,
     )
     _file_argument(validate)
     validate.add_argument("--json", action="store_true", help="print one JSON object instead of lines")
@@ -52,6 +47,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         help="the agents with their derived sodium and osmolarity, and the limits in force",
         description="Show each agent with its derived figures (mmol Na/L, mmol Na/mL, mOsm/L, g/mL), route, "
         "presentations and dose limits, and every limit in force with where its value comes from.",
+        epilog=DONE_EPILOG,
     )
     _file_argument(show)
     show.add_argument("--json", action="store_true", help="print one JSON object instead of tables")
@@ -63,6 +59,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         description="List in plain words what NEW changes from OLD: name and version, settings, limits, agents "
         "added or removed, concentrations, derived sodium and osmolarity, routes, presentations, dose limits. "
         "Exit 0 when nothing changes, 1 when something does, 2 when a file cannot be used.",
+        epilog=DIFF_EPILOG,
     )
     diff.add_argument("old", metavar="OLD", help="the formulary in use now")
     diff.add_argument("new", metavar="NEW", help="the proposed version")
@@ -73,6 +70,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "new",
         help="write a commented template for a unit to fill in",
         description="Write a commented formulary template (to standard output unless --out is given).",
+        epilog=DONE_EPILOG,
     )
     new.add_argument("--out", metavar="FILE", default=None, help="write the template to FILE")
     new.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
@@ -82,6 +80,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "schema",
         help="print a JSON Schema of the formulary file for editors",
         description="Print the JSON Schema (draft 2020-12) of the formulary file, made from its models.",
+        epilog=DONE_EPILOG,
     )
     schema.set_defaults(handler=run_schema)
 
@@ -98,76 +97,27 @@ def _chosen(file: str | None) -> Path:
 
 
 def run_validate(args: argparse.Namespace) -> int:
-
     verdict = validate_formulary(_chosen(args.file))
     if not verdict.readable:
         raise verdict.errors[0]
-    if args.json:
-        print(json.dumps(verdict.to_json(), indent=2))
-    else:
-        for line in [*verdict.lines(), verdict.summary()]:
-            print(line)
+    emit(verdict.to_json, lambda: "\n".join([*verdict.lines(), verdict.summary()]), args.json)
     return OK if verdict.valid else INVALID
 
 
 def run_show(args: argparse.Namespace) -> int:
-
     formulary = load_formulary(_chosen(args.file))
-    agents, limits = agent_rows(formulary), limit_rows(formulary)
-    if args.json:
-        document = {
-            "formulary": {"name": formulary.name, "version": formulary.version, "sha256": formulary.sha256},
-            "path": formulary.path,
-            "agents": [asdict(row) for row in agents],
-            "limits": [asdict(row) for row in limits],
-            "caution": CAUTION,
-        }
-        print(json.dumps(document, indent=2))
-        return OK
-    print(f'formulary "{formulary.name}" version "{formulary.version}"')
-    print(f"file {formulary.path}")
-    print(f"sha256 {formulary.sha256}")
-    print()
-    cells = [agent_cells(row) for row in agents]
-    print(f"agents ({len(agents)}): composition derived from the concentration")
-    _print_table(AGENT_COLUMNS, cells, _FIGURE_COLUMNS)
-    print()
-    print("agents: label, stock and order limits")
-    _print_table(AGENT_COLUMNS, cells, _STOCK_COLUMNS)
-    print()
-    print("limits in force")
-    _print_table(LIMIT_COLUMNS, [limit_cells(row) for row in limits], LIMIT_COLUMNS)
-    print()
-    print(CAUTION)
+    emit(lambda: show_json(formulary, CAUTION), lambda: render_show(formulary, CAUTION), args.json)
     return OK
 
 
 def run_diff(args: argparse.Namespace) -> int:
-
     old, new = load_formulary(args.old), load_formulary(args.new)
     changes = diff_formularies(old, new)
-    same_bytes = old.sha256 == new.sha256
-    if args.json:
-        document = {
-            "old": {"path": old.path, "sha256": old.sha256},
-            "new": {"path": new.path, "sha256": new.sha256},
-            "attention": [change.text for change in changes if change.attention],
-            "changes": [{**change.to_json(), "text": change.text} for change in changes],
-        }
-        print(json.dumps(document, indent=2))
-    else:
-        print(f'--- {old.path} ("{old.name}" version "{old.version}")')
-        print(f'+++ {new.path} ("{new.name}" version "{new.version}")')
-        for line in attention_lines(changes):
-            print(line)
-        for change in changes:
-            print(change.text)
-        print(summary_line(changes, same_bytes))
+    emit(lambda: diff_json(old, new, changes), lambda: render_diff(old, new, changes), args.json)
     return INVALID if changes else OK
 
 
 def run_new(args: argparse.Namespace) -> int:
-
     text = formulary_template()
     if args.out is None:
         sys.stdout.write(text)
@@ -184,15 +134,5 @@ def run_new(args: argparse.Namespace) -> int:
 
 
 def run_schema(args: argparse.Namespace) -> int:
-
-    print(json.dumps(formulary_schema(), indent=2))
+    emit(formulary_schema, "", True)
     return OK
-
-
-def _print_table(headings: Sequence[str], rows: Sequence[Sequence[str]], chosen: Sequence[str]) -> None:
-    """Print the `chosen` columns, left-aligned, two spaces apart."""
-    picks = [headings.index(name) for name in chosen]
-    table = [[cells[i] for i in picks] for cells in (headings, *rows)]
-    widths = [max(len(line[i]) for line in table) for i in range(len(picks))]
-    for line in table:
-        print("  ".join(cell.ljust(width) for cell, width in zip(line, widths, strict=True)).rstrip())

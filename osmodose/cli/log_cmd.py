@@ -8,12 +8,12 @@ be read or has no such record.
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from osmodose.cli.exit_codes import INVALID, OK
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import INVALID, LOG_EPILOG, OK
 
 HELP = "read the verification log back: verify its chain, list its records, show one"
 
@@ -22,7 +22,7 @@ if TYPE_CHECKING:
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("log", help=HELP, description=HELP + ".")
+    parser = subparsers.add_parser("log", help=HELP, description=HELP + ".", epilog=LOG_EPILOG)
     common = argparse.ArgumentParser(add_help=False)
     common.add_argument(
         "--log",
@@ -32,15 +32,18 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     )
     actions = parser.add_subparsers(title="actions", metavar="ACTION", parser_class=type(parser))
     check = actions.add_parser(
-        "verify", parents=[common], help="prove the chain unbroken, or name the first altered or missing record"
+        "verify",
+        parents=[common],
+        help="prove the chain unbroken, or name the first altered or missing record",
+        epilog=LOG_EPILOG,
     )
     check.add_argument(
         "--expect", metavar="SHA256", default=None, help="a record's SHA-256 noted earlier that must still be there"
     )
     check.set_defaults(handler=run_verify)
-    listing = actions.add_parser("list", parents=[common], help="one line per record")
+    listing = actions.add_parser("list", parents=[common], help="one line per record", epilog=LOG_EPILOG)
     listing.set_defaults(handler=run_list)
-    show = actions.add_parser("show", parents=[common], help="one record in full")
+    show = actions.add_parser("show", parents=[common], help="one record in full", epilog=LOG_EPILOG)
     show.add_argument("number", type=int, metavar="N", help="the record's number (as listed)")
     show.add_argument("--json", action="store_true", help="print the log entry as JSON")
     show.set_defaults(handler=run_show)
@@ -85,6 +88,8 @@ def run_verify(args: argparse.Namespace) -> int:
 
 
 def run_list(args: argparse.Namespace) -> int:
+    from osmodose.verify.decision import decision_word  # noqa: PLC0415 (kept out of start-up)
+
     readout = _readout(args)
     if not readout.entries:
         print(f"log {readout.path}: no records")
@@ -93,7 +98,7 @@ def run_list(args: argparse.Namespace) -> int:
         order = record.order
         print(
             f"{item.entry.sequence:>5}  {record.timestamp}  {record.decision.initials:<6}  "
-            f"{record.outcome:<31}  {order.agent_id} {order.volume_ml:g} mL  sha256 {item.sha256[:12]}"
+            f"{decision_word(record.outcome):<31}  {order.agent_id} {order.volume_ml:g} mL  sha256 {item.sha256[:12]}"
             + ("" if item.hash_ok else "  ALTERED")
         )
     for problem in readout.problems:
@@ -110,21 +115,5 @@ def run_show(args: argparse.Namespace) -> int:
     if item is None:
         known = f"1 to {readout.entries[-1].entry.sequence}" if readout.entries else "none: the log is empty"
         raise LogError(readout.path, f"has no record {args.number} (records: {known})")
-    entry = item.entry
-    if args.json:
-        shown = {
-            "sequence": entry.sequence,
-            "sha256": item.sha256,
-            "previous_sha256": entry.previous_sha256,
-            "hash_ok": item.hash_ok,
-            "record": entry.record.to_json(),
-        }
-        print(json.dumps(shown, indent=2))
-    else:
-        print(f"record {entry.sequence} of log {readout.path}")
-        print(f"sha256 {item.sha256}   previous {entry.previous_sha256}")
-        if not item.hash_ok:
-            print("ALTERED: this record no longer matches its SHA-256; it was changed after it was saved")
-        print()
-        print(entry.record.render_text(), end="")
+    emit(item.to_json, lambda: item.render_text(readout.path), args.json)
     return OK if item.hash_ok else INVALID

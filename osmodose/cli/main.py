@@ -17,7 +17,7 @@ from collections.abc import Sequence
 from typing import NoReturn
 
 from osmodose import __version__
-from osmodose.cli.exit_codes import BAD_INPUT, BROKEN_PIPE
+from osmodose.cli.exit_codes import APP_EPILOG, BAD_INPUT, BROKEN_PIPE
 from osmodose.errors import OsmodoseError
 
 SUBCOMMANDS: tuple[str, ...] = (
@@ -46,6 +46,7 @@ def build_parser() -> argparse.ArgumentParser:
             "Without a subcommand, opens the bedside app. Decision support only: verify "
             "against local protocol and licensed clinical judgement."
         ),
+        epilog=APP_EPILOG,
     )
     parser.add_argument("--version", action="version", version=f"osmodose {__version__}")
     parser.add_argument(

@@ -9,21 +9,14 @@ verified: a verification is only reported once its record is on disk).
 from __future__ import annotations
 
 import argparse
-import json
 
 from osmodose.case.fields import WRITTEN_ORDER_KEYS, keys
-from osmodose.cli.exit_codes import OK, REFUSE, WARN
+from osmodose.cli.emit import emit
+from osmodose.cli.exit_codes import BY_STATUS, VERIFY_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, add_field_options, case_fields
 
 HELP = "re-check an order as written, decide on it, and append an initialled record to the verification log"
-
-BY_OUTCOME = {
-    "released": OK,
-    "released-with-accepted-warnings": OK,
-    "held": WARN,
-    "refused": REFUSE,
-}
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
@@ -31,6 +24,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "verify",
         help=HELP,
         description=HELP + ". Decision support only: verify against local protocol and licensed clinical judgement.",
+        epilog=VERIFY_EPILOG,
     )
     add_formulary_option(parser)
     add_case_options(parser, order=False, labs=True)
@@ -59,7 +53,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         default=None,
         help="the log to append to (default: $OSMODOSE_LOG, else ~/.local/state/osmodose/verifications.jsonl)",
     )
-    parser.add_argument("--json", action="store_true", help="print the saved log entry as JSON instead of the record")
+    parser.add_argument(
+        "--json",
+        action="store_true",
+        help="print the saved log entry as JSON (status and decision on top) instead of the record",
+    )
     parser.set_defaults(handler=run)
 
 
@@ -77,17 +75,5 @@ def run(args: argparse.Namespace) -> int:
     record = verify_order(request, order, formulary, acceptances, args.initials)
     path = log_path(args.log)
     entry, digest = append_record(path, record)
-    if args.json:
-        shown = {
-            "log": str(path),
-            "sequence": entry.sequence,
-            "sha256": digest,
-            "previous_sha256": entry.previous_sha256,
-            "record": record.to_json(),
-        }
-        print(json.dumps(shown, indent=2))
-    else:
-        print(record.render_text(), end="")
-        print(f"saved as record {entry.sequence} in {path}")
-        print(f"record sha256 {digest} (note it in the chart: osmodose log verify --expect checks it)")
-    return BY_OUTCOME[record.outcome]
+    emit(lambda: entry.to_json(digest, log=str(path)), lambda: entry.render_saved(digest, path), args.json)
+    return BY_STATUS[record.status]

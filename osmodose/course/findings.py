@@ -14,6 +14,8 @@ absence is shown as such.  The sodium rate rules are in `course.sodium_rules`.
 
 from __future__ import annotations
 
+from datetime import datetime
+
 import numpy as np
 
 from osmodose.check.judging import count_crossing, limit_crossed, severity_of, threshold
@@ -22,7 +24,14 @@ from osmodose.course.judging import CourseFinding, when
 from osmodose.course.multi_day import multi_day_findings
 from osmodose.course.projection import Projection
 from osmodose.course.sodium_rules import projected_findings, sodium_window_findings
-from osmodose.course.timeline import SECONDS_PER_HOUR, Timeline, mannitol_between
+from osmodose.course.timeline import (
+    SECONDS_PER_HOUR,
+    LabColumns,
+    Timeline,
+    latest_measured_osmolality,
+    latest_time,
+    mannitol_between,
+)
 from osmodose.formulary.model import Limits
 
 __all__ = ["CourseFinding", "course_findings", "lab_age_h", "projected_findings", "when"]
@@ -37,7 +46,7 @@ def course_findings(timeline: Timeline, limits: Limits, projection: Projection |
     found = [
         *sodium_window_findings(timeline, limits),
         *multi_day_findings(timeline, limits),
-        *_ceilings(timeline, limits),
+        *_ceilings(timeline, limits, projection.at.timestamp() if projection is not None else latest_time(timeline)),
         *_osmolar_gap(timeline, limits),
         *_mannitol_24h(timeline, limits),
         *_pressures(timeline, limits),
@@ -51,8 +60,15 @@ def course_findings(timeline: Timeline, limits: Limits, projection: Projection |
     return found
 
 
-def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
-    """The latest value against the ceilings (what the next dose starts from); an earlier peak only warns."""
+def _ceilings(timeline: Timeline, limits: Limits, at: float | None) -> list[CourseFinding]:
+    """The value now against the ceilings (what the next dose starts from); an earlier peak only warns.
+
+    Sodium now is the latest lab's.  Osmolality now is judged on the latest
+    lab's (measured, else calculated) and on the latest measured osmolality
+    while it is within `lab_max_age` of `at` (a newer lab with only a
+    calculated osmolality does not hide a measured one a few hours older): the
+    worse of the two, a measured one saying its age.
+    """
     labs = timeline.labs
     out: list[CourseFinding] = []
     for code, what, values in (
@@ -72,16 +88,27 @@ def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
             return ("measured " if np.isfinite(labs.measured_osmolality[j]) else "calculated ") + what
 
         latest = int(known[-1])
+        now = [latest]
+        measured = None
+        if code == "osmolality-high" and at is not None:
+            measured = latest_measured_osmolality(labs, at, limits.lab_max_age)
+            if measured is not None and measured != latest:
+                now.append(measured)
+        rank = {None: 0, "warn": 1, "refuse": 2}
+        judged = max(reversed(now), key=lambda j: rank[severity_of(float(values[j]), warn, refuse)])
         peak = int(known[np.argmax(values[known])])
         crossed = _of(count_crossing(values, warn if warn is not None else refuse), len(labs.t), "labs")
-        severity = severity_of(float(values[latest]), warn, refuse)
+        severity = severity_of(float(values[judged]), warn, refuse)
         if severity is not None:
             limit = refuse if severity == "refuse" else warn
+            which = "the latest" if judged == latest else f"the latest measured, {_age(labs, judged, at)}"
             message = (
-                f"{label(latest)} {values[latest]:.1f} {unit} at {when(labs.times[latest])} (the latest) "
-                f"is above the {severity} limit of {limit:g} {unit}" + crossed
+                f"{label(judged)} {values[judged]:.1f} {unit} at {when(labs.times[judged])} ({which}) "
+                f"is above the {severity} limit of {limit:g} {unit}"
+                + crossed
+                + _stale_measured(labs, limits, at, code, measured)
             )
-            name, found_at, value = code, latest, float(values[latest])
+            name, found_at, value = code, judged, float(values[judged])
         else:
             severity = severity_of(float(values[peak]), warn, refuse)
             if severity is None:
@@ -90,6 +117,7 @@ def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
             message = (
                 f"{label(peak)} {values[peak]:.1f} {unit} at {when(labs.times[peak])} was above the {severity} "
                 f"limit of {limit:g} {unit}; the latest is {values[latest]:.1f} at {when(labs.times[latest])}"
+                + _stale_measured(labs, limits, at, code, measured)
             )
             name, severity, found_at, value = code.replace("-high", "-was-high"), "warn", peak, float(values[peak])
         out.append(
@@ -104,6 +132,28 @@ def _ceilings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
             )
         )
     return out
+
+
+def _age(labs: LabColumns, j: int, at: float | None) -> str:
+    """ "3.0 h old at <time>": how old a lab is at the review's time."""
+    if at is None:
+        return "age unknown"
+    hours = (at - float(labs.t[j])) / SECONDS_PER_HOUR
+    moment = datetime.fromtimestamp(at, labs.times[j].tzinfo)
+    return f"{hours:.1f} h old at {when(moment)}"
+
+
+def _stale_measured(labs: LabColumns, limits: Limits, at: float | None, code: str, measured: int | None) -> str:
+    """For osmolality: a measured one too old to judge now is named, with its age, so it is re-measured."""
+    if code != "osmolality-high" or at is None or measured is not None:
+        return ""
+    older = latest_measured_osmolality(labs, at)
+    if older is None or older == len(labs.t) - 1:
+        return ""
+    return (
+        f"; the latest measured ({labs.measured_osmolality[older]:.1f} at {when(labs.times[older])}) is "
+        f"{_age(labs, older, at)}, older than the {limits.lab_max_age:g} h limit: re-measure"
+    )
 
 
 def _osmolar_gap(timeline: Timeline, limits: Limits) -> list[CourseFinding]:

@@ -215,7 +215,7 @@ def _variant(
     if projection is None:
         raise InputError("plan", None, f"needs a lab drawn at or before {when(at)}", "osmodose course add-lab FILE ...")
     lab = episode.labs[projection.lab_index]
-    carried = carried_osmolality(lab, projection)  # None: the measured osmolality still holds
+    carried = carried_osmolality(timeline, projection, formulary.limits.lab_max_age)  # None: the lab's still holds
     raised_icp = icp_raised_within_24h(timeline, formulary.limits, at)
     p = episode.patient
     request = parse_check_request(
@@ -247,7 +247,7 @@ def _variant(
         )
         judged_by_check = {"projected-sodium-high", *(x.code for x in check.findings)}
         findings = [x for x in findings if x.code not in judged_by_check]
-    osmolality, osmolality_notes = osmolality_findings(timeline, formulary, check, lab, projection, carried)
+    osmolality, osmolality_notes = osmolality_findings(timeline, formulary, check, projection, carried)
     findings += osmolality
     findings += _stale(timeline, formulary, at)
     findings += _mannitol(timeline, formulary, check, at, p.weight_kg)

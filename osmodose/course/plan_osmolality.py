@@ -22,10 +22,9 @@ import numpy as np
 from osmodose.check.judging import limit_crossed, severity_of
 from osmodose.check.results import CheckResult
 from osmodose.check.rules import RULES_BY_CODE
-from osmodose.course.episode import LabEntry
 from osmodose.course.judging import CourseFinding, when
 from osmodose.course.projection import Projection
-from osmodose.course.timeline import Timeline
+from osmodose.course.timeline import SECONDS_PER_HOUR, Timeline, latest_measured_osmolality
 from osmodose.formulary.model import Formulary
 
 #: Each mmol/L of sodium counts twice in the calculated osmolality (2 Na + glucose + urea).
@@ -34,27 +33,49 @@ OSMOLES_PER_SODIUM = 2.0
 
 @dataclass(frozen=True)
 class Carried:
-    """The latest measured osmolality carried forward through the projected sodium change."""
+    """The latest measured osmolality carried forward through the sodium change since it was drawn."""
 
     measured: float
     sodium_change: float
     value: float
+    lab_index: int
+    """The lab it was measured at (the latest lab, or an older one within `lab_max_age`)."""
+    age_h: float
+    """How old it is at the planned time."""
 
 
-def carried_osmolality(lab: LabEntry, projection: Projection) -> Carried | None:
-    """None while the measured osmolality still holds (no sodium projected since it, or none measured)."""
-    change = projection.sodium_now - projection.lab_sodium
-    if lab.osmolality_mosm_kg is None or not projection.moved or change == 0:
+def carried_osmolality(timeline: Timeline, projection: Projection, max_age_h: float | None) -> Carried | None:
+    """The latest measured osmolality within `max_age_h`, carried to now; None while the latest lab's still holds.
+
+    It still holds when it was measured at the latest lab and no sodium was
+    projected since; a measured osmolality from an older lab (the latest lab
+    had none) is carried through every sodium change since it was drawn,
+    measured and projected: 2 x (sodium now - sodium then).
+    """
+    labs = timeline.labs
+    t_at = projection.at.timestamp()
+    index = latest_measured_osmolality(labs, t_at, max_age_h)
+    if index is None and np.isfinite(labs.measured_osmolality[projection.lab_index]):
+        index = projection.lab_index  # the latest lab's own, however old: carried as ever (labs-too-old warns)
+    if index is None:
         return None
-    measured = lab.osmolality_mosm_kg
-    return Carried(measured=measured, sodium_change=change, value=measured + OSMOLES_PER_SODIUM * change)
+    change = projection.sodium_now - float(labs.sodium[index])
+    if index == projection.lab_index and (not projection.moved or change == 0):
+        return None
+    measured = float(labs.measured_osmolality[index])
+    return Carried(
+        measured=measured,
+        sodium_change=change,
+        value=measured + OSMOLES_PER_SODIUM * change,
+        lab_index=index,
+        age_h=(t_at - float(labs.t[index])) / SECONDS_PER_HOUR,
+    )
 
 
 def osmolality_findings(
     timeline: Timeline,
     formulary: Formulary,
     check: CheckResult,
-    lab: LabEntry,
     projection: Projection,
     carried: Carried | None,
 ) -> tuple[list[CourseFinding], list[str]]:
@@ -65,14 +86,13 @@ def osmolality_findings(
     notes: list[str] = []
     calculated = check.calculated_osmolality_mosm_kg
     if carried is not None:
-        n = len(projection.dose_rows)
+        drawn = timeline.labs.times[carried.lab_index]
         shown = "n/a" if calculated is None else f"{calculated:.1f}"
-        since = f"the {n} dose{'s' if n > 1 else ''}" if n else "the urine output"
         notes.append(
-            f"Osmolar gap n/a: the measured osmolality {carried.measured:g} mOsm/kg ({when(lab.time)}) predates "
-            f"{since} since, so it is not set against the osmolality calculated from "
-            f"the projected sodium; osmolality is judged as the larger of the calculated ({shown}) and "
-            f"{carried.measured:g} + 2 x {carried.sodium_change:.1f} = {carried.value:.1f} mOsm/kg. "
+            f"Osmolar gap n/a: the latest measured osmolality, {carried.measured:g} mOsm/kg at {when(drawn)} "
+            f"({carried.age_h:.1f} h old), predates {_since(projection, carried)}, so it is not set against the "
+            "osmolality calculated from the sodium now; osmolality is judged as the larger of the calculated "
+            f"({shown}) and {carried.measured:g} + 2 x {carried.sodium_change:.1f} = {carried.value:.1f} mOsm/kg. "
             "Re-measure before dosing on it."
         )
         lowers = check.projected_sodium_rise_mmol_l is not None and check.projected_sodium_rise_mmol_l < 0
@@ -86,8 +106,8 @@ def osmolality_findings(
                     severity=severity,
                     message=(
                         f"osmolality now about {carried.value:.1f} mOsm/kg (measured {carried.measured:g} at "
-                        f"{when(lab.time)} + 2 x {carried.sodium_change:.1f} projected sodium change since) "
-                        f"is above the {severity} limit of {limit:g} mOsm/kg"
+                        f"{when(drawn)}, {carried.age_h:.1f} h old, + 2 x {carried.sodium_change:.1f} sodium "
+                        f"change since) is above the {severity} limit of {limit:g} mOsm/kg"
                     ),
                     value=carried.value,
                     limit=limit,
@@ -95,32 +115,62 @@ def osmolality_findings(
                     time=at,
                 )
             )
-        found += _measured_gap(timeline, formulary, check, projection)
+        found += _measured_gap(timeline, formulary, check, carried)
+    else:
+        notes += _too_old(timeline, formulary, projection)
     found += _mannitol_since_osmolality(timeline, projection)
     return found, notes
 
 
+def _too_old(timeline: Timeline, formulary: Formulary, projection: Projection) -> list[str]:
+    """A measured osmolality older than `lab_max_age` is not judged: say so, with its age, when no newer one is."""
+    labs = timeline.labs
+    if np.isfinite(labs.measured_osmolality[projection.lab_index]):
+        return []
+    t_at = projection.at.timestamp()
+    older = latest_measured_osmolality(labs, t_at)
+    if older is None:
+        return []
+    age = (t_at - float(labs.t[older])) / SECONDS_PER_HOUR
+    limit = formulary.limits.lab_max_age
+    return [
+        f"The latest measured osmolality, {labs.measured_osmolality[older]:g} mOsm/kg at {when(labs.times[older])}, "
+        f"is {age:.1f} h old, older than the {limit:g} h limit: not judged; the calculated osmolality is. "
+        "Re-measure before dosing on it."
+    ]
+
+
+def _since(projection: Projection, carried: Carried) -> str:
+    """What happened since the measured osmolality: doses, a newer lab, or both."""
+    n = len(projection.dose_rows)
+    doses = f"the {n} dose{'s' if n > 1 else ''} since the latest lab" if n else ""
+    outputs = "the urine output since the latest lab" if projection.moved and not n else ""
+    newer = "the latest lab" if carried.lab_index != projection.lab_index else ""
+    return " and ".join(x for x in (newer, doses, outputs) if x) or "the sodium now"
+
+
 def _measured_gap(
-    timeline: Timeline, formulary: Formulary, check: CheckResult, projection: Projection
+    timeline: Timeline, formulary: Formulary, check: CheckResult, carried: Carried
 ) -> list[CourseFinding]:
-    """For a mannitol order: the gap measured at the latest lab (the check has none to judge)."""
+    """For a mannitol order: the gap at the latest measured osmolality (the check has none to judge)."""
     dose = check.dose
     if dose is None or formulary.agent(dose.agent).solute != "mannitol":
         return []
     labs = timeline.labs
-    gap = float(labs.gap[projection.lab_index])
+    index = carried.lab_index
+    gap = float(labs.gap[index])
     warn, refuse = RULES_BY_CODE["osmolar-gap-high"].named_limits(formulary.limits)
     severity = severity_of(gap, warn, refuse)
     if severity is None:
         return []
     limit = limit_crossed(severity, warn, refuse)
-    drawn = labs.times[projection.lab_index]
+    drawn = labs.times[index]
     return [
         CourseFinding(
             code="osmolar-gap-high",
             severity=severity,
-            message=f"osmolar gap {gap:.1f} mOsm/kg at the latest lab ({when(drawn)}) is above the {severity} "
-            f"limit of {limit:g} mOsm/kg",
+            message=f"osmolar gap {gap:.1f} mOsm/kg at the latest measured osmolality ({when(drawn)}, "
+            f"{carried.age_h:.1f} h old) is above the {severity} limit of {limit:g} mOsm/kg",
             value=gap,
             limit=limit,
             unit="mOsm/kg",

@@ -1,22 +1,32 @@
 """The course plot as a PNG or SVG file, for a handover note.
 
 Top panel: measured sodium (points), the projection from each lab through the
-doses given (dashed), dose starts (ticks) and the sodium ceilings; bottom
-panel: ICP and CPP with the ICP treatment threshold and the CPP target.
+doses given (dashed), each dose start as a line labelled with its agent and
+volume, and the sodium ceilings.  When mannitol was given, a middle panel:
+measured and calculated osmolality with their ceilings, and the osmolar gap
+with its limits (mannitol's safety rests on them).  Bottom panel: ICP and CPP
+with the ICP treatment threshold and the CPP target.  The caution (and DEMO,
+while the demo formulary is in use) is printed at a size that reads on paper.
 matplotlib is imported here only, inside `write_plot`, with the file-only Agg
 backend, so no other command pays for it and no display is needed.
 """
 
 from __future__ import annotations
 
-from datetime import timedelta
+import math
+from datetime import datetime, timedelta
 from pathlib import Path
+from typing import Any
 
 from osmodose.check.results import CAUTION
 from osmodose.course.series import CourseSeries
 from osmodose.errors import InputError
+from osmodose.formulary.demo import DEMO_NOTE
 
 FORMATS = {".png": "png", ".svg": "svg"}
+#: Font sizes in points: the caution and the dose labels must read on a printed page.
+CAUTION_POINTS = 9
+LABEL_POINTS = 8
 
 
 def plot_format(path: Path | str) -> str:
@@ -25,6 +35,11 @@ def plot_format(path: Path | str) -> str:
     if suffix not in FORMATS:
         raise InputError("out", str(path), "is not a file name osmodose can plot to", "a name ending in .png or .svg")
     return FORMATS[suffix]
+
+
+def caution_text(series: CourseSeries) -> str:
+    """The line under the plot: DEMO first while the demo formulary is in use, then the caution."""
+    return (DEMO_NOTE + ". " if series.demo else "") + CAUTION
 
 
 def write_plot(series: CourseSeries, path: Path | str, title: str = "") -> None:
@@ -41,52 +56,29 @@ def write_plot(series: CourseSeries, path: Path | str, title: str = "") -> None:
     origin = series.origin
     tz = origin.tzinfo
 
-    def at(hours: tuple[float, ...]) -> list[object]:
+    def at(hours: tuple[float, ...]) -> list[datetime]:
         return [origin + timedelta(hours=h) for h in hours]
 
+    osmolality = series.mannitol_given and any(
+        math.isfinite(x) for x in (*series.measured_osmolality, *series.calculated_osmolality)
+    )
+    panels = 3 if osmolality else 2
+    ratios = (3, 2, 2) if osmolality else (3, 2)
     with matplotlib.rc_context({"svg.hashsalt": "osmodose", "svg.fonttype": "none"}):
-        figure, (top, bottom) = plt.subplots(2, 1, sharex=True, figsize=(9, 6), height_ratios=(3, 2))
+        figure, axes = plt.subplots(
+            panels, 1, sharex=True, figsize=(9, 8.5 if osmolality else 6.5), height_ratios=ratios
+        )
+        top, bottom = axes[0], axes[-1]
         try:
-            for k, (hours, sodium) in enumerate(series.projected):
-                top.plot(at(hours), sodium, "--", color="tab:blue", alpha=0.6, label="projected" if k == 0 else None)
-            top.plot(at(series.lab_hours), series.sodium, "o", color="tab:blue", label="measured")
-            for value, colour, name in (
-                (series.sodium_warn, "tab:orange", "warn"),
-                (series.sodium_refuse, "tab:red", "refuse"),
-            ):
-                if value is not None:
-                    top.axhline(value, color=colour, linewidth=1, label=f"{name} {value:g}")
-            for when in at(series.dose_hours):
-                top.axvline(when, color="grey", linewidth=0.6, alpha=0.5)
-            top.set_ylabel("sodium (mmol/L)")
-            top.legend(loc="best", fontsize="small")
-            top.set_title(title or "course of therapy")
-            if series.reading_hours:
-                bottom.plot(at(series.reading_hours), series.icp, "o-", color="tab:purple", label="ICP")
-                bottom.plot(at(series.reading_hours), series.cpp, "s-", color="tab:green", label="CPP")
-            for k, (h_before, before, h_low, low) in enumerate(series.icp_responses):
-                bottom.annotate(
-                    "",
-                    xy=(at((h_low,))[0], low),
-                    xytext=(at((h_before,))[0], before),
-                    arrowprops={"arrowstyle": "->", "color": "grey", "alpha": 0.7},
-                )
-                if k == 0:  # one legend entry for the arrows
-                    bottom.plot([], [], color="grey", alpha=0.7, label="ICP response to a dose")
-            if series.icp_treat_above is not None:
-                threshold = series.icp_treat_above
-                bottom.axhline(
-                    threshold, color="tab:purple", linestyle=":", linewidth=1, label=f"ICP threshold {threshold:g}"
-                )
-            if series.cpp_target_min is not None:
-                target = series.cpp_target_min
-                bottom.axhline(target, color="tab:green", linestyle=":", linewidth=1, label=f"CPP target {target:g}")
-            bottom.set_ylabel("pressure (mmHg)")
-            bottom.legend(loc="best", fontsize="small")
+            _sodium_panel(top, series, at, title)
+            if osmolality:
+                _osmolality_panel(axes[1], series, at)
+            _pressure_panel(bottom, series, at)
             bottom.xaxis.set_major_formatter(mdates.DateFormatter("%d %b %H:%M", tz=tz))
             bottom.set_xlabel(f"time (UTC offset {origin.strftime('%z')})")
             figure.autofmt_xdate()
-            figure.text(0.01, 0.005, CAUTION, fontsize=6, color="grey")
+            figure.subplots_adjust(top=0.95, bottom=0.16 if osmolality else 0.2)
+            figure.text(0.01, 0.01, caution_text(series), fontsize=CAUTION_POINTS, color="black", wrap=True)
             metadata = {"Date": None} if fmt == "svg" else {"Software": None}
             try:
                 figure.savefig(path, format=fmt, metadata=metadata)
@@ -94,3 +86,87 @@ def write_plot(series: CourseSeries, path: Path | str, title: str = "") -> None:
                 raise InputError("out", str(path), f"cannot be written: {error.strerror or error}") from None
         finally:
             plt.close(figure)
+
+
+def _doses(axis: Any, series: CourseSeries, at: Any, labelled: bool) -> None:
+    """A line at each dose start; on the sodium panel each is labelled with its agent and volume."""
+    for when, label in zip(at(series.dose_hours), series.dose_labels, strict=True):
+        axis.axvline(when, color="grey", linewidth=0.8, alpha=0.6)
+        if labelled:
+            axis.annotate(
+                label,
+                xy=(when, 1.0),
+                xycoords=("data", "axes fraction"),
+                xytext=(2, -3),
+                textcoords="offset points",
+                rotation=90,
+                va="top",
+                ha="left",
+                fontsize=LABEL_POINTS,
+                color="dimgrey",
+            )
+
+
+def _sodium_panel(top: Any, series: CourseSeries, at: Any, title: str) -> None:
+    for k, (hours, sodium) in enumerate(series.projected):
+        top.plot(at(hours), sodium, "--", color="tab:blue", alpha=0.6, label="projected" if k == 0 else None)
+    top.plot(at(series.lab_hours), series.sodium, "o", color="tab:blue", label="measured")
+    for value, colour, name in (
+        (series.sodium_warn, "tab:orange", "warn"),
+        (series.sodium_refuse, "tab:red", "refuse"),
+    ):
+        if value is not None:
+            top.axhline(value, color=colour, linewidth=1, label=f"{name} {value:g}")
+    _doses(top, series, at, labelled=True)
+    top.set_ylabel("sodium (mmol/L)")
+    top.legend(loc="lower right", fontsize="small")
+    top.set_title(title or "course of therapy")
+
+
+def _osmolality_panel(axis: Any, series: CourseSeries, at: Any) -> None:
+    """Measured and calculated osmolality with the ceilings; the osmolar gap on its own scale at the right."""
+    hours = at(series.lab_hours)
+    axis.plot(hours, series.measured_osmolality, "o-", color="tab:brown", label="measured osmolality")
+    axis.plot(hours, series.calculated_osmolality, "x--", color="tab:grey", label="calculated osmolality")
+    for value, colour, name in (
+        (series.osmolality_warn, "tab:orange", "warn"),
+        (series.osmolality_refuse, "tab:red", "refuse"),
+    ):
+        if value is not None:
+            axis.axhline(value, color=colour, linewidth=1, label=f"osmolality {name} {value:g}")
+    _doses(axis, series, at, labelled=False)
+    axis.set_ylabel("osmolality (mOsm/kg)")
+    gap = axis.twinx()
+    gap.plot(hours, series.osmolar_gap, "s:", color="tab:olive", label="osmolar gap")
+    for value, name in ((series.gap_warn, "warn"), (series.gap_refuse, "refuse")):
+        if value is not None:
+            gap.axhline(value, color="tab:olive", linestyle="-." if name == "refuse" else ":", linewidth=1,
+                        label=f"gap {name} {value:g}")  # fmt: skip
+    gap.set_ylabel("osmolar gap (mOsm/kg)")
+    lines, labels = axis.get_legend_handles_labels()
+    more, more_labels = gap.get_legend_handles_labels()
+    axis.legend(lines + more, labels + more_labels, loc="best", fontsize="x-small", ncol=2, framealpha=0.8)
+
+
+def _pressure_panel(bottom: Any, series: CourseSeries, at: Any) -> None:
+    if series.reading_hours:
+        bottom.plot(at(series.reading_hours), series.icp, "o-", color="tab:purple", label="ICP")
+        bottom.plot(at(series.reading_hours), series.cpp, "s-", color="tab:green", label="CPP")
+    for k, (h_before, before, h_low, low) in enumerate(series.icp_responses):
+        bottom.annotate(
+            "",
+            xy=(at((h_low,))[0], low),
+            xytext=(at((h_before,))[0], before),
+            arrowprops={"arrowstyle": "->", "color": "grey", "alpha": 0.7},
+        )
+        if k == 0:  # one legend entry for the arrows
+            bottom.plot([], [], color="grey", alpha=0.7, label="ICP response to a dose")
+    if series.icp_treat_above is not None:
+        threshold = series.icp_treat_above
+        bottom.axhline(threshold, color="tab:purple", linestyle=":", linewidth=1, label=f"ICP threshold {threshold:g}")
+    if series.cpp_target_min is not None:
+        target = series.cpp_target_min
+        bottom.axhline(target, color="tab:green", linestyle=":", linewidth=1, label=f"CPP target {target:g}")
+    _doses(bottom, series, at, labelled=False)
+    bottom.set_ylabel("pressure (mmHg)")
+    bottom.legend(loc="best", fontsize="small")

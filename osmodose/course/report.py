@@ -13,12 +13,13 @@ from typing import Any
 
 import numpy as np
 
-from osmodose.check.report import STATUS_MARK, STATUS_WORDS, render_text
+from osmodose.check.report import STATUS_WORDS, finding_line, formulary_lines, plain, render_text
 from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.course.apparent_tbw import ApparentTbw, apparent_tbw, apparent_tbw_findings
 from osmodose.course.episode import Episode
 from osmodose.course.findings import CourseFinding, course_findings, when
 from osmodose.course.icp_response import IcpResponse, icp_responses
+from osmodose.course.marks import LEGEND, Cell, TimelineRow, mark, timeline_marks
 from osmodose.course.plan import Plan
 from osmodose.course.projection import ProjectedPath, Projection, episode_tbw_l, project_now, projected_path, tbw_notes
 from osmodose.course.projection import tbw_method as method_of
@@ -35,6 +36,8 @@ from osmodose.course.report_response import (
 )
 from osmodose.course.timeline import Timeline, build_timeline
 from osmodose.formulary.model import Formulary
+from osmodose.science import precision as p
+from osmodose.science.precision import round_document
 
 #: A review looks back over doses already given, so its words differ from a check's.
 COURSE_STATUS_WORDS = {
@@ -97,50 +100,76 @@ def _num(value: float) -> float | None:
     return None if np.isnan(value) else float(value)
 
 
-def _f(value: float, digits: int = 1) -> str:
-    return "n/a" if np.isnan(value) else f"{value:.{digits}f}"
+def _f(name: str, value: float) -> str:
+    return p.figure_text(name, value)
 
 
-def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
-    """(time, entry, details) rows in time order, as the table and an app list show them."""
+def timeline_table(result: Review) -> list[TimelineRow]:
+    """The timeline in time order, each figure a cell with its mark: what the table prints and the app draws."""
     tl, ep = result.timeline, result.episode
-    rows: list[tuple[float, int, str, str, str]] = []
+    marks = timeline_marks(tl, result.formulary.limits)
+    rows: list[tuple[float, int, TimelineRow]] = []
     labs = tl.labs
     for j, lab in enumerate(ep.labs):
-        text = f"Na {_f(labs.sodium[j])}"
-        for name, value in (("K", labs.potassium[j]), ("glucose", labs.glucose[j]), ("urea", labs.urea[j])):
+        cells = [Cell("Na", _f("sodium_mmol_l", labs.sodium[j]), *mark(marks.sodium[j]))]
+        for name, key, value in (
+            ("K", "potassium_mmol_l", labs.potassium[j]),
+            ("glucose", "glucose_mmol_l", labs.glucose[j]),
+            ("urea", "urea_mmol_l", labs.urea[j]),
+        ):
             if not np.isnan(value):
-                text += f"  {name} {_f(value)}"
-        if not np.isnan(labs.measured_osmolality[j]):
-            text += f"  osm {_f(labs.measured_osmolality[j], 0)}"
-        if not np.isnan(labs.calculated_osmolality[j]):
-            text += f"  calc {_f(labs.calculated_osmolality[j])}"
-        if not np.isnan(labs.gap[j]):
-            text += f"  gap {_f(labs.gap[j])}"
+                cells.append(Cell(name, _f(key, value)))
+        for name, key, values, marked in (
+            ("osm", "osmolality_mosm_kg", labs.measured_osmolality, marks.osmolality),
+            ("calc", "calculated_osmolality_mosm_kg", labs.calculated_osmolality, marks.calculated),
+            ("gap", "osmolar_gap_mosm_kg", labs.gap, marks.gap),
+        ):
+            if not np.isnan(values[j]):
+                cells.append(Cell(name, _f(key, values[j]), *mark(marked[j])))
         if j:  # the rise is shown whether or not the rise limits apply to it (see course.sodium_rules)
             rise = labs.sodium_window.rise[j]
-            text += "  24 h rise " + ("n/a" if np.isnan(rise) else f"{rise:+.1f}")
-        rows.append((float(labs.t[j]), 0, when(lab.time), "lab", text))
+            cells.append(Cell("24 h rise", p.signed_text("sodium_rise_24h_mmol_l", rise), *mark(marks.rise[j])))
+            if marks.fall[j]:
+                fall = labs.sodium_window.fall[j]
+                cells.append(Cell("24 h fall", _f("sodium_fall_24h_mmol_l", fall), *mark(marks.fall[j])))
+        rows.append((float(labs.t[j]), 0, TimelineRow(when(lab.time), "lab", tuple(cells))))
     doses = tl.doses
     icp = {response.dose_row: response for response in result.icp}
     for j, dose in enumerate(ep.doses):
-        text = f"{dose.agent_id} {dose.volume_ml:g} mL"
+        given = f"{plain(dose.volume_ml, p.FIGURE_DECIMALS['volume_ml'])} mL"
         if dose.duration_min:
-            text += f" over {dose.duration_min:g} min"
+            given += f" over {plain(dose.duration_min, p.FIGURE_DECIMALS['duration_min'])} min"
+        cells = [Cell(dose.agent_id, given)]
         if doses.mannitol_g[j]:
-            text += f"  ({doses.mannitol_g[j]:.0f} g; {doses.mannitol_24h_g_per_kg[j]:.2f} g/kg in 24 h)"
+            cells.append(Cell("", p.figure_text("mannitol_g", doses.mannitol_g[j], "g")))
+            per_kg = p.figure_text("mannitol_24h_g_per_kg", doses.mannitol_24h_g_per_kg[j], "g/kg")
+            cells.append(Cell("in 24 h", per_kg, *mark(marks.mannitol_24h[j])))
         if result.path is not None and not np.isnan(result.path.dose_sodium[j]):
             projected = result.path.dose_sodium[j]
-            text += f"  -> projected Na {projected:.1f}" if doses.agent.projects_sodium[j] else "  (no projection)"
-        text += dose_details(j, result.apparent, icp)
-        rows.append((float(doses.t[j]), 1, when(dose.time), "dose", text))
+            if doses.agent.projects_sodium[j]:
+                cells.append(Cell("-> projected Na", _f("projected_sodium_after_mmol_l", projected)))
+            else:
+                cells.append(Cell("(no projection)", ""))
+        details = dose_details(j, result.apparent, icp).strip()
+        if details:
+            cells.append(Cell("", details))
+        rows.append((float(doses.t[j]), 1, TimelineRow(when(dose.time), "dose", tuple(cells))))
     r = tl.readings
     for j, reading in enumerate(ep.readings):
-        text = f"MAP {r.map[j]:.0f}  ICP {r.icp[j]:.0f}  CPP {r.cpp[j]:.0f}"
-        rows.append((float(r.t[j]), 2, when(reading.time), "reading", text))
-    rows += [(t, 3, time, "urine", text) for t, time, text in output_rows(ep, tl)]
+        cells = [
+            Cell("MAP", _f("map_mmhg", r.map[j])),
+            Cell("ICP", _f("icp_mmhg", r.icp[j]), *mark(marks.icp[j])),
+            Cell("CPP", _f("cpp_mmhg", r.cpp[j]), *mark(marks.cpp[j], "below")),
+        ]
+        rows.append((float(r.t[j]), 2, TimelineRow(when(reading.time), "reading", tuple(cells))))
+    rows += [(t, 3, TimelineRow(time, "urine", (Cell("", text),))) for t, time, text in output_rows(ep, tl)]
     rows.sort(key=lambda row: (row[0], row[1]))
-    return [(time, kind, text) for _, _, time, kind, text in rows]
+    return [row for _, _, row in rows]
+
+
+def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
+    """(time, entry, details) rows in time order, as the table and an app list show them (marks in words)."""
+    return [(row.time, row.kind, row.text) for row in timeline_table(result)]
 
 
 def patient_line(result: Review) -> str:
@@ -152,8 +181,8 @@ def patient_line(result: Review) -> str:
     return f"patient: {text}; total body water {result.tbw_l:.1f} L ({result.tbw_method})"
 
 
-def _formulary_line(formulary: Formulary) -> str:
-    return FormularyRef.of(formulary).line()
+def _formulary_lines(formulary: Formulary) -> list[str]:
+    return formulary_lines(FormularyRef.of(formulary))
 
 
 def projection_line(projection: Projection | None, timeline: Timeline) -> str:
@@ -176,16 +205,18 @@ def projection_line(projection: Projection | None, timeline: Timeline) -> str:
 def _findings_lines(findings: list[CourseFinding], title: str = "course checks") -> list[str]:
     if not findings:
         return [f"{title}: none crossed"]
-    return [f"{title}:"] + [f"  {STATUS_MARK[x.severity]} {x.code}: {x.message}" for x in findings]
+    return [f"{title}:"] + [f"  {finding_line(x.severity, x.code, x.message)}" for x in findings]
 
 
 def render_review_text(result: Review, path: Path | str) -> str:
-    rows = timeline_rows(result)
+    """What `course show` prints: status, files, patient, the marked timeline, projection, findings, caution."""
+    table = timeline_table(result)
+    rows = [(row.time, row.kind, row.text) for row in table]
     width = max([len(r[0]) for r in rows] + [4])
     lines = [
-        f"osmodose course  {STATUS_MARK[result.status]} {COURSE_STATUS_WORDS[result.status]}",
+        f"osmodose course  {COURSE_STATUS_WORDS[result.status]}",
         f"episode: {path}",
-        _formulary_line(result.formulary),
+        *_formulary_lines(result.formulary),
         patient_line(result),
         "",
         f"{'time':<{width}}  {'entry':<7}  details",
@@ -193,6 +224,8 @@ def render_review_text(result: Review, path: Path | str) -> str:
     ]
     if not rows:
         lines.append("(no entries yet)")
+    elif any(row.severity for row in table):
+        lines.append(LEGEND)
     lines += ["", projection_line(result.projection, result.timeline)]
     lines += [*apparent_lines(result.apparent), *icp_lines(list(result.icp), result.timeline.doses.agent_ids)]
     lines += ["", *_findings_lines(result.findings)]
@@ -249,7 +282,7 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
     ]
     outputs = [output.model_dump(mode="json") for output in ep.outputs]
     readings = [{**r.model_dump(mode="json"), "cpp_mmhg": r.cpp_mmhg} for r in ep.readings]
-    return {
+    document: dict[str, Any] = {
         "status": result.status,
         "episode": str(path),
         "format_version": ep.format_version,
@@ -267,12 +300,14 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
         "notes": result.notes,
         "caution": CAUTION,
     }
+    rounded: dict[str, Any] = round_document(document)
+    return rounded
 
 
 def render_plan_text(plan: Plan, path: Path | str) -> str:
     lab = plan.lab
     lines = [
-        f"osmodose course plan  {STATUS_MARK[plan.status]} {STATUS_WORDS[plan.status]}",
+        f"osmodose course plan  {STATUS_WORDS[plan.status]}",
         f"episode: {path}",
         f"planned at: {when(plan.at)}",
         f"latest lab: sodium {lab.sodium_mmol_l:.1f} mmol/L at {when(lab.time)}",
@@ -295,7 +330,7 @@ def render_plan_text(plan: Plan, path: Path | str) -> str:
 
 
 def plan_json(plan: Plan, path: Path | str) -> dict[str, Any]:
-    return {
+    document: dict[str, Any] = {
         "status": plan.status,
         "episode": str(path),
         "planned_at": when(plan.at),
@@ -309,3 +344,5 @@ def plan_json(plan: Plan, path: Path | str) -> dict[str, Any]:
         **plan_json_extras(plan),
         "caution": CAUTION,
     }
+    rounded: dict[str, Any] = round_document(document)
+    return rounded

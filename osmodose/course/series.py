@@ -13,13 +13,22 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import datetime
 
+import numpy as np
+
 from osmodose.course.episode import Episode
 from osmodose.course.icp_response import icp_responses
 from osmodose.course.projection import episode_tbw_l, projected_path
 from osmodose.course.timeline import SECONDS_PER_HOUR, build_timeline
 from osmodose.formulary.model import Formulary
+from osmodose.science.precision import figure_text
 
 Floats = tuple[float, ...]
+
+
+def volume_text(volume_ml: float) -> str:
+    """A dose's volume for a label: "350 mL", "62.5 mL" (to 0.1 mL, as every output reads volumes)."""
+    text = figure_text("volume_ml", volume_ml)
+    return f"{text.removesuffix('.0')} mL"
 
 
 @dataclass(frozen=True)
@@ -46,6 +55,18 @@ class CourseSeries:
     cpp_target_min: float | None
     icp_responses: tuple[tuple[float, float, float, float], ...] = ()
     """Per dose with readings before and after it: (hours, ICP before, hours, lowest ICP within the window)."""
+    measured_osmolality: Floats = ()
+    calculated_osmolality: Floats = ()
+    osmolar_gap: Floats = ()
+    """mOsm/kg at `lab_hours` (NaN where a lab cannot give it), for the osmolality panel."""
+    mannitol_given: bool = False
+    """Whether the episode has a mannitol dose: the plot then adds the osmolality and osmolar-gap panel."""
+    osmolality_warn: float | None = None
+    osmolality_refuse: float | None = None
+    gap_warn: float | None = None
+    gap_refuse: float | None = None
+    demo: bool = False
+    """True while the bundled demo formulary (an invented unit) is in use: the plot says DEMO."""
 
     @property
     def empty(self) -> bool:
@@ -87,7 +108,7 @@ def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
         sodium=tuple(float(x) for x in timeline.labs.sodium),
         projected=tuple(segments),
         dose_hours=hours(timeline.doses.t),
-        dose_labels=tuple(f"{d.agent_id} {d.volume_ml:g} mL" for d in doses),
+        dose_labels=tuple(f"{d.agent_id} {volume_text(d.volume_ml)}" for d in doses),
         reading_hours=hours(timeline.readings.t),
         icp=tuple(float(x) for x in timeline.readings.icp),
         cpp=tuple(float(x) for x in timeline.readings.cpp),
@@ -96,4 +117,13 @@ def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
         icp_treat_above=limits.icp_treat_above,
         cpp_target_min=limits.cpp_target_min,
         icp_responses=responses,
+        measured_osmolality=tuple(float(x) for x in timeline.labs.measured_osmolality),
+        calculated_osmolality=tuple(float(x) for x in timeline.labs.calculated_osmolality),
+        osmolar_gap=tuple(float(x) for x in timeline.labs.gap),
+        mannitol_given=bool(np.any(timeline.doses.agent.is_mannitol)),
+        osmolality_warn=limits.osmolality_warn,
+        osmolality_refuse=limits.osmolality_refuse,
+        gap_warn=limits.osmolar_gap_warn,
+        gap_refuse=limits.osmolar_gap_refuse,
+        demo=formulary.demo,
     )

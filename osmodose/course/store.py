@@ -25,7 +25,7 @@ from pydantic import ValidationError
 
 from osmodose.course.episode import FORMAT_VERSION, Episode
 from osmodose.course.migrations import MIGRATIONS, MigrationError, migrate
-from osmodose.errors import EpisodeFileError
+from osmodose.errors import EpisodeFileError, file_problem
 from osmodose.storage.durable import fsync_directory
 
 UNCHANGED = "the file was not changed"
@@ -109,7 +109,7 @@ def _describe(error: ValidationError) -> str:
         elif not str(part).startswith("function-after"):
             parts.append(str(part))
     where = ".".join(parts) or "(top level)"
-    message = str(first["msg"]).removeprefix("Value error, ")
+    message = file_problem(first)
     extra = len(items) - 1
     more = f" (and {extra} more problem{'s' if extra > 1 else ''})" if extra else ""
     return f"{where}: {message}{more}"

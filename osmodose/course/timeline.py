@@ -286,3 +286,25 @@ def mannitol_between(doses: DoseColumns, t_from: np.ndarray, t_to: np.ndarray) -
     starts = np.sort(doses.t[doses.agent.is_mannitol])
     before = np.searchsorted(starts, t_to, side="left") - np.searchsorted(starts, t_from, side="left")
     return before > 0
+
+
+def latest_time(timeline: Timeline) -> float | None:
+    """POSIX time of the latest entry of any kind (what a review judges "now"), or None."""
+    times = [float(np.max(t)) for t in (timeline.labs.t, timeline.doses.t, timeline.readings.t) if len(t)]
+    return max(times) if times else None
+
+
+def latest_measured_osmolality(labs: LabColumns, t: float, max_age_h: float | None = None) -> int | None:
+    """Index of the latest lab at or before `t` with a measured osmolality, drawn at most `max_age_h` before `t`.
+
+    A measured osmolality stays the one to judge until it is too old, even when
+    a newer lab has none (only a calculated one): None when there is none that
+    recent (`max_age_h` None: no age limit).
+    """
+    measured = np.flatnonzero(np.isfinite(labs.measured_osmolality) & (labs.t <= t))
+    if not len(measured):
+        return None
+    j = int(measured[-1])
+    if max_age_h is not None and (t - float(labs.t[j])) / SECONDS_PER_HOUR > max_age_h:
+        return None
+    return j

@@ -86,6 +86,28 @@ def attention_lines(changes: list[Change]) -> list[str]:
     ]
 
 
+def diff_json(old: Formulary, new: Formulary, changes: list[Change]) -> dict[str, Any]:
+    """What `formulary diff --json` prints."""
+    return {
+        "old": {"path": old.path, "sha256": old.sha256, "demo": old.demo},
+        "new": {"path": new.path, "sha256": new.sha256, "demo": new.demo},
+        "attention": [change.text for change in changes if change.attention],
+        "changes": [{**change.to_json(), "text": change.text} for change in changes],
+    }
+
+
+def render_diff(old: Formulary, new: Formulary, changes: list[Change]) -> str:
+    """What `formulary diff` prints: both files, what needs attention first, one line per change, the count."""
+    lines = [
+        f'--- {old.path} ("{old.name}" version "{old.version}")',
+        f'+++ {new.path} ("{new.name}" version "{new.version}")',
+        *attention_lines(changes),
+        *(change.text for change in changes),
+        summary_line(changes, old.sha256 == new.sha256),
+    ]
+    return "\n".join(lines) + "\n"
+
+
 def summary_line(changes: list[Change], same_bytes: bool) -> str:
     if changes:
         return f"{len(changes)} change{'' if len(changes) == 1 else 's'}"

@@ -18,6 +18,7 @@ from typing import Any
 from pydantic import ValidationError
 
 from osmodose.errors import FormularyError, FormularyProblems, InputError
+from osmodose.formulary.demo import is_demo
 from osmodose.formulary.file_errors import describe, key_path, salvage
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS, display_unit
@@ -137,6 +138,7 @@ def read_formulary(path: Path | str) -> ReadResult:
         version=model.formulary.version,
         sha256=digest,
         path=str(path),
+        demo=is_demo(digest),
         settings=model.settings,
         limits=limits,
         agents=tuple(agent for _, agent in agents),

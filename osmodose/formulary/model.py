@@ -87,6 +87,8 @@ class Formulary(BaseModel):
     version: str
     sha256: str
     path: str
+    demo: bool = False
+    """True for the bundled demo formulary (an invented unit): every output says DEMO."""
     settings: SettingsTable
     limits: Limits
     agents: tuple[Agent, ...]

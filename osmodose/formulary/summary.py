@@ -6,10 +6,14 @@ figures with the same rounding.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Sequence
+from dataclasses import asdict, dataclass
+from typing import Any
 
+from osmodose.formulary.demo import DEMO_NOTE
 from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 from osmodose.formulary.model import Formulary
+from osmodose.science.precision import STOCK_DECIMALS, rounded
 from osmodose.science.units import Q_
 
 
@@ -103,21 +107,92 @@ AGENT_COLUMNS: tuple[str, ...] = (
 LIMIT_COLUMNS: tuple[str, ...] = ("limit", "value", "source")
 
 
+def _stock(name: str, value: float | None, strip: bool = False) -> str:
+    """A stock figure to its declared decimals; `strip` drops trailing zeros (g/mL: 0.03, 0.0045)."""
+    if value is None:
+        return "n/a"
+    decimals = STOCK_DECIMALS[name]
+    text = f"{rounded(value, decimals):.{decimals}f}"
+    return text.rstrip("0").rstrip(".") if strip else text
+
+
 def agent_cells(row: AgentRow) -> tuple[str, ...]:
-    """The row as text, rounded as a checker reads labels: whole mmol/L and mOsm/L, mmol/mL to 3 places."""
+    """The row as text, rounded as a checker reads labels (`precision.STOCK_DECIMALS`): whole mmol/L and mOsm/L."""
     return (
         row.id,
         row.label,
         row.concentration,
-        f"{row.sodium_mmol_l:.0f}",
-        f"{row.sodium_mmol_per_ml:.3f}",
-        f"{row.osmolarity_mosm_l:.0f}",
-        "n/a" if row.solute_g_per_ml is None else f"{row.solute_g_per_ml:.4g}",
+        _stock("sodium_mmol_l", row.sodium_mmol_l),
+        _stock("sodium_mmol_per_ml", row.sodium_mmol_per_ml),
+        _stock("osmolarity_mosm_l", row.osmolarity_mosm_l),
+        _stock("solute_g_per_ml", row.solute_g_per_ml, strip=True),
         row.route,
         row.presentations,
         row.dose_limits,
         row.max_rate,
     )
+
+
+def agent_json(row: AgentRow) -> dict[str, Any]:
+    """The row as `formulary show --json` gives it, its figures rounded as the table prints them."""
+    document = asdict(row)
+    for name, decimals in STOCK_DECIMALS.items():
+        if document[name] is not None:
+            document[name] = float(rounded(document[name], decimals))
+    return document
+
+
+def show_json(formulary: Formulary, caution: str) -> dict[str, Any]:
+    """What `formulary show --json` prints."""
+    return {
+        "formulary": {
+            "name": formulary.name,
+            "version": formulary.version,
+            "sha256": formulary.sha256,
+            "demo": formulary.demo,
+        },
+        "path": formulary.path,
+        "agents": [agent_json(row) for row in agent_rows(formulary)],
+        "limits": [asdict(row) for row in limit_rows(formulary)],
+        "caution": caution,
+    }
+
+
+#: The agents table is printed as two tables keyed by id, to fit a terminal.
+FIGURE_COLUMNS = ("id", "concentration", "Na mmol/L", "Na mmol/mL", "mOsm/L", "g/mL", "route")
+STOCK_COLUMNS = ("id", "label", "presentations", "dose limits", "max rate")
+
+
+def table_lines(headings: Sequence[str], rows: Sequence[Sequence[str]], chosen: Sequence[str]) -> list[str]:
+    """The `chosen` columns, left-aligned, two spaces apart."""
+    picks = [headings.index(name) for name in chosen]
+    table = [[cells[i] for i in picks] for cells in (headings, *rows)]
+    widths = [max(len(line[i]) for line in table) for i in range(len(picks))]
+    return ["  ".join(cell.ljust(width) for cell, width in zip(line, widths, strict=True)).rstrip() for line in table]
+
+
+def render_show(formulary: Formulary, caution: str) -> str:
+    """What `formulary show` prints: the file, the agents (two tables), the limits in force, the caution."""
+    agents = agent_rows(formulary)
+    cells = [agent_cells(row) for row in agents]
+    lines = [
+        f'formulary "{formulary.name}" version "{formulary.version}"',
+        *([DEMO_NOTE] if formulary.demo else []),
+        f"file {formulary.path}",
+        f"sha256 {formulary.sha256}",
+        "",
+        f"agents ({len(agents)}): composition derived from the concentration",
+        *table_lines(AGENT_COLUMNS, cells, FIGURE_COLUMNS),
+        "",
+        "agents: label, stock and order limits",
+        *table_lines(AGENT_COLUMNS, cells, STOCK_COLUMNS),
+        "",
+        "limits in force",
+        *table_lines(LIMIT_COLUMNS, [limit_cells(row) for row in limit_rows(formulary)], LIMIT_COLUMNS),
+        "",
+        caution,
+    ]
+    return "\n".join(lines) + "\n"
 
 
 def limit_cells(row: LimitRow) -> tuple[str, ...]:

@@ -15,7 +15,7 @@ from osmodose.errors import InputError
 Sex = Literal["female", "male"]
 Line = Literal["central", "peripheral"]
 TbwMethod = Literal["fraction", "watson"]
-DoseMode = Literal["dose", "volume", "target-rise"]
+DoseMode = Literal["dose", "volume", "target-rise", "target-sodium"]
 EthanolFactor = Literal["molar", "empirical"]
 YesNo = Literal["yes", "no"]
 
@@ -53,5 +53,11 @@ LINE: Choice[Line] = Choice("line", get_args(Line))
 TBW_METHOD: Choice[TbwMethod] = Choice(
     "method", get_args(TbwMethod), {"fraction": "fraction of weight", "watson": "Watson"}
 )
-DOSE_MODE: Choice[DoseMode] = Choice("dose style", get_args(DoseMode), {"target-rise": "target Na change"})
+#: How an order's amount is asked for; `shown` is each style's name on screen (the app's "asked as"
+#: select) and in errors about the amount typed in that style.
+DOSE_MODE: Choice[DoseMode] = Choice(
+    "dose style", get_args(DoseMode), {"target-rise": "target Na change", "target-sodium": "target Na"}
+)
+#: The dose styles that aim at a serum sodium: read into a change in mmol/L (`inputs.target_change`).
+TARGET_MODES: tuple[DoseMode, ...] = ("target-rise", "target-sodium")
 YES_NO: Choice[YesNo] = Choice("answer", get_args(YesNo))

@@ -32,6 +32,21 @@ _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 
 Outcome = Literal["released", "released-with-accepted-warnings", "held", "refused"]
 
+#: What each decision means for giving the order, as a check's status: the top-level `status` of
+#: `verify --json` and the exit status (0 ok, 3 warn, 4 refuse).
+OUTCOME_STATUS: dict[str, Literal["ok", "warn", "refuse"]] = {
+    "released": "ok",
+    "released-with-accepted-warnings": "ok",
+    "held": "warn",
+    "refused": "refuse",
+}
+
+
+def decision_word(outcome: str) -> str:
+    """The one spelling of a decision in text: its JSON value in capitals (RELEASED-WITH-ACCEPTED-WARNINGS)."""
+    return outcome.upper()
+
+
 #: The shortest written reason accepted: enough for a few words, not "ok".
 MIN_REASON_LENGTH = 8
 MAX_REASON_LENGTH = 500

@@ -26,6 +26,7 @@ import os
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from pydantic import BaseModel, ConfigDict, ValidationError
 
@@ -55,6 +56,31 @@ class LogEntry(BaseModel):
     previous_sha256: str
     record: VerificationRecord
 
+    def to_json(self, sha256: str, **where: object) -> dict[str, Any]:
+        """What `verify --json` and `log show --json` print: the decision on top, then the chain and the record.
+
+        `where` adds what the caller knows about the stored line (`log`, the
+        file it was appended to; `hash_ok`, whether it still matches its hash).
+        """
+        record = self.record
+        return {
+            "status": record.status,
+            "decision": record.outcome,
+            **where,
+            "sequence": self.sequence,
+            "sha256": sha256,
+            "previous_sha256": self.previous_sha256,
+            "record": record.to_json(),
+        }
+
+    def render_saved(self, sha256: str, path: Path | str) -> str:
+        """The record as `osmodose verify` prints it once saved, with where and under which SHA-256."""
+        return (
+            self.record.render_text()
+            + f"saved as record {self.sequence} in {path}\n"
+            + f"record sha256 {sha256} (note it in the chart: osmodose log verify --expect checks it)\n"
+        )
+
 
 @dataclass(frozen=True)
 class StoredEntry:
@@ -64,6 +90,18 @@ class StoredEntry:
     sha256: str
     entry: LogEntry
     hash_ok: bool
+
+    def to_json(self) -> dict[str, Any]:
+        """What `log show --json` prints."""
+        return self.entry.to_json(self.sha256, hash_ok=self.hash_ok)
+
+    def render_text(self, path: Path | str) -> str:
+        """What `log show` prints: where the record stands, its hashes, a warning if altered, the record."""
+        entry = self.entry
+        lines = [f"record {entry.sequence} of log {path}", f"sha256 {self.sha256}   previous {entry.previous_sha256}"]
+        if not self.hash_ok:
+            lines.append("ALTERED: this record no longer matches its SHA-256; it was changed after it was saved")
+        return "\n".join([*lines, "", entry.record.render_text()])
 
 
 @dataclass(frozen=True)

@@ -20,27 +20,30 @@ from pydantic import BaseModel, ConfigDict
 
 from osmodose import __version__
 from osmodose.case.inputs import CheckRequest, DoseRequest
+from osmodose.check.report import finding_line, formulary_lines
 from osmodose.check.report import render_text as render_check
 from osmodose.check.results import CAUTION, CheckResult, FormularyRef
 from osmodose.check.run import run_check
 from osmodose.formulary.model import Formulary
-from osmodose.verify.decision import Acceptance, Decision, Outcome, decide, parse_initials
+from osmodose.science.precision import round_document
+from osmodose.verify.decision import (
+    OUTCOME_STATUS,
+    Acceptance,
+    Decision,
+    Outcome,
+    decide,
+    decision_word,
+    parse_initials,
+)
 from osmodose.verify.discrepancies import Discrepancy, find_discrepancies
 from osmodose.verify.order import Order
 
-OUTCOME_MARK: dict[str, str] = {
-    "released": "[RELEASED]",
-    "released-with-accepted-warnings": "[RELEASED WITH ACCEPTED WARNINGS]",
-    "held": "[HELD]",
-    "refused": "[REFUSED]",
-}
 OUTCOME_WORDS: dict[str, str] = {
     "released": "no limit crossed and nothing contradicts the order",
     "released-with-accepted-warnings": "every warning accepted with a reason",
     "held": "a warning is not accepted: not released until it is, or the order changes",
     "refused": "a hard limit is crossed or the order contradicts itself: do not give as written",
 }
-_SEVERITY_MARK = {"warn": "[WARN]", "refuse": "[REFUSE]"}
 
 
 class VerificationRecord(BaseModel):
@@ -70,9 +73,15 @@ class VerificationRecord(BaseModel):
     def outcome(self) -> Outcome:
         return self.decision.outcome
 
+    @property
+    def status(self) -> str:
+        """ok, warn or refuse: what the decision means for giving the order (and the exit status)."""
+        return OUTCOME_STATUS[self.outcome]
+
     def to_json(self) -> dict[str, Any]:
-        """The public JSON object (plain types only)."""
-        return self.model_dump(mode="json")
+        """The public JSON object (plain types only), figures rounded as declared; the log keeps full precision."""
+        document: dict[str, Any] = round_document(self.model_dump(mode="json"))
+        return document
 
     def render_text(self) -> str:
         """The readable record, for the chart or a printout; ends with the caution line."""
@@ -161,11 +170,10 @@ def render_record(record: VerificationRecord) -> str:
     """The readable record (one implementation for the terminal, the app and printouts)."""
     decision = record.decision
     outcome = decision.outcome
-    f = record.formulary
     lines = [
-        f"osmodose verification  {OUTCOME_MARK[outcome]} {OUTCOME_WORDS[outcome]}",
+        f"osmodose verification  {decision_word(outcome)}: {OUTCOME_WORDS[outcome]}",
         f"verified by {decision.initials} at {record.timestamp} with osmodose {record.program_version}",
-        f.line(),
+        *formulary_lines(record.formulary),
         "",
         "order as written: " + ", ".join(f"{k} {v}" for k, v in record.order.entered.items()),
         f"  read as: {_order_read_as(record.order)}",
@@ -173,12 +181,12 @@ def render_record(record: VerificationRecord) -> str:
     ]
     if record.discrepancies:
         lines.append("discrepancies (as written against recomputed):")
-        lines += [f"  {_SEVERITY_MARK[d.severity]} {d.code}: {d.message}" for d in record.discrepancies]
+        lines += [f"  {finding_line(d.severity, d.code, d.message)}" for d in record.discrepancies]
     else:
         lines.append("discrepancies: none")
     lines += ["", "recomputation from the volume:"]
     lines += [f"  {line}" if line else "" for line in _check_body(record.result)]
-    lines += ["", f"decision: {outcome.upper()}"]
+    lines += ["", f"decision: {decision_word(outcome)}"]
     if decision.refusals:
         lines.append("  refused (cannot be accepted): " + ", ".join(decision.refusals))
     for accepted in decision.accepted:

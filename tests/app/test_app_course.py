@@ -137,7 +137,7 @@ async def test_a_bad_value_is_marked_at_its_field_and_nothing_is_written(tmp_pat
         assert app.screen is form  # still open, the error in place
         icp = form.field("icp")
         assert icp.has_class("-bad")
-        assert icp.message.startswith("✖ icp: 15 kg is in the wrong unit")
+        assert icp.message.startswith("✖ ICP: 15 kg is in the wrong unit")  # named as its box is labelled
         assert not form.field("map").has_class("-bad")
         assert shown(form, "#entry-message") == "✖ nothing was saved: see the marked field"
         assert pilot.app.focused is icp.control
@@ -174,7 +174,7 @@ async def test_plan_shows_the_course_plan_report(tmp_path: Path, demo: Formulary
         form.field("time").control.value = "2026-12-01T23:00+00:00"  # type: ignore[union-attr]
         await pilot.press("ctrl+s")
         text = shown(form, "#entry-text")
-        assert text.startswith("osmodose course plan  [")
+        assert text.startswith("osmodose course plan  REFUSE: ")
         assert "projected sodium before this dose: 151.2 mmol/L" in text
     assert path.read_bytes() == raw
 

@@ -90,7 +90,7 @@ async def test_accepted_peripheral_warning_releases_saves_and_matches_osmodose_v
         assert str(screen.query_one("#verify-status", Static).render()).startswith("… INCOMPLETE: accept")
         await type_into(pilot, "reason-peripheral-osmolarity", VEIN_REASON)
         assert str(screen.query_one("#verify-status", Static).render()) == (
-            "✔ RELEASED WITH ACCEPTED WARNINGS: each has a reason"
+            "✔ RELEASED-WITH-ACCEPTED-WARNINGS: each has a reason"
         )
         assert shown(screen, "verify-saved") == NOT_SAVED_YET
         await pilot.press("ctrl+s")

@@ -58,7 +58,7 @@ def test_the_screens_record_is_the_one_verify_order_gives_for_the_same_text(demo
     )
     assert state.record == expected
     assert state.outcome == "released-with-accepted-warnings"
-    assert decision_text(state) == "✔ RELEASED WITH ACCEPTED WARNINGS: each has a reason"
+    assert decision_text(state) == "✔ RELEASED-WITH-ACCEPTED-WARNINGS: each has a reason"
 
 
 @pytest.mark.parametrize(
