@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
-from osmodose.app.view import SYMBOL, FieldSpec, spec_of
+from osmodose.app.form_view import SYMBOL, FieldSpec, spec_of
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import LAB_KEYS
 from osmodose.course.entries import parse_dose_entry, parse_lab, parse_reading

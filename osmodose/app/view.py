@@ -1,19 +1,27 @@
-"""What the screen shows, as plain data: no textual here, so it is tested without a terminal.
+"""What the check screen shows, as plain data: no textual here, so it is tested without a terminal.
 
-The form's fields, one evaluation of the typed text through the core
-(`parse_check_request` then `run_check`), and the text of each shown figure,
-formatted with the report's own `fmt`/`signed` so the screen and the saved
-summary round alike.  Nothing here computes a clinical figure.
+One evaluation of the typed form through the core (`parse_check_request` then
+`run_check`) becomes one `Shown`: the text of every line on the screen, each
+piece tagged with a role (a value, a refused value, a warning...) that the
+widgets turn into a style.  Figures are formatted with the report's own
+`fmt`/`signed`, so the screen and the saved summary round alike.  Nothing here
+computes a clinical figure.
+
+Imported by the app's loader thread, once pint and the formulary are in:
+the screen itself is laid out from `form_view` alone.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
-from typing import Any, Literal, cast
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
 
+from osmodose.app.form_view import AMOUNT, DOSE_MODE, FIELDS, SYMBOL
+from osmodose.app.shown import Line, Role, Shown, Span
 from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
-from osmodose.case.fields import keys
+from osmodose.case.fields import read
 from osmodose.case.inputs import DoseMode, parse_check_request
 from osmodose.check.report import fmt, signed, status_words
 from osmodose.check.results import CheckResult
@@ -21,48 +29,9 @@ from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 
-Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
-
-#: The order field whose meaning is chosen by the dose-mode select.
-AMOUNT = "amount"
-DOSE_MODE = "dose-mode"
-DOSE_MODES: tuple[tuple[str, str], ...] = tuple((DOSE_CHOICE.label(mode), mode) for mode in DOSE_CHOICE.values)
-AMOUNT_HINT: dict[str, str] = {mode: CASE_FIELDS[mode].hint for mode in DOSE_CHOICE.values}
-
-#: Banner symbols: each status has its own word, colour and symbol.
-SYMBOL = {"ok": "✔", "warn": "▲", "refuse": "✖", "invalid": "?", "incomplete": "…"}
-
-
-@dataclass(frozen=True)
-class FieldSpec:
-    """One box of the paper form, in the order a checker fills it in."""
-
-    key: str
-    label: str
-    panel: Panel
-    hint: str = ""
-    choices: tuple[tuple[str, str], ...] = ()
-    """For a select: (shown, value) pairs; empty for a typed field."""
-    blank: str = ""
-    """For a select that may stay empty: what the empty choice says."""
-
-
-def spec_of(key: str, panel: Panel | None = None, **override: Any) -> FieldSpec:
-    """The form box of a field of the field table (`osmodose.case.fields`), its words overridable."""
-    field = CASE_FIELDS[key]
-    choices = tuple((field.choice.label(v), v) for v in field.choice.values) if field.choice else ()
-    spec = FieldSpec(key, field.label, panel or cast(Panel, field.group), field.hint, choices, field.empty)
-    return replace(spec, **override) if override else spec
-
-
-FIELDS: tuple[FieldSpec, ...] = (
-    *(spec_of(key) for key in keys("patient", "labs")),
-    spec_of("agent"),
-    FieldSpec(DOSE_MODE, "asked as", "order", choices=DOSE_MODES),
-    FieldSpec(AMOUNT, "amount", "order", AMOUNT_HINT["dose"]),
-    spec_of("duration"),
-    spec_of("line"),
-)
+#: Width of the label column of the figure panels (a longer label takes a line of its own).
+LABEL_WIDTH = 15
+NOT_VALID = "—"
 
 
 @dataclass(frozen=True)
@@ -75,6 +44,8 @@ class Outcome:
     """The form field to mark: the one the error names, in the form's own keys."""
     missing: bool = False
     """True when a needed field is still empty (incomplete), False when one is wrong."""
+    mode: str = "dose"
+    """The dose style the amount was asked as."""
 
     @property
     def state(self) -> str:
@@ -82,8 +53,13 @@ class Outcome:
             return self.result.status
         return "incomplete" if self.missing else "invalid"
 
+    @property
+    def message(self) -> str:
+        """The error in the screen's own words ("" when there is none)."""
+        return screen_message(self.error, self.mode) if self.error is not None else ""
 
-def evaluate(values: dict[str, str], formulary: Formulary) -> Outcome:
+
+def evaluate(values: Mapping[str, str], formulary: Formulary) -> Outcome:
     """Run the typed form through the core; any InputError becomes a marked field."""
     mode: DoseMode = DOSE_CHOICE.read(DOSE_MODE, values.get(DOSE_MODE) or "dose")
     fields: dict[str, object] = {k: v for k, v in values.items() if k not in (AMOUNT, DOSE_MODE)}
@@ -93,39 +69,103 @@ def evaluate(values: dict[str, str], formulary: Formulary) -> Outcome:
     try:
         result = run_check(parse_check_request(fields, dose_mode=mode), formulary)
     except InputError as error:
-        field, missing = _where(error, values, amount)
-        return Outcome(None, error, field, missing)
-    return Outcome(result)
+        where, missing = _where(error, values, amount)
+        return Outcome(None, error, where, missing, mode)
+    return Outcome(result, mode=mode)
 
 
-def _where(error: InputError, values: dict[str, str], amount: str) -> tuple[str, bool]:
+def _where(error: InputError, values: Mapping[str, str], amount: str) -> tuple[str, bool]:
     """Which form field an error belongs to, and whether it is only missing."""
     if error.field == "agent" and not amount:
         return AMOUNT, True  # an agent is chosen but no amount typed yet
-    if error.field in ("dose", "volume", "target-rise"):
+    if error.field in DOSE_CHOICE.values:
         if not (values.get("agent") or "").strip():
             return "agent", True
         return AMOUNT, False
     return error.field, error.value is None
 
 
-def banner_text(outcome: Outcome) -> str:
-    """The status line: symbol, word, and what it means."""
-    state = outcome.state
-    if outcome.result is None:
-        word = "INCOMPLETE" if outcome.missing else "NOT VALID"
-        return f"{SYMBOL[state]} {word}: {outcome.error}  (no results shown)"
-    text = f"{SYMBOL[state]} {status_words(outcome.result)}"
-    if outcome.result.dose is None:
-        text += "  (no order: labs only)"
+# --- the screen's own words --------------------------------------------------------------------
+
+#: Words of the command line that the screen calls otherwise.
+_OPTION_WORDS = {"--agent ID": "an agent from the list", "exactly one of dose, volume or target-rise": "an amount"}
+
+
+def _screen_names() -> dict[str, str]:
+    """Field keys whose box on screen is named otherwise (tbw-method is "TBW method")."""
+    names = {key: f.label.removeprefix("or ") for key, f in CASE_FIELDS.items()}
+    names.update({mode: DOSE_CHOICE.label(mode) for mode in DOSE_CHOICE.values})
+    return {key: name for key, name in names.items() if name != key}
+
+
+SCREEN_NAMES = _screen_names()
+_NAMES = "|".join(map(re.escape, sorted(SCREEN_NAMES, key=len, reverse=True)))
+_KEY_WORD = re.compile(rf"(?<![\w-])({_NAMES})(?![\w-])")
+
+
+def on_screen(text: str) -> str:
+    """`text` with every command-line name of a field replaced by the name its box has on screen."""
+    for words, shown in _OPTION_WORDS.items():
+        text = text.replace(words, shown)
+    return _KEY_WORD.sub(lambda m: SCREEN_NAMES[m.group(1)], text)
+
+
+def screen_message(error: InputError, mode: str = "dose") -> str:
+    """An input error in the words of the screen: "target Na change: 134 is outside ...", never "target-rise"."""
+    name = SCREEN_NAMES.get(error.field, error.field)
+    problem, accepted = on_screen(error.problem), on_screen(error.accepted) if error.accepted else None
+    text = str(InputError(name, error.value, problem, accepted))
+    if error.field == "target-rise" and "target-sodium" in DOSE_CHOICE.values and "outside" in problem:
+        text += f"; to aim at a sodium level, ask as {DOSE_CHOICE.label('target-sodium')}"
     return text
 
 
+# --- what each box reads as ---------------------------------------------------------------------
+
+_UNIT_SHOWN = {"year": "y"}
+
+
+def short(value: float) -> str:
+    """A figure at most to 0.1, without a trailing .0: 69.85 is 69.9, 70.0 is 70."""
+    return f"{round(value, 1):g}"
+
+
+def echo(key: str, raw: str, mode: str = "dose") -> tuple[str, str]:
+    """What a typed value reads as: (the unit beside a bare number, the value converted under a typed unit).
+
+    ("kg", "") for "70"; ("", "= 69.9 kg") for "154 lb"; ("", "") for an empty
+    box, a choice, a dose (its unit is always typed) or a value that does not read.
+    """
+    if key == AMOUNT:
+        key = mode
+    field = CASE_FIELDS.get(key)
+    if field is None or field.kind != "quantity" or not raw.strip():
+        return "", ""
+    try:
+        value = read(key, raw)
+    except InputError:
+        return "", ""
+    if _is_bare(raw):
+        return _UNIT_SHOWN.get(field.unit, field.unit), ""
+    shown = _UNIT_SHOWN.get(field.engine_unit, field.engine_unit)
+    return "", f"= {short(value)} {shown}" + (f" {field.into}" if field.into else "")
+
+
+def _is_bare(raw: str) -> bool:
+    try:
+        float(raw.strip())
+    except ValueError:
+        return False
+    return True
+
+
+# --- the lines shown ----------------------------------------------------------------------------
+
 #: (id, label) of the figures that need no order, in the order shown.
 PATIENT_FIGURES: tuple[tuple[str, str], ...] = (
-    ("tbw", "body water"),
-    ("calc-osm", "calculated osm"),
-    ("eff-osm", "effective osm"),
+    ("tbw", "total body water"),
+    ("calc-osm", "calculated osmolality"),
+    ("eff-osm", "effective osmolality"),
     ("gap", "osmolar gap"),
 )
 #: (id, label) of the order's figures.
@@ -133,17 +173,29 @@ DOSE_FIGURES: tuple[tuple[str, str], ...] = (
     ("volume", "volume"),
     ("rate", "rate"),
     ("solute", "solute"),
-    ("sodium-load", "sodium"),
-    ("osmoles", "osmoles"),
-    ("na-per-litre", "Na per litre"),
+    ("sodium-load", "sodium load"),
+    ("osmoles", "osmolar load"),
+    ("na-per-litre", "Na change per litre of this fluid"),
     ("projected-na", "projected Na"),
 )
+
+
+def banner_text(outcome: Outcome) -> str:
+    """The status line: symbol, word, and what it means."""
+    state = outcome.state
+    if outcome.result is None:
+        word = "INCOMPLETE" if outcome.missing else "NOT VALID"
+        return f"{SYMBOL[state]} {word}: {outcome.message}  (no results shown)"
+    text = f"{SYMBOL[state]} {status_words(outcome.result)}"
+    if outcome.result.dose is None:
+        text += "  (no order: labs only)"
+    return text
 
 
 def patient_texts(result: CheckResult) -> dict[str, str]:
     """Shown text of each figure that needs no order."""
     p = result.patient
-    method = "Watson" if p.tbw_method == "watson" else "fraction"
+    method = "Watson" if p.tbw_method == "watson" else "fraction of weight"
     return {
         "tbw": f"{fmt(p.total_body_water_l, 'L')} ({method})",
         "calc-osm": fmt(result.calculated_osmolality_mosm_kg, "mOsm/kg"),
@@ -168,22 +220,150 @@ def dose_texts(result: CheckResult) -> dict[str, str]:
         "osmoles": fmt(dose.osmoles_mosm, "mOsm", 0),
         "na-per-litre": signed(result.sodium_change_per_litre_mmol_l, "mmol/L"),
         "projected-na": f"{fmt(result.projected_sodium_mmol_l, 'mmol/L')} "
-        f"({signed(result.projected_sodium_rise_mmol_l)})",
+        f"({signed(result.projected_sodium_rise_mmol_l, 'mmol/L')})",
     }
 
 
-def stock_rows(result: CheckResult) -> list[str]:
-    """The volume against each bag or vial size the agent is kept in."""
+def stock_lines(result: CheckResult) -> list[str]:
+    """The volume against each bag or vial size the agent is kept in: alternatives, any one of them."""
     if result.dose is None:
         return []
-    rows = []
+    fits = []
     for fit in result.dose.presentations:
         text = f"{fit.containers} × {fit.size_ml:g} mL"
-        text += f", discard {fit.discard_ml:g} mL" if fit.discard_ml else ", none left over"
-        rows.append(text)
-    return rows or ["no presentations listed in the formulary"]
+        text += f" (discard {fit.discard_ml:g} mL)" if fit.discard_ml else " (none left over)"
+        fits.append(text)
+    if not fits:
+        return ["from stock: no bag or vial sizes listed in the formulary"]
+    return ["from stock, any one of:", *(("  " if i == 0 else "  or ") + text for i, text in enumerate(fits))]
 
 
-def finding_rows(result: CheckResult) -> list[tuple[str, str]]:
+def finding_lines(result: CheckResult) -> list[tuple[Role, str]]:
     """(severity, line) per finding, with the symbol and the word, refusals first."""
     return [(x.severity, f"{SYMBOL[x.severity]} {x.severity.upper()} {x.code}: {x.message}") for x in result.findings]
+
+
+def figure_lines(rows: tuple[tuple[str, str], ...], texts: Mapping[str, str], role: Role) -> tuple[Line, ...]:
+    """A label column and the value beside it; a label too long for the column stands on a line of its own."""
+    lines: list[Line] = []
+    for figure_id, label in rows:
+        value: Span = (texts.get(figure_id, NOT_VALID), role if figure_id in texts else "muted")
+        if len(label) < LABEL_WIDTH:
+            lines.append(((label.ljust(LABEL_WIDTH), "label"), value))
+        else:
+            lines += [((label, "label"),), ((" " * LABEL_WIDTH, ""), value)]
+    return tuple(lines)
+
+
+def show(outcome: Outcome, values: Mapping[str, str]) -> Shown:
+    """The whole screen's text for one evaluation of the form's `values`."""
+    result = outcome.result
+    mode = values.get(DOSE_MODE) or "dose"
+    echoes = {spec.key: echo(spec.key, values.get(spec.key, ""), mode) for spec in FIELDS}
+    if outcome.field is not None:
+        echoes[outcome.field] = ("", "")
+    mark = ""
+    if outcome.error is not None:
+        mark = ("… needed: " if outcome.missing else "✖ ") + outcome.message
+    texts: dict[str, str] = {}
+    if result is None:
+        checks: tuple[Line, ...] = ((("not valid: no checks until every field reads", "muted"),),)
+        dose_title = "dose"
+        dose_lines: tuple[Line, ...] = ((("not valid: see the marked field", "muted"),),)
+        figures = figure_lines(PATIENT_FIGURES, {}, "value")
+        notes: tuple[str, ...] = ()
+    else:
+        found = finding_lines(result)
+        checks = tuple(((line, severity),) for severity, line in found) or ((("✔ OK: no limit crossed", "ok"),),)
+        patient = patient_texts(result)
+        texts.update(patient)
+        figures = figure_lines(PATIENT_FIGURES, patient, "value")
+        dose_title, dose_lines = _dose_panel(result, texts, asked_text(values, echoes))
+        notes = tuple(f"- {note}" for note in result.notes)
+    return Shown(
+        state=outcome.state,
+        banner=banner_text(outcome),
+        summary=summary_lines(outcome, values, echoes),
+        checks=checks,
+        dose_title=dose_title,
+        dose=dose_lines,
+        figures=figures,
+        notes=notes,
+        values=texts,
+        echoes=echoes,
+        marked=outcome.field,
+        mark=mark,
+        missing=outcome.missing,
+    )
+
+
+def asked_text(values: Mapping[str, str], echoes: Mapping[str, tuple[str, str]]) -> str:
+    """What was asked for, in the screen's words and with its unit: "target Na change 6 mmol/L"."""
+    mode = values.get(DOSE_MODE) or "dose"
+    unit = echoes.get(AMOUNT, ("", ""))[0]
+    return f"{DOSE_CHOICE.label(mode)} {values.get(AMOUNT, '').strip()}" + (f" {unit}" if unit else "")
+
+
+def _dose_panel(result: CheckResult, texts: dict[str, str], asked: str) -> tuple[str, tuple[Line, ...]]:
+    """The dose panel's title and lines; a refused order's figures struck through, the refusal above them."""
+    dose = result.dose
+    if dose is None:
+        return "dose", ((("no order entered: the labs are checked alone", "muted"),),)
+    figures = dose_texts(result)
+    texts.update(figures)
+    refused = result.status == "refuse"
+    line = f", {result.line} line" if result.line else ""
+    lines: list[Line] = []
+    if refused:
+        codes = ", ".join(x.code for x in result.findings if x.severity == "refuse")
+        lines.append(((f"✖ REFUSED ({codes}): do not give as ordered; the figures are for reference only", "refuse"),))
+    lines += [((dose.agent_label, ""),), ((f"asked as {asked}{line}", "muted"),)]
+    lines += figure_lines(DOSE_FIGURES, figures, "struck" if refused else "value")
+    lines += [((text, "struck" if refused else ""),) for text in stock_lines(result)]
+    title = f"dose {SYMBOL[result.status]} {'REFUSED' if refused else result.status.upper()}"
+    return title, tuple(lines)
+
+
+def summary_lines(
+    outcome: Outcome, values: Mapping[str, str], echoes: Mapping[str, tuple[str, str]]
+) -> tuple[Line, ...]:
+    """The lines pinned under the status: the patient, the order's key figures, the findings by code."""
+    result = outcome.result
+    if result is not None:
+        p = result.patient
+        na = result.labs.get("sodium_mmol_l")
+        patient = f"{short(p.weight_kg)} kg · {short(p.age_years)} y · {p.sex} · Na {short(na or 0)} mmol/L"
+    else:
+        parts = []
+        for key, name in (("weight", ""), ("age", ""), ("sex", ""), ("sodium", "Na ")):
+            typed = values.get(key, "").strip()
+            unit = echoes.get(key, ("", ""))[0]
+            parts.append(f"{name}{typed} {unit}".strip() if typed else NOT_VALID)
+        patient = " · ".join(parts)
+    lines: list[Line] = [(("patient ", "label"), (patient, ""))]
+    if result is None:
+        lines.append((("order   ", "label"), (NOT_VALID, "muted")))
+        lines.append((("checks  ", "label"), ("not valid until every field reads", "muted")))
+        return tuple(lines)
+    dose = result.dose
+    if dose is None:
+        lines.append((("order   ", "label"), ("none: the labs are checked alone", "muted")))
+    else:
+        refused = result.status == "refuse"
+        rate = f" over {dose.duration_min:g} min" if dose.duration_min else ""
+        order: list[Span] = [("order   ", "label"), (f"{dose.agent} ", "")]
+        order.append((f"{fmt(dose.volume_ml, 'mL')}{rate}", "struck" if refused else "value"))
+        if refused:
+            order.append((" ✖ refused: do not give", "refuse"))
+        elif result.projected_sodium_mmol_l is not None:
+            projected = f"{fmt(result.projected_sodium_mmol_l, 'mmol/L')}"
+            order += [(" · projected Na ", "label"), (projected, "value")]
+            order.append((f" ({signed(result.projected_sodium_rise_mmol_l, 'mmol/L')})", ""))
+        lines.append(tuple(order))
+    checks: list[Span] = [("checks  ", "label")]
+    if not result.findings:
+        checks.append(("✔ none crossed", "ok"))
+    for i, x in enumerate(result.findings):
+        checks.append(((" · " if i else "") + f"{SYMBOL[x.severity]} {x.code}", x.severity))
+    lines.append(tuple(checks))
+    return tuple(lines)

@@ -11,15 +11,12 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.caution import CAUTION
+
 _FROZEN = ConfigDict(frozen=True)
 
 Severity = Literal["warn", "refuse"]
 Status = Literal["ok", "warn", "refuse"]
-
-CAUTION = (
-    "Decision support only: verify every figure against local protocol "
-    "and licensed clinical judgement before giving anything."
-)
 
 
 class Finding(BaseModel):

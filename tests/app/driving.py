@@ -13,7 +13,7 @@ from textual.widgets import Input
 
 from osmodose.app.app import OsmodoseApp
 from osmodose.app.screens.main import MainScreen
-from osmodose.app.view import FIELDS
+from osmodose.app.form_view import FIELDS
 from osmodose.app.widgets.form_field import FormField
 from osmodose.formulary import demo_formulary_path, load_formulary
 

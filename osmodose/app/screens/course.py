@@ -13,12 +13,13 @@ from functools import partial
 from typing import ClassVar
 
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Label, Static, TabbedContent, TabPane
 
+from osmodose.app import keys
 from osmodose.app.course_view import (
     ENTRY_FIELDS,
     ENTRY_TITLES,
@@ -34,11 +35,13 @@ from osmodose.app.course_view import (
     plan_next,
     status_text,
 )
+from osmodose.app.form_view import agent_choices
 from osmodose.app.plot_view import pressure_panel, sodium_panel
 from osmodose.app.screens.entry import EntryScreen
 from osmodose.app.widgets.course_plot import CoursePlot, PlotLegend
-from osmodose.app.widgets.formulary_bar import formulary_line
-from osmodose.check.results import CAUTION
+from osmodose.app.widgets.formulary_bar import FormularyBar, formulary_line
+from osmodose.app.widgets.status_banner import StatusBanner
+from osmodose.caution import CAUTION
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
 
@@ -50,33 +53,29 @@ STATES = ("ok", "warn", "refuse")
 class CourseScreen(Screen[None]):
     """Shows `self.state`; `remember` hands every newly read state back to the app."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [
-        Binding("l", "add('lab')", "lab"),
-        Binding("d", "add('dose')", "dose"),
-        Binding("r", "add('reading')", "reading"),
-        Binding("p", "plan", "plan"),
-        Binding("o", "open", "open"),
-        Binding("escape", "app.pop_screen", "back"),
-        Binding("1", "tab('tab-timeline')", "timeline tab", show=False),
-        Binding("2", "tab('tab-plot')", "plot tab", show=False),
-        Binding("3", "tab('tab-findings')", "findings tab", show=False),
-    ]
+    BINDINGS: ClassVar[list[BindingType]] = keys.COURSE
 
     def __init__(
-        self, formulary: Formulary, state: CourseState | None, remember: Callable[[CourseState], None]
+        self,
+        formulary: Formulary,
+        state: CourseState | None,
+        remember: Callable[[CourseState], None],
+        demo: bool = False,
     ) -> None:
         super().__init__(id="course-screen")
         self.formulary = formulary
+        self.demo = demo
         self.state = state
         self.remember = remember
 
     def compose(self) -> ComposeResult:
+        yield FormularyBar(self.formulary, self.demo)
         with Vertical(id="course-open"):
             yield Label("episode file to open (JSON), then enter:")
             yield Input(placeholder="bed3.json", id="course-path")
             yield Static("", id="course-open-message", markup=False)
         yield Static("", id="course-head", markup=False)
-        yield Static("", id="course-status", markup=False)
+        yield StatusBanner("course-status")
         with TabbedContent(id="course-tabs"):
             with TabPane("timeline", id="tab-timeline"):
                 yield DataTable(id="course-timeline", cursor_type="row", zebra_stripes=True)
@@ -104,10 +103,7 @@ class CourseScreen(Screen[None]):
             self.query_one("#course-path", Input).focus()
             return
         self.query_one("#course-head", Static).update(head_text(state))
-        status = self.query_one("#course-status", Static)
-        status.update(status_text(state))
-        for name in STATES:
-            status.set_class(state.review.status == name, f"-{name}")
+        self.query_one(StatusBanner).show(status_text(state), state.review.status)
         self._fill_table(state)
         for plot_id, legend_id, make in (
             ("#sodium-plot", "#sodium-legend", sodium_panel),
@@ -182,7 +178,7 @@ class CourseScreen(Screen[None]):
         self.query_one(f"#{pane_id}").query("DataTable, VerticalScroll").first().focus()
 
     def _agents(self) -> tuple[tuple[str, str], ...]:
-        return tuple((a.id, a.id) for a in self.formulary.agents)
+        return agent_choices(self.formulary.agents)
 
     def action_add(self, kind: EntryKind) -> None:
         if self.state is None:

@@ -5,11 +5,13 @@ from __future__ import annotations
 from typing import ClassVar
 
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import VerticalScroll
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static
 
+from osmodose.app import keys
+from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.formulary.model import Formulary
 from osmodose.formulary.summary import agent_rows, limit_rows
 
@@ -31,14 +33,16 @@ LIMIT_COLUMNS = ("limit", "value", "meaning", "source")
 class FormularyScreen(Screen[None]):
     """Agents and limits of the loaded file, with its full SHA-256 and path."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "app.pop_screen", "back")]
+    BINDINGS: ClassVar[list[BindingType]] = keys.BACK
 
-    def __init__(self, formulary: Formulary) -> None:
+    def __init__(self, formulary: Formulary, demo: bool = False) -> None:
         super().__init__(id="formulary-screen")
         self.formulary = formulary
+        self.demo = demo
 
     def compose(self) -> ComposeResult:
         f = self.formulary
+        yield FormularyBar(f, self.demo)
         with VerticalScroll(id="formulary-body"):
             yield Static(f"{f.name}  v{f.version}\nsha256 {f.sha256}\n{f.path}", id="formulary-id", markup=False)
             yield Static("agents", classes="help-title")

@@ -1,48 +1,56 @@
-"""The check: the paper form on the left, its figures and checks on the right, recomputed on every change."""
+"""The check: the paper form on the left, its figures and checks on the right, recomputed on every change.
+
+The screen is laid out from the form's plain data alone (`form_view`), so it
+is on screen, and typed into, while the app's loader thread reads the
+formulary and imports the engine.  Until `engine_ready` it shows a loading
+state and no figure; after it, every change is read by `view.evaluate` (the
+core, as `osmodose check` reads it) and shown from `view.show`.
+"""
 
 from __future__ import annotations
 
-from typing import ClassVar
+from typing import TYPE_CHECKING, ClassVar
 
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Input, Select, Static
 
-from osmodose.app.screens.save import SaveScreen
-from osmodose.app.view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, PATIENT_FIGURES, Outcome, evaluate, patient_texts
-from osmodose.app.widgets.dose_panel import DosePanel
-from osmodose.app.widgets.figures import FigurePanel
-from osmodose.app.widgets.findings import ChecksPanel, NotesPanel
+from osmodose.app import keys
+from osmodose.app.form_view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, agent_choices
+from osmodose.app.shown import Shown, loading_shown
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.lines import LinesPanel
 from osmodose.app.widgets.status_banner import StatusBanner
-from osmodose.check.report import render_text
-from osmodose.check.results import CAUTION
-from osmodose.formulary.model import Formulary
+from osmodose.caution import CAUTION
+
+if TYPE_CHECKING:
+    from osmodose.app.view import Outcome
+    from osmodose.formulary.model import Formulary
 
 PANELS = ("patient", "labs", "order")
+STATES = ("ok", "warn", "refuse", "invalid", "incomplete", "loading")
 
 
 class MainScreen(Screen[None]):
-    """Holds the latest `Outcome`; every shown figure comes from it and nothing else."""
+    """Holds the latest `Shown`; every figure on screen comes from it and nothing else."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [
-        Binding("ctrl+s", "save", "save"),
-        Binding("ctrl+y", "copy", "copy"),
-        Binding("ctrl+n", "new_case", "new"),
-    ]
+    BINDINGS: ClassVar[list[BindingType]] = keys.CHECK
 
-    def __init__(self, formulary: Formulary) -> None:
+    def __init__(self, formulary: Formulary | None = None, demo: bool = False, loading: str = "") -> None:
         super().__init__(id="main-screen")
         self.formulary = formulary
-        self.outcome: Outcome = evaluate({}, formulary)
+        self.demo = demo
+        self.loading_text = loading
+        self.outcome: Outcome | None = None
+        self.shown: Shown = loading_shown(loading)
 
     def compose(self) -> ComposeResult:
-        agents = tuple((a.id, a.id) for a in self.formulary.agents)
-        yield FormularyBar(self.formulary)
+        yield FormularyBar(self.formulary, self.demo, self.loading_text)
         yield StatusBanner()
+        yield LinesPanel("summary", classes="summary")
         with Horizontal(id="body"):
             form = VerticalScroll(id="form")
             form.can_focus = False  # Tab goes straight to the first field
@@ -52,18 +60,29 @@ class MainScreen(Screen[None]):
                         box.border_title = panel
                         for spec in FIELDS:
                             if spec.panel == panel:
-                                yield FormField(spec, agents if spec.key == "agent" else ())
-            with VerticalScroll(id="results"):
-                yield ChecksPanel()
-                yield DosePanel()
-                yield FigurePanel("figures", "figures", PATIENT_FIGURES)
-                yield NotesPanel()
+                                yield FormField(spec)
+            with VerticalScroll(id="results") as results:
+                results.border_title = "results"
+                yield LinesPanel("checks", "checks")
+                yield LinesPanel("dose", "dose")
+                yield LinesPanel("figures", "figures")
+                yield LinesPanel("notes", "notes")
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
 
     def on_mount(self) -> None:
-        self.recompute()
+        if self.formulary is not None:
+            self.engine_ready(self.formulary, self.demo)
+        else:
+            self.draw(self.shown)
         self.field("weight").control.focus()
+
+    def engine_ready(self, formulary: Formulary, demo: bool) -> None:
+        """The formulary is read and valid, the engine imported: offer its agents and judge what is typed."""
+        self.formulary, self.demo = formulary, demo
+        self.field("agent").set_choices(agent_choices(formulary.agents))
+        self.query_one(FormularyBar).show(formulary, demo)
+        self.recompute()
 
     def field(self, key: str) -> FormField:
         return self.query_one(f"#field-{key}", FormField)
@@ -79,7 +98,7 @@ class MainScreen(Screen[None]):
         event.stop()
         if event.select.id == f"in-{DOSE_MODE}":
             mode = self.field(DOSE_MODE).value or "dose"
-            self.field(AMOUNT).query_one(Input).placeholder = AMOUNT_HINT[mode]
+            self.field(AMOUNT).query_one(Input).placeholder = AMOUNT_HINT.get(mode, "")
         self.recompute()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
@@ -87,31 +106,49 @@ class MainScreen(Screen[None]):
         self.focus_next()
 
     def recompute(self) -> None:
-        """Evaluate the whole form and replace every shown figure (or blank them all)."""
-        outcome = evaluate(self.values(), self.formulary)
-        self.outcome = outcome
+        """Evaluate the whole form and replace every shown figure (or blank them all); nothing while loading."""
+        if self.formulary is None:
+            return  # what is typed is kept, and judged as soon as the formulary is read
+        from osmodose.app import view  # noqa: PLC0415 (imported by the loader thread before this runs)
+
+        values = self.values()
+        self.outcome = view.evaluate(values, self.formulary)
+        self.draw(view.show(self.outcome, values))
+
+    def draw(self, shown: Shown) -> None:
+        """Put `shown` on screen; each widget is touched only where its text changed."""
+        self.shown = shown
         for f in self.query(FormField):
-            if f.spec.key == outcome.field:
-                f.mark(("… needed: " if outcome.missing else "✖ ") + str(outcome.error), bad=not outcome.missing)
-            else:
-                f.mark("", bad=False)
-        self.query_one(StatusBanner).show(outcome)
-        result = outcome.result
-        self.query_one("#figures", FigurePanel).show(patient_texts(result) if result else None)
-        self.query_one(DosePanel).show_outcome(outcome)
-        self.query_one(ChecksPanel).show(outcome)
-        self.query_one(NotesPanel).show(outcome)
+            marked = f.spec.key == shown.marked
+            unit, converted = shown.echoes.get(f.spec.key, ("", ""))
+            f.mark(shown.mark if marked else "", marked and not shown.missing, converted)
+            f.read_as(unit)
+        self.query_one(StatusBanner).show(shown.banner, shown.state)
+        self.query_one("#summary", LinesPanel).show(shown.summary)
+        self.query_one("#checks", LinesPanel).show(shown.checks)
+        self.query_one("#dose", LinesPanel).show(shown.dose, shown.dose_title)
+        self.query_one("#figures", LinesPanel).show(shown.figures)
+        notes = self.query_one("#notes", LinesPanel)
+        notes.show(tuple(((note, "muted"),) for note in shown.notes))
+        if notes.display != bool(shown.notes):
+            notes.display = bool(shown.notes)
         results = self.query_one("#results")
-        for state in ("ok", "warn", "refuse", "invalid", "incomplete"):
-            results.set_class(outcome.state == state, f"-{state}")
+        for state in STATES:
+            results.set_class(shown.state == state, f"-{state}")
 
     def _summary(self) -> str | None:
-        if self.outcome.result is None:
-            self.notify(f"Nothing to save: the results are not valid ({self.outcome.error}).", severity="error")
+        outcome = self.outcome
+        if outcome is None or outcome.result is None:
+            why = outcome.message if outcome is not None else "the formulary is still being read"
+            self.notify(f"Nothing to save: the results are not valid ({why}).", severity="error")
             return None
-        return render_text(self.outcome.result)
+        from osmodose.check.report import render_text  # noqa: PLC0415 (loaded with the engine)
+
+        return render_text(outcome.result)
 
     def action_save(self) -> None:
+        from osmodose.app.screens.save import SaveScreen  # noqa: PLC0415 (opened when first asked for)
+
         text = self._summary()
         if text is not None:
             self.app.push_screen(SaveScreen(text), self._saved)

@@ -1,0 +1,70 @@
+"""Every key of every screen, declared once: the screens bind these lists and the help screen lists them.
+
+Kept apart from the screens so the help screen can list the verification and
+course keys without importing those screens (they are imported when first
+opened).  Each key says what it does in the footer's own words; the help
+screen groups them by the screen they work on, so a key bound on two screens
+(ctrl+s) is never listed twice without saying where.
+"""
+
+from __future__ import annotations
+
+from textual.binding import Binding, BindingType
+
+#: Keys that work on every screen (the app's own).
+EVERYWHERE: list[BindingType] = [
+    Binding("f1", "help", "help"),
+    Binding("f2", "formulary", "formulary"),
+    Binding("f3", "verify", "verify"),
+    Binding("f4", "course", "course"),
+    Binding("ctrl+t", "toggle_theme", "dark"),
+    Binding("ctrl+q", "quit", "quit"),
+]
+CHECK: list[BindingType] = [
+    Binding("ctrl+s", "save", "save"),
+    Binding("ctrl+y", "copy", "copy"),
+    Binding("ctrl+n", "new_case", "new"),
+]
+VERIFY: list[BindingType] = [
+    Binding("ctrl+s", "save", "save to log"),
+    Binding("ctrl+y", "copy_sha", "copy sha256"),
+    Binding("ctrl+p", "print", "print"),
+    Binding("escape", "back", "back"),
+]
+COURSE: list[BindingType] = [
+    Binding("l", "add('lab')", "lab"),
+    Binding("d", "add('dose')", "dose"),
+    Binding("r", "add('reading')", "reading"),
+    Binding("p", "plan", "plan"),
+    Binding("o", "open", "open"),
+    Binding("escape", "app.pop_screen", "back"),
+    Binding("1", "tab('tab-timeline')", "timeline tab", show=False),
+    Binding("2", "tab('tab-plot')", "plot tab", show=False),
+    Binding("3", "tab('tab-findings')", "findings tab", show=False),
+]
+#: The help and formulary screens.
+BACK: list[BindingType] = [Binding("escape", "app.pop_screen", "back")]
+#: A small form over the course screen (an entry, or the plan).
+FORM: list[BindingType] = [Binding("ctrl+s", "submit", "save"), Binding("escape", "cancel", "cancel")]
+#: The box asking where to save (enter saves).
+SAVE: list[BindingType] = [Binding("escape", "cancel", "cancel")]
+
+#: (where, keys) in the order the help screen lists them.
+BY_SCREEN: tuple[tuple[str, list[BindingType]], ...] = (
+    ("on every screen", EVERYWHERE),
+    ("check screen", CHECK),
+    ("verification screen (f3)", VERIFY),
+    ("course screen (f4)", COURSE),
+    ("help and formulary screens", BACK),
+    ("a form over the course screen", FORM),
+    ("the box asking where to save", SAVE),
+)
+
+#: Keys a widget answers to, not bound by a screen: (where, key, what it does).
+FORM_KEYS: tuple[tuple[str, str, str], ...] = (
+    ("in a form", "tab / shift+tab", "next / previous box, in the order of the paper form: patient, labs, order"),
+    ("in a form", "enter", "in a typed box: the next box; on a choice: open its list (type a name's start, enter)"),
+    ("in a form", "escape", "close an open choice list"),
+    ("in a form", "space", "tick or untick an accept box (verification screen)"),
+    ("in a table or a scroll", "arrows, page up / down", "scroll; left and right scroll a wide table sideways"),
+)
