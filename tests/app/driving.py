@@ -5,7 +5,7 @@ from __future__ import annotations
 import asyncio
 import functools
 from collections.abc import Callable, Coroutine
-from typing import Any
+from typing import Any, NamedTuple
 
 from textual import events
 from textual.pilot import Pilot
@@ -176,3 +176,28 @@ async def open_verification(
         else:
             pilot.app.screen.query_one(f"#field-{key}", FormField).control.value = text
     await pilot.pause()
+
+
+class Started(NamedTuple):
+    app: OsmodoseApp
+    main: MainScreen
+    """The check screen it opened on (kept: the app's screen stack is empty once it has ended)."""
+
+
+def run_headless(app: OsmodoseApp, seen: list[Started]) -> None:
+    """Stand-in for `OsmodoseApp.run` in tests: the app headless until its files are read, then quit.
+
+    A file that cannot be used ends the app by itself (its `load_error`); a
+    good one is quit once loaded, as a user would.
+    """
+
+    async def go() -> None:
+        async with app.run_test(size=(80, 24)) as pilot:
+            seen.append(Started(app, main_screen(app)))
+            while app.formulary is None and app.load_error is None:
+                await pilot.pause(0.01)
+            if app.load_error is None:
+                await pilot.pause()
+                app.exit()
+
+    asyncio.run(go())

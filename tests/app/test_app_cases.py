@@ -58,7 +58,11 @@ async def test_mannitol_case_shows_the_figures_of_check_json(capsys: pytest.Capt
         assert shown(screen, "gap") == f"{expected['osmolar_gap_mosm_kg']:.1f} mOsm/kg" == "7.0 mOsm/kg"
         assert shown(screen, "tbw") == f"{expected['patient']['total_body_water_l']:.1f} L (fraction of weight)"
         dose = plain(screen.shown.dose)
-        assert dose[-3:] == ["from stock, any one of:", "  2 × 250 mL (discard 150 mL)", "  or 1 × 500 mL (discard 150 mL)"]
+        assert dose[-3:] == [
+            "from stock, any one of:",
+            "  2 × 250 mL (discard 150 mL)",
+            "  or 1 × 500 mL (discard 150 mL)",
+        ]
         assert screen.query_one(StatusBanner).text == "✔ OK: no limit crossed"
         assert plain(screen.shown.checks) == ["✔ OK: no limit crossed"]
 
