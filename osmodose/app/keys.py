@@ -25,11 +25,15 @@ CHECK: list[BindingType] = [
     Binding("ctrl+y", "copy", "copy"),
     Binding("ctrl+n", "new_case", "new"),
 ]
+# Screen keys come first in the footer, then the app's: at 80 columns the verification and course
+# screens leave two of the app's keys out of their footer (show=False), still working and in help (f1).
 VERIFY: list[BindingType] = [
-    Binding("ctrl+s", "save", "save to log"),
+    Binding("ctrl+s", "save", "save"),
     Binding("ctrl+y", "copy_sha", "copy sha256"),
     Binding("ctrl+p", "print", "print"),
     Binding("escape", "back", "back"),
+    Binding("f3", "back", "back to the check", show=False),
+    Binding("f4", "app.course", "course", show=False),
 ]
 COURSE: list[BindingType] = [
     Binding("l", "add('lab')", "lab"),
@@ -38,6 +42,9 @@ COURSE: list[BindingType] = [
     Binding("p", "plan", "plan"),
     Binding("o", "open", "open"),
     Binding("escape", "app.pop_screen", "back"),
+    Binding("f4", "app.pop_screen", "back to the check", show=False),
+    Binding("f2", "app.formulary", "formulary", show=False),
+    Binding("f3", "app.verify", "verify", show=False),
     Binding("1", "tab('tab-timeline')", "timeline tab", show=False),
     Binding("2", "tab('tab-plot')", "plot tab", show=False),
     Binding("3", "tab('tab-findings')", "findings tab", show=False),

@@ -27,6 +27,7 @@ from osmodose.app.view import (
     DOSE_FIGURES,
     NOT_VALID,
     dose_texts,
+    echo,
     figure_lines,
     finding_lines,
     screen_message,
@@ -76,9 +77,13 @@ def patient_fields(check_values: Mapping[str, str]) -> dict[str, str]:
 
 
 def patient_summary(patient: Mapping[str, str]) -> str:
-    """The patient and labs as typed, for the read-only box: "weight 70, age 45, ..."."""
+    """The patient and labs as typed, each with its unit, for the read-only box: "weight 70 kg, age 45 y, ..."."""
     labels = {spec.key: spec.label for spec in FIELDS}
-    return ", ".join(f"{labels.get(k, k).removeprefix('or ')} {v}" for k, v in patient.items()) or "nothing typed"
+    parts = []
+    for key, typed in patient.items():
+        unit = echo(key, typed)[0]
+        parts.append(f"{labels.get(key, key).removeprefix('or ')} {typed}" + (f" {unit}" if unit else ""))
+    return ", ".join(parts) or "nothing typed"
 
 
 @dataclass(frozen=True)
@@ -188,6 +193,11 @@ def problem_text(state: VerifyState) -> str:
     return screen_message(error)
 
 
+def box_reading(entry: Entry, key: str) -> tuple[str, str]:
+    """What an order box reads as: (the unit beside a bare number, the value converted), as on the check screen."""
+    return echo(key, entry.order.get(key, "")) if key in entry.order else ("", "")
+
+
 def box_message(state: VerifyState, key: str) -> str:
     """The text shown under box `key`: why it is wrong or still needed, else nothing."""
     if state.field != key or state.error is None:
@@ -250,9 +260,7 @@ def not_saved_text(problem: object) -> str:
 
 
 #: Said above the order's boxes: they are empty on purpose, not forgotten.
-RETYPE_NOTE = (
-    "typed again on purpose from the written order: an independent re-check, so nothing is copied from the check screen"
-)
+RETYPE_NOTE = "typed again from the written order, on purpose: an independent re-check"
 
 
 def summary_lines(state: VerifyState, entry: Entry) -> tuple[Line, ...]:

@@ -12,8 +12,8 @@ from textual.pilot import Pilot
 from textual.widgets import Input
 
 from osmodose.app.app import OsmodoseApp
-from osmodose.app.screens.main import MainScreen
 from osmodose.app.form_view import FIELDS
+from osmodose.app.screens.main import MainScreen
 from osmodose.app.widgets.form_field import FormField
 from osmodose.formulary import demo_formulary_path, load_formulary
 

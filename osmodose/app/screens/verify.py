@@ -28,6 +28,7 @@ from osmodose.app.verify_view import (
     SaveNote,
     VerifyState,
     box_message,
+    box_reading,
     check_lines,
     decision_text,
     discrepancy_lines,
@@ -157,7 +158,9 @@ class VerifyScreen(Screen[None]):
         self._show("patient-error", box_message(state, PATIENT)).display = state.field == PATIENT
         for f in self.query(FormField):
             message = box_message(state, f.spec.key)
-            f.mark(message, bad=bool(message) and not state.missing)
+            unit, converted = box_reading(entry, f.spec.key) if not message else ("", "")
+            f.mark(message, bool(message) and not state.missing, converted)
+            f.read_as(unit)
         self.query_one("#verify-summary", LinesPanel).show(summary_lines(state, entry))
         self.query_one("#discrepancies", LinesPanel).show(discrepancy_lines(state))
         self.query_one("#checks", LinesPanel).show(check_lines(state))

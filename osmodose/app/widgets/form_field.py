@@ -69,8 +69,18 @@ class FormField(Container):
         if isinstance(control, Select):
             control.set_options(choices)
 
+    def chosen(self) -> str:
+        """The shown words of the chosen option ("" for none, or for a typed box)."""
+        value = self.value
+        return next((shown for shown, v in self.choices if v == value), "") if self.spec.select and value else ""
+
     def mark(self, message: str, bad: bool, converted: str = "") -> None:
-        """Show `message` under the field (`bad`: a wrong value, else one still needed), or else `converted`."""
+        """Show `message` under the field (`bad`: a wrong value, else one still needed), or else `converted`.
+
+        An agent's box is narrow: under it stands the whole of the chosen option (id, strength and label).
+        """
+        if self.spec.key == "agent" and not converted:
+            converted = self.chosen()
         self.marked = message
         self.set_class(bad, "-bad")
         self.set_class(not bad and bool(message), "-missing")
