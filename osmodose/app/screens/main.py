@@ -46,6 +46,8 @@ class MainScreen(Screen[None]):
         self.loading_text = loading
         self.outcome: Outcome | None = None
         self.shown: Shown = loading_shown(loading)
+        # Every box of the form, built once: read and marked on each key without a query.
+        self.fields = {spec.key: FormField(spec) for spec in FIELDS}
 
     def compose(self) -> ComposeResult:
         yield FormularyBar(self.formulary, self.demo, self.loading_text)
@@ -58,9 +60,7 @@ class MainScreen(Screen[None]):
                 for panel in PANELS:
                     with Vertical(id=panel, classes="panel") as box:
                         box.border_title = panel
-                        for spec in FIELDS:
-                            if spec.panel == panel:
-                                yield FormField(spec)
+                        yield from (f for f in self.fields.values() if f.spec.panel == panel)
             with VerticalScroll(id="results") as results:
                 results.border_title = "results"
                 yield LinesPanel("checks", "checks")
@@ -85,10 +85,10 @@ class MainScreen(Screen[None]):
         self.recompute()
 
     def field(self, key: str) -> FormField:
-        return self.query_one(f"#field-{key}", FormField)
+        return self.fields[key]
 
     def values(self) -> dict[str, str]:
-        return {f.spec.key: f.value for f in self.query(FormField)}
+        return {key: f.value for key, f in self.fields.items()}
 
     def on_input_changed(self, event: Input.Changed) -> None:
         event.stop()
@@ -98,7 +98,9 @@ class MainScreen(Screen[None]):
         event.stop()
         if event.select.id == f"in-{DOSE_MODE}":
             mode = self.field(DOSE_MODE).value or "dose"
-            self.field(AMOUNT).query_one(Input).placeholder = AMOUNT_HINT.get(mode, "")
+            amount = self.field(AMOUNT).control
+            if isinstance(amount, Input):
+                amount.placeholder = AMOUNT_HINT.get(mode, "")
         self.recompute()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
@@ -118,7 +120,7 @@ class MainScreen(Screen[None]):
     def draw(self, shown: Shown) -> None:
         """Put `shown` on screen; each widget is touched only where its text changed."""
         self.shown = shown
-        for f in self.query(FormField):
+        for f in self.fields.values():
             marked = f.spec.key == shown.marked
             unit, converted = shown.echoes.get(f.spec.key, ("", ""))
             f.mark(shown.mark if marked else "", marked and not shown.missing, converted)
@@ -164,7 +166,7 @@ class MainScreen(Screen[None]):
             self.notify("Summary copied to the terminal's clipboard (where the terminal allows it).")
 
     def action_new_case(self) -> None:
-        for f in self.query(FormField):
+        for f in self.fields.values():
             f.reset()
         self.recompute()
         self.field("weight").control.focus()

@@ -9,10 +9,23 @@ from __future__ import annotations
 
 from textual.app import ComposeResult
 from textual.containers import Container
+from textual.geometry import Size
+from textual.reactive import Reactive
 from textual.widgets import Input, Label, Select, Static
 
 from osmodose.app.form_view import FieldSpec
 from osmodose.app.widgets.lines import set_text
+
+
+class FieldInput(Input):
+    """A typed box whose growing text repaints it and never re-lays the screen out.
+
+    Textual's Input declares its scrolling width (`virtual_size`) as a layout
+    change, so every key re-laid the whole screen (some hundred widgets) out;
+    here the box is one row of a fixed grid cell, so only the box repaints.
+    """
+
+    virtual_size: Reactive[Size] = Reactive(Size(0, 0), layout=False)
 
 
 class FormField(Container):
@@ -26,10 +39,10 @@ class FormField(Container):
         self.marked = ""
         self.reading = ""
 
-    def compose(self) -> ComposeResult:
-        yield Label(self.spec.label, classes="field-label")
+        # Kept, not queried: the screen reads every box and marks every field on each key.
+        self.control: Input | Select[str]
         if self.spec.select:
-            yield Select(
+            self.control = Select(
                 self.choices,
                 prompt=self.spec.blank or "choose",
                 allow_blank=bool(self.spec.blank),
@@ -37,14 +50,15 @@ class FormField(Container):
                 id=f"in-{self.spec.key}",
             )
         else:
-            yield Input(placeholder=self.spec.hint, compact=True, id=f"in-{self.spec.key}")
-        yield Static("", classes="field-reading", markup=False)
-        yield Static("", classes="field-message", markup=False)
+            self.control = FieldInput(placeholder=self.spec.hint, compact=True, id=f"in-{self.spec.key}")
+        self.reading_box = Static("", classes="field-reading", markup=False)
+        self.message_box = Static("", classes="field-message", markup=False)
 
-    @property
-    def control(self) -> Input | Select[str]:
-        # query_one is typed to return a Widget; the box holds exactly one Input or Select with this id.
-        return self.query_one(f"#in-{self.spec.key}")  # type: ignore[return-value]
+    def compose(self) -> ComposeResult:
+        yield Label(self.spec.label, classes="field-label")
+        yield self.control
+        yield self.reading_box
+        yield self.message_box
 
     @property
     def value(self) -> str:
@@ -86,10 +100,10 @@ class FormField(Container):
         self.set_class(not bad and bool(message), "-missing")
         self.set_class(not message and bool(converted), "-converted")
         text = message or converted
-        if set_text(self.query_one(".field-message", Static), text, self.message):
+        if set_text(self.message_box, text, self.message):
             self.message = text
 
     def read_as(self, unit: str) -> None:
         """The unit a bare number is read in, beside the box ("kg")."""
-        if set_text(self.query_one(".field-reading", Static), unit, self.reading):
+        if set_text(self.reading_box, unit, self.reading):
             self.reading = unit
