@@ -51,8 +51,9 @@ class MainScreen(Screen[None]):
 
     def compose(self) -> ComposeResult:
         yield FormularyBar(self.formulary, self.demo, self.loading_text)
-        yield StatusBanner()
-        yield LinesPanel("summary", classes="summary")
+        shown = self.shown  # the loading state, or the empty form's: the first frame is the final one
+        yield StatusBanner("status", shown.banner, shown.state)
+        yield LinesPanel("summary", classes="summary", lines=shown.summary)
         with Horizontal(id="body"):
             form = VerticalScroll(id="form")
             form.can_focus = False  # Tab goes straight to the first field
@@ -61,20 +62,19 @@ class MainScreen(Screen[None]):
                     with Vertical(id=panel, classes="panel") as box:
                         box.border_title = panel
                         yield from (f for f in self.fields.values() if f.spec.panel == panel)
-            with VerticalScroll(id="results") as results:
-                results.border_title = "results"
-                yield LinesPanel("checks", "checks")
-                yield LinesPanel("dose", "dose")
-                yield LinesPanel("figures", "figures")
-                yield LinesPanel("notes", "notes")
+            with VerticalScroll(id="results", classes=f"-{shown.state}"):
+                yield LinesPanel("checks", "checks", lines=shown.checks)
+                yield LinesPanel("dose", shown.dose_title, lines=shown.dose)
+                yield LinesPanel("figures", "figures", lines=shown.figures)
+                notes = LinesPanel("notes", "notes", lines=tuple(((note, "muted"),) for note in shown.notes))
+                notes.display = bool(shown.notes)
+                yield notes
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
 
     def on_mount(self) -> None:
         if self.formulary is not None:
             self.engine_ready(self.formulary, self.demo)
-        else:
-            self.draw(self.shown)
         self.field("weight").control.focus()
 
     def engine_ready(self, formulary: Formulary, demo: bool) -> None:

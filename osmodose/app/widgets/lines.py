@@ -55,10 +55,13 @@ def set_content(widget: Static, content: str | Content) -> None:
 class LinesPanel(Static):
     """A titled panel of tagged lines, redrawn only when its lines change."""
 
-    def __init__(self, panel_id: str, title: str = "", classes: str = "panel") -> None:
-        super().__init__("", id=panel_id, classes=classes)
+    def __init__(
+        self, panel_id: str, title: str = "", classes: str = "panel", lines: tuple[Line, ...] = ()
+    ) -> None:
+        """`lines` are shown from the first frame (a later `show` of the same lines costs nothing)."""
+        super().__init__(markup(lines), id=panel_id, classes=classes)
         self.border_title = title
-        self.lines: tuple[Line, ...] = ()
+        self.lines = lines
 
     def show(self, lines: tuple[Line, ...], title: str | None = None) -> None:
         if title is not None and title != self.border_title:

@@ -12,9 +12,9 @@ STATES = ("ok", "warn", "refuse", "invalid", "incomplete", "loading")
 class StatusBanner(Static):
     """Coloured by state through CSS classes; the word and symbol carry it without colour."""
 
-    def __init__(self, banner_id: str = "status") -> None:
-        super().__init__("", id=banner_id, classes="status", markup=False)
-        self.text = ""
+    def __init__(self, banner_id: str = "status", text: str = "", state: str = "") -> None:
+        super().__init__(text, id=banner_id, classes=f"status -{state}" if state else "status", markup=False)
+        self.text = text
 
     def show(self, text: str, state: str) -> None:
         if set_text(self, text, self.text):
