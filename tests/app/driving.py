@@ -67,6 +67,8 @@ def main_screen(app: OsmodoseApp) -> MainScreen:
 async def type_in_form_order(pilot: Pilot, fields: dict[str, str]) -> None:
     """Fill the form with the keyboard only, from the first field on, Tab by Tab.
 
+    Slow (a key press at a time): ONE test types a whole case this way; the others use `fill`.
+
     Typed fields get each character as a key press; a choice is opened with
     enter, found by typing the fewest letters of its shown name and taken with enter.
     Fields not in `fields` are passed over with Tab, as a user would.
@@ -159,12 +161,12 @@ async def tick(pilot: Pilot, code: str) -> None:
 
 
 async def open_verification(
-    pilot: Pilot, patient: dict[str, str], order: dict[str, str], initials: str = "", typed: bool = True
+    pilot: Pilot, patient: dict[str, str], order: dict[str, str], initials: str = "", typed: bool = False
 ) -> None:
     """The patient on the check screen, F3, then the order as written typed into the verification screen.
 
     With `typed` False each box gets its value at once (the same Changed message typing sends): faster,
-    for tests about something else than typing.
+    for tests about something else than typing (the default for every test but one: see `type_into`).
     """
     await fill(pilot, patient)
     await pilot.press("f3")

@@ -43,6 +43,7 @@ async def type_entry(pilot: Pilot, values: dict[str, str], typed: tuple[str, ...
     Fields in `typed` get each character as a key press; the others get their
     text at once (the same Changed message), which keeps the test fast.
     """
+    await pilot.pause()  # the form is composed and its first box focused before anything is typed
     form = pilot.app.screen
     assert isinstance(form, EntryScreen)
     for spec in form.specs:

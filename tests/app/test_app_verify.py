@@ -47,7 +47,7 @@ def shown(screen: VerifyScreen, widget_id: str) -> str:
 async def test_ten_fold_mannitol_order_is_refused_and_the_refusal_has_no_accept_box() -> None:
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
-        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB")
+        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB", typed=False)
         screen = verify_screen(app)
         assert screen.verification is not None
         assert screen.verification.outcome == "refused"
@@ -82,7 +82,7 @@ async def test_accepted_peripheral_warning_releases_saves_and_matches_osmodose_v
     monkeypatch.setenv("OSMODOSE_LOG", str(log))
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
-        await open_verification(pilot, VERIFY_PATIENT, PERIPHERAL_SALINE, initials="ab")
+        await open_verification(pilot, VERIFY_PATIENT, PERIPHERAL_SALINE, initials="ab", typed=False)
         screen = verify_screen(app)
         assert screen.verification.outcome == "held"  # type: ignore[union-attr]
         assert screen.verification.acceptable == ["peripheral-osmolarity"]  # type: ignore[union-attr]
