@@ -14,13 +14,11 @@ from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary import Formulary
 from osmodose.science import formulas as f
+from tests.strategies import CATIONS, PROJECTING, SODIUM, TBW_L, VOLUME_L, choice, plausible_text
 
 PROFILE = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 
-sodium = st.floats(90, 200)  # plausible serum sodium, mmol/L (ranges.py, common practice)
-cations = st.floats(0, 4100)  # from water to 23.4 % saline (4004 mmol/L)
-tbw = st.floats(0.5, 250)
-volume = st.floats(0.0001, 5)  # litres
+sodium, cations, tbw, volume = SODIUM, CATIONS, TBW_L, VOLUME_L
 
 
 # --- the projection ----------------------------------------------------------------------------
@@ -64,12 +62,10 @@ def test_the_volume_for_a_change_projects_back_to_that_change(na: float, c: floa
 
 # --- whole checks ------------------------------------------------------------------------------
 
-weights = st.floats(0.3, 400).map(lambda x: f"{x:.3f}")
-ages = st.floats(0, 120).map(lambda x: f"{x:.2f}")
-sexes = st.sampled_from(["female", "male"])
-sodium_text = st.floats(90, 200).map(lambda x: f"{x:.1f}")
-
-PROJECTING = ["nacl-0.9", "nacl-3", "nacl-7.5", "nacl-23.4", "bicarb-8.4", "glucose-5", "lactated-ringers"]
+weights = plausible_text("weight", 3)
+ages = plausible_text("age")
+sexes = choice("sex")
+sodium_text = plausible_text("sodium", 1)
 
 
 @PROFILE

@@ -4,7 +4,8 @@ Unless a test says otherwise the patient is a 40-year-old man of 70 kg: total bo
 0.6 x 70 = 42 L (Adrogue HJ, Madias NE. N Engl J Med 2000;342:1581-9). Limits are the demo
 formulary's, which are the documented defaults: sodium warn 155 (common practice) and refuse
 160 mmol/L (US Joint Trauma System guideline); osmolality warn 310 (common practice) and refuse
-320 mOsm/kg (Hinson HE et al. J Intensive Care Med 2013); osmolar gap warn 20 mOsm/kg (common
+320 mOsm/kg (Hinson HE et al. J Intensive Care Med 2013); osmolar gap warn 10 mOsm/kg (above the
+published upper normal, McMaster Textbook of Internal Medicine) and refuse 20 mOsm/kg (common
 practice); 24 h rise warn 8 (Verbalis JG et al. Am J Med 2013) and refuse 10 mmol/L (Spasovski G
 et al. Eur J Endocrinol 2014); fall warn 10 mmol/L (secondary sources); peripheral osmolarity
 warn 900 mOsm/L (parenteral nutrition guidance, secondary). Per-kg dose limits and the maximum

@@ -16,9 +16,9 @@ from osmodose.verify import make_acceptance, parse_acceptance, parse_order, veri
 from osmodose.verify.decision import decide
 from osmodose.verify.discrepancies import CODES, Discrepancy
 from osmodose.verify.log import LogEntry, encode_line
+from tests.strategies import AGENTS, mostly
 from tests.verify_helpers import NOW
 
-AGENTS = ("nacl-0.9", "nacl-3", "nacl-7.5", "nacl-23.4", "mannitol-20", "bicarb-8.4", "glucose-5", "lactated-ringers")
 CHECK_CODES = (
     "sodium-high",
     "projected-sodium-high",
@@ -38,11 +38,6 @@ numbers = st.one_of(
     st.floats(min_value=0.01, max_value=6000),
     st.integers(-10, 10000),
 )
-
-
-def mostly(good: st.SearchStrategy[object], bad: st.SearchStrategy[object]) -> st.SearchStrategy[object]:
-    """Usually a good value (so most examples reach the verification), one time in ten a bad one."""
-    return st.tuples(st.integers(0, 9), good, bad).map(lambda t: t[2] if t[0] == 9 else t[1])
 
 
 def typed(units: tuple[str, ...], usual: st.SearchStrategy[float], optional: bool = True) -> st.SearchStrategy[object]:

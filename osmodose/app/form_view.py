@@ -13,9 +13,9 @@ from collections.abc import Iterable
 from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Any, Literal, cast
 
-from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import keys
+from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 
 if TYPE_CHECKING:
     from osmodose.formulary.model import Agent

@@ -19,7 +19,6 @@ from dataclasses import dataclass
 
 from osmodose.app.form_view import AMOUNT, DOSE_MODE, FIELDS, SYMBOL
 from osmodose.app.shown import Line, Role, Shown, Span
-from osmodose.case.choices import DOSE_MODE as DOSE_CHOICE
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import read
 from osmodose.case.inputs import DoseMode, parse_check_request
@@ -28,6 +27,7 @@ from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 
 #: Width of the label column of the figure panels (a longer label takes a line of its own).
 LABEL_WIDTH = 15

@@ -17,7 +17,7 @@ import numpy as np
 
 from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
 from osmodose.check.judging import SEVERITY_NAMES
-from osmodose.check.results import CAUTION
+from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.formulary.model import Formulary
 
 FINDING_SEPARATOR = ";"
@@ -38,7 +38,7 @@ def _numbers(values: np.ndarray) -> list[str]:
 
 
 def formulary_ref(formulary: Formulary) -> dict[str, str]:
-    return {"name": formulary.name, "version": formulary.version, "sha256": formulary.sha256, "path": formulary.path}
+    return FormularyRef.of(formulary).model_dump(mode="json")
 
 
 #: A CSV field with one of these is quoted (the csv module's minimal quoting).

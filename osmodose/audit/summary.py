@@ -13,7 +13,7 @@ import numpy as np
 
 from osmodose.audit.output import formulary_ref
 from osmodose.audit.run import ChunkResult
-from osmodose.check.results import CAUTION
+from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.formulary.model import Formulary
 
 #: Per-kg figures summarised per agent: (unit, output figure name).
@@ -118,7 +118,7 @@ class Summary:
         s = data["status"]
         lines = [
             f"osmodose audit of {data['orders']}",
-            f"formulary: {f['name']} v{f['version']} sha256 {f['sha256']}",
+            FormularyRef.model_validate(f).line(),
             "",
             f"rows: {data['rows']}   ok {s['ok']}   warn {s['warn']}   refuse {s['refuse']}   "
             f"not audited (bad rows) {s['error']}",

@@ -18,8 +18,8 @@ import functools
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
-from osmodose.case.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.errors import InputError
+from osmodose.science.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.science.ranges import Range
 
 if TYPE_CHECKING:
@@ -90,243 +90,117 @@ class CaseField:
         return value
 
 
-def _lab(
+def _number(
     key: str,
-    what: str,
+    group: Group,
+    label: str,
+    help_text: str,
+    hint: str,
+    unit: str,
     low: float,
     high: float,
-    *,
-    unit: str = "mmol/L",
-    mass: bool = False,
-    substance: str | None = None,
-    required: bool = False,
-    hint: str = "",
     attr: str = "",
+    shown_unit: str = "",
+    **more: Any,
 ) -> CaseField:
-    """A serum lab: mmol/L unless said, mg/dL accepted where it has a molar mass, kept as `<key>_mmol_l`."""
-    return CaseField(
+    """A field typed as a number with a unit, plausible from `low` to `high` in `unit` (written `shown_unit`)."""
+    plausible = Range(low, high, shown_unit or unit)
+    return CaseField(key, group, label, help_text, hint, unit=unit, plausible=plausible, attr=attr, **more)
+
+
+def _lab(key: str, what: str, low: float, high: float, *, mass: str | None = None, **more: Any) -> CaseField:
+    """A serum lab in mmol/L kept as `<key>_mmol_l`; with `mass`, mg/dL is read through that molar mass."""
+    help_text = f"{what}; bare number = mmol/L" + (" (mg/dL accepted)" if mass else "")
+    hint = more.pop("hint", "mmol/L or mg/dL" if mass else "mmol/L")
+    accepted = ("mmol/L", "mg/dL") if mass else ()
+    return _number(
         key,
         "labs",
         key,
-        f"{what}; bare number = {unit}" + (" (mg/dL accepted)" if mass else ""),
-        hint or (f"{unit} or mg/dL" if mass else unit),
-        unit=unit,
-        accepted=(unit, "mg/dL") if mass else (),
-        substance=substance,
-        plausible=Range(low, high, unit),
-        required=required,
-        attr=attr or f"{key}_{unit.replace('/', '_').lower()}",
+        help_text,
+        hint,
+        "mmol/L",
+        low,
+        high,
+        f"{key}_mmol_l",
+        accepted=accepted,
+        substance=mass,
+        **more,
     )
 
 
+def _choice(
+    key: str, group: Group, label: str, help_text: str, choice: Choice[Any], empty: str, **more: Any
+) -> CaseField:
+    """A field whose value is one of a fixed set of words."""
+    return CaseField(
+        key, group, label, help_text, kind="choice", choice=choice, attr=key.replace("-", "_"), empty=empty, **more
+    )
+
+
+TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now"
+
+# Ranges: typing-error catchers (common practice). Order sizes catch a tenfold slip. Ethanol
+# above 200 mmol/L (about 920 mg/dL) is beyond any survived level. BUN is urea as mg/dL of
+# nitrogen (two N per urea, N2 28.01 g/mol): the urea range 0.5-100 mmol/L is 1.4-280.1 mg/dL,
+# read into urea and judged in the unit it is typed in. Bedside pressures catch a slipped digit;
+# ICP may be a little below zero with the head up or the drain open.
 FIELDS: dict[str, CaseField] = {
     f.key: f
     for f in (
-        # --- the patient ---------------------------------------------------------------------
-        CaseField(
-            "weight",
-            "patient",
-            "weight",
-            "body weight; bare number = kg (e.g. 70, 176lb)",
-            "kg, or 176 lb",
-            unit="kg",
-            plausible=Range(0.3, 400.0, "kg"),
-            required=True,
-            attr="weight_kg",
-        ),
-        CaseField(
-            "age",
-            "patient",
-            "age",
-            "age; bare number = years",
-            "years",
-            unit="year",
-            plausible=Range(0.0, 120.0, "years"),
-            required=True,
-            attr="age_years",
-        ),
-        CaseField(
-            "sex",
-            "patient",
-            "sex",
-            "sex, for the total-body-water fractions and the Watson formula",
-            kind="choice",
-            choice=SEX,
-            required=True,
-            attr="sex",
-            empty="choose",
-        ),
-        CaseField(
-            "height",
-            "patient",
-            "height",
-            "height; bare number = cm (needed for --tbw-method watson)",
-            "cm (for Watson)",
-            unit="cm",
-            plausible=Range(25.0, 250.0, "cm"),
-            attr="height_cm",
-        ),
-        CaseField(
-            "tbw-method",
-            "patient",
-            "TBW method",
-            "total-body-water method: fraction of weight (Adrogue-Madias) or Watson (needs --height); "
-            "default: the formulary's",
-            kind="choice",
-            choice=TBW_METHOD,
-            attr="tbw_method",
-            empty="default",
-        ),
-        # --- serum labs, SI units ------------------------------------------------------------
+        # the patient
+        _number("weight", "patient", "weight", "body weight; bare number = kg (e.g. 70, 176lb)", "kg, or 176 lb",
+                "kg", 0.3, 400.0, "weight_kg", required=True),
+        _number("age", "patient", "age", "age; bare number = years", "years", "year", 0.0, 120.0, "age_years",
+                shown_unit="years", required=True),
+        _choice("sex", "patient", "sex", "sex, for the total-body-water fractions and the Watson formula", SEX,
+                "choose", required=True),
+        _number("height", "patient", "height", "height; bare number = cm (needed for --tbw-method watson)",
+                "cm (for Watson)", "cm", 25.0, 250.0, "height_cm"),
+        _choice("tbw-method", "patient", "TBW method", "total-body-water method: fraction of weight "
+                "(Adrogue-Madias) or Watson (needs --height); default: the formulary's", TBW_METHOD, "default"),
+        # serum labs, SI units
         _lab("sodium", "serum sodium", 90.0, 200.0, required=True),
         _lab("potassium", "serum potassium", 1.0, 10.0),
-        _lab("glucose", "serum glucose", 0.5, 100.0, mass=True, substance="glucose"),
-        _lab("urea", "serum urea", 0.5, 100.0, mass=True, substance="urea", hint="mmol/L"),
-        # BUN is urea as mg/dL of nitrogen (two N per urea, N2 28.01 g/mol): the urea range, 0.5
-        # and 100 mmol/L, is 1.4 and 280.1 mg/dL.  Read into urea; judged in the unit it is typed in.
-        CaseField(
-            "bun",
-            "labs",
-            "or BUN",
-            "blood urea nitrogen instead of urea; bare number = mg/dL",
-            "mg/dL",
-            unit="mg/dL",
-            accepted=("mg/dL", "mmol/L"),
-            canonical="mmol/L",
-            substance="urea nitrogen",
-            plausible=Range(1.4, 280.1, "mg/dL"),
-            into="urea",
-        ),
-        # Not in the reference: an ethanol level above 200 mmol/L (about 920 mg/dL) is beyond
-        # any survived level; chosen to catch typing errors (common practice).
-        _lab("ethanol", "serum ethanol", 0.0, 200.0, mass=True, substance="ethanol"),
-        CaseField(
-            "osmolality",
-            "labs",
-            "osmolality",
-            "measured serum osmolality; bare number = mOsm/kg",
-            "measured, mOsm/kg",
-            unit="mOsm/kg",
-            accepted=("mOsm/kg", "mmol/kg"),
-            plausible=Range(200.0, 450.0, "mOsm/kg"),
-            attr="osmolality_mosm_kg",
-        ),
-        # --- the order -------------------------------------------------------------------------
+        _lab("glucose", "serum glucose", 0.5, 100.0, mass="glucose"),
+        _lab("urea", "serum urea", 0.5, 100.0, mass="urea", hint="mmol/L"),
+        _number("bun", "labs", "or BUN", "blood urea nitrogen instead of urea; bare number = mg/dL", "mg/dL",
+                "mg/dL", 1.4, 280.1, accepted=("mg/dL", "mmol/L"), canonical="mmol/L", substance="urea nitrogen",
+                into="urea"),
+        _lab("ethanol", "serum ethanol", 0.0, 200.0, mass="ethanol"),
+        _number("osmolality", "labs", "osmolality", "measured serum osmolality; bare number = mOsm/kg",
+                "measured, mOsm/kg", "mOsm/kg", 200.0, 450.0, "osmolality_mosm_kg", accepted=("mOsm/kg", "mmol/kg")),
+        # the order
         CaseField("agent", "order", "agent", "agent id from the formulary", kind="text", empty="no order"),
-        CaseField(
-            "dose",
-            "order",
-            "dose",
-            "dose per kg (1g/kg, 5mL/kg) or absolute (50g, 120mmol)",
-            "1 g/kg, 5 mL/kg, 50 g",
-            kind="dose",
-        ),
-        # Order sizes: chosen to catch a tenfold slip, not to judge (common practice).
-        CaseField(
-            "volume",
-            "order",
-            "volume",
-            "volume; bare number = mL",
-            "mL, or 0.25 L",
-            unit="mL",
-            plausible=Range(0.1, 5000.0, "mL"),
-            attr="volume_ml",
-        ),
-        CaseField(
-            "target-rise",
-            "order",
-            "target Na change",
-            "the sodium change wanted; bare number = mmol/L",
-            "mmol/L, e.g. 6 or -4",
-            unit="mmol/L",
-            plausible=Range(-30.0, 30.0, "mmol/L"),
-        ),
-        CaseField(
-            "duration",
-            "order",
-            "duration",
-            "infusion time; bare number = minutes (e.g. 20, 2h)",
-            "min, or 2 h",
-            unit="min",
-            plausible=Range(1.0, 7 * 24 * 60.0, "min"),
-            attr="duration_min",
-        ),
-        CaseField(
-            "line",
-            "order",
-            "line",
-            "the line the order runs through; without it no line check",
-            kind="choice",
-            choice=LINE,
-            attr="line",
-            empty="not stated",
-        ),
-        # --- the order as written, for verification ------------------------------------------
-        CaseField(
-            "rate",
-            "written",
-            "rate",
-            "rate as written; bare number = mL/h (2mL/min accepted)",
-            "mL/h",
-            unit="mL/h",
-            attr="rate_ml_h",
-        ),
-        CaseField(
-            "stated-dose",
-            "written",
-            "stated dose",
-            "the prescriber's stated dose: per kg (1g/kg) or absolute (70g, 120mmol)",
-            "1 g/kg, 70 g",
-            kind="dose",
-        ),
-        CaseField(
-            "stated-sodium",
-            "written",
-            "expected Na",
-            "the serum sodium the prescriber expects after it; bare number = mmol/L",
-            "mmol/L",
-            unit="mmol/L",
-            plausible=Range(90.0, 200.0, "mmol/L"),
-            attr="stated_sodium_mmol_l",
-        ),
-        # --- bedside readings: chosen to catch a slipped digit or a value in the wrong box, not
-        # to judge (common practice); ICP may be a little below zero with the head up or the
-        # drain open.
-        CaseField(
-            "map",
-            "reading",
-            "MAP",
-            "mean arterial pressure; bare number = mmHg",
-            "mmHg",
-            unit="mmHg",
-            plausible=Range(10.0, 250.0, "mmHg"),
-            required=True,
-            attr="map_mmhg",
-        ),
-        CaseField(
-            "icp",
-            "reading",
-            "ICP",
-            "intracranial pressure; bare number = mmHg",
-            "mmHg",
-            unit="mmHg",
-            plausible=Range(-10.0, 150.0, "mmHg"),
-            required=True,
-            attr="icp_mmhg",
-        ),
-        # --- what every course entry carries ---------------------------------------------------
-        CaseField(
-            "time",
-            "entry",
-            "time",
-            "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now",
-            "2026-12-01T08:30+00:00, or now",
-            kind="text",
-            required=True,
-        ),
+        CaseField("dose", "order", "dose", "dose per kg (1g/kg, 5mL/kg) or absolute (50g, 120mmol)",
+                  "1 g/kg, 5 mL/kg, 50 g", kind="dose"),
+        _number("volume", "order", "volume", "volume; bare number = mL", "mL, or 0.25 L", "mL", 0.1, 5000.0,
+                "volume_ml"),
+        _number("target-rise", "order", "target Na change", "the sodium change wanted; bare number = mmol/L",
+                "mmol/L, e.g. 6 or -4", "mmol/L", -30.0, 30.0),
+        _number("duration", "order", "duration", "infusion time; bare number = minutes (e.g. 20, 2h)",
+                "min, or 2 h", "min", 1.0, 7 * 24 * 60.0, "duration_min"),
+        _choice("line", "order", "line", "the line the order runs through; without it no line check", LINE,
+                "not stated"),
+        # the order as written, for verification
+        CaseField("rate", "written", "rate", "rate as written; bare number = mL/h (2mL/min accepted)", "mL/h",
+                  unit="mL/h", attr="rate_ml_h"),
+        CaseField("stated-dose", "written", "stated dose",
+                  "the prescriber's stated dose: per kg (1g/kg) or absolute (70g, 120mmol)", "1 g/kg, 70 g",
+                  kind="dose"),
+        _number("stated-sodium", "written", "expected Na",
+                "the serum sodium the prescriber expects after it; bare number = mmol/L", "mmol/L", "mmol/L",
+                90.0, 200.0, "stated_sodium_mmol_l"),
+        # bedside readings
+        _number("map", "reading", "MAP", "mean arterial pressure; bare number = mmHg", "mmHg", "mmHg", 10.0,
+                250.0, "map_mmhg", required=True),
+        _number("icp", "reading", "ICP", "intracranial pressure; bare number = mmHg", "mmHg", "mmHg", -10.0,
+                150.0, "icp_mmhg", required=True),
+        # what every course entry carries
+        CaseField("time", "entry", "time", TIME_HELP, "2026-12-01T08:30+00:00, or now", kind="text", required=True),
         CaseField("label", "entry", "label", "free text to tell episodes apart (bed, initials)", kind="text"),
     )
-}
+}  # fmt: skip
 
 #: The serum labs kept on a request and an episode's lab entry, in the order they are shown.
 LAB_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group == "labs" and f.into is None)
@@ -415,11 +289,3 @@ def _finite(number: float) -> bool:
     except OverflowError:  # an int too large for a float
         return False
     return value - value == 0.0
-
-
-def read_choice(key: str, raw: object) -> str:
-    """A choice field's value, by its choice's one parser and message (`SEX.read` and the like are typed)."""
-    choice = FIELDS[key].choice
-    if choice is None:
-        raise ValueError(f"{key} is not a choice")
-    return str(choice.read(key, raw))

@@ -14,9 +14,9 @@ from typing import TYPE_CHECKING, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, create_model
 
-from osmodose.case.choices import LINE, SEX, TBW_METHOD, DoseMode, Line, Sex, TbwMethod
 from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read
 from osmodose.errors import InputError
+from osmodose.science.choices import LINE, SEX, TBW_METHOD, DoseMode, Line, Sex, TbwMethod
 from osmodose.science.units import Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)

@@ -17,16 +17,16 @@ from typing import Literal
 
 import numpy as np
 
+from osmodose.science.formulas import RELATIVE_NOISE
+
 Severity = Literal["warn", "refuse"]
 Status = Literal["ok", "warn", "refuse"]
 
 NONE, WARN, REFUSE = 0, 1, 2
 SEVERITY_NAMES: dict[int, Severity] = {WARN: "warn", REFUSE: "refuse"}
 
-#: A figure within this relative distance of a limit is at the limit, not above it.  The
-#: engine's arithmetic leaves a few units in the last place (a 1.5 g/kg order came back as
-#: 1.5000000000000004 g/kg for 40.2 kg), which must not cross a limit set at 1.5 g/kg.
-LIMIT_RELATIVE_TOLERANCE = 1e-9
+#: A figure within this relative distance of a limit is at the limit, not above it (arithmetic noise).
+LIMIT_RELATIVE_TOLERANCE = RELATIVE_NOISE
 
 #: High risk of osmotic demyelination (Verbalis JG et al. Am J Med 2013;126:S1-42): sodium of
 #: 105 mmol/L or below, or hypokalaemia, potassium below 3.5 mmol/L (the usual lower limit of

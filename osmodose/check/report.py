@@ -46,7 +46,7 @@ def render_text(result: CheckResult) -> str:
     p = result.patient
     lines = [
         f"osmodose check  {STATUS_MARK[result.status]} {status_words(result)}",
-        f"formulary: {result.formulary.name} v{result.formulary.version} sha256 {result.formulary.sha256}",
+        result.formulary.line(),
         "",
         f"patient: {p.weight_kg:.1f} kg, {p.age_years:g} y, {p.sex}"
         + (f", {p.height_cm:.0f} cm" if p.height_cm is not None else ""),

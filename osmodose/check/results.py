@@ -12,6 +12,7 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict
 
 from osmodose.caution import CAUTION
+from osmodose.formulary.model import Formulary
 
 _FROZEN = ConfigDict(frozen=True)
 
@@ -41,6 +42,14 @@ class FormularyRef(BaseModel):
     version: str
     sha256: str
     path: str
+
+    @classmethod
+    def of(cls, formulary: Formulary) -> FormularyRef:
+        return cls(name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path)
+
+    def line(self) -> str:
+        """The line every report heads with: which file, which version, which bytes."""
+        return f"formulary: {self.name} v{self.version} sha256 {self.sha256}"
 
 
 class PatientFigures(BaseModel):

@@ -133,9 +133,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         status=worst_status(x.severity for x in findings),
         findings=findings,
         notes=_notes(request, agent, figures, formulary.limits),
-        formulary=FormularyRef(
-            name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path
-        ),
+        formulary=FormularyRef.of(formulary),
         patient=PatientFigures(
             weight_kg=request.patient.weight_kg,
             age_years=request.patient.age_years,

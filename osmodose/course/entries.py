@@ -15,12 +15,12 @@ from __future__ import annotations
 from collections.abc import Mapping
 from datetime import datetime
 
-from osmodose.case.choices import SEX, TBW_METHOD
 from osmodose.case.fields import LAB_FIELDS, LAB_KEYS, keys, read
 from osmodose.case.inputs import given_fields, need, parse_labs
 from osmodose.course.episode import DoseEntry, EpisodePatient, LabEntry, ReadingEntry
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
+from osmodose.science.choices import SEX, TBW_METHOD
 
 TIME_ACCEPTED = "ISO 8601 such as 2026-12-01T08:30+00:00 (no offset = this computer's local time), or now"
 

@@ -20,9 +20,9 @@ from typing import TYPE_CHECKING, Annotated, Any, Literal, Protocol, TypeVar
 
 from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field, create_model
 
-from osmodose.case.choices import Sex, TbwMethod
 from osmodose.case.fields import FIELDS, LAB_FIELDS
 from osmodose.case.inputs import Labs, LabValues
+from osmodose.science.choices import Sex, TbwMethod
 from osmodose.science.formulas import cerebral_perfusion_pressure
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.

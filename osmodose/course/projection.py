@@ -96,7 +96,6 @@ class Projection:
     dose_rows: np.ndarray
     after_each: np.ndarray
     sodium_now: float
-    skipped_mannitol: int
     notes: list[str] = field(default_factory=list)
 
 
@@ -122,7 +121,6 @@ def project_now(episode: Episode, timeline: Timeline, tbw_l: float, at: datetime
         dose_rows=rows,
         after_each=after,
         sodium_now=float(after[-1]) if len(after) else float(labs.sodium[index]),
-        skipped_mannitol=skipped,
         notes=notes,
     )
 

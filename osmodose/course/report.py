@@ -127,7 +127,7 @@ def patient_line(result: Review) -> str:
 
 
 def _formulary_line(formulary: Formulary) -> str:
-    return f"formulary: {formulary.name} v{formulary.version} sha256 {formulary.sha256}"
+    return FormularyRef.of(formulary).line()
 
 
 def projection_line(projection: Projection | None, timeline: Timeline) -> str:
@@ -172,8 +172,7 @@ def render_review_text(result: Review, path: Path | str) -> str:
 
 
 def _formulary_ref(formulary: Formulary) -> dict[str, Any]:
-    ref = FormularyRef(name=formulary.name, version=formulary.version, sha256=formulary.sha256, path=formulary.path)
-    return ref.model_dump(mode="json")
+    return FormularyRef.of(formulary).model_dump(mode="json")
 
 
 def _projection_json(projection: Projection | None, result_timeline: Timeline) -> dict[str, Any] | None:

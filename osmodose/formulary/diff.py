@@ -15,6 +15,7 @@ from typing import Any, Literal
 from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 from osmodose.formulary.model import Agent, Formulary
 from osmodose.formulary.summary import AgentRow, agent_cells, agent_rows
+from osmodose.science.formulas import RELATIVE_NOISE
 
 Area = Literal["formulary", "settings", "limits", "agents"]
 
@@ -175,4 +176,4 @@ def _same_strength(old: Agent, new: Agent) -> bool:
     """Whether a concentration written differently ("0.9% w/v" and "9 g/L") is the same strength."""
     if old.solute_g_per_l is None or new.solute_g_per_l is None:
         return False
-    return math.isclose(old.solute_g_per_l, new.solute_g_per_l, rel_tol=1e-9)
+    return math.isclose(old.solute_g_per_l, new.solute_g_per_l, rel_tol=RELATIVE_NOISE)

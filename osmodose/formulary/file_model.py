@@ -15,6 +15,7 @@ from pydantic import BaseModel, ConfigDict, Field, create_model
 
 from osmodose.formulary.limits import LIMIT_SPECS
 from osmodose.science.chemistry import SoluteName
+from osmodose.science.choices import EthanolFactor, TbwMethod
 
 _STRICT = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
@@ -39,9 +40,9 @@ class SettingsTable(BaseModel):
     """Age from which the elderly total-body-water fractions apply (sources say 65 or 70)."""
     adult_age_years: float = Field(default=18.0, ge=10, le=25)
     """Age below which the child fraction (0.6) applies to both sexes."""
-    ethanol_factor: Literal["molar", "empirical"] = "molar"
+    ethanol_factor: EthanolFactor = "molar"
     """Ethanol's share of calculated osmolality: "molar" (mg/dL / 4.6) or "empirical" (mg/dL / 3.7)."""
-    tbw_method: Literal["fraction", "watson"] = "fraction"
+    tbw_method: TbwMethod = "fraction"
     """Default total-body-water method when the user does not choose one."""
 
 

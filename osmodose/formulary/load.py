@@ -23,7 +23,7 @@ from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseKind, DoseLimit, Formulary, Limits
-from osmodose.science.chemistry import SOLUTES
+from osmodose.science.chemistry import SOLUTES, molar_mass
 from osmodose.science.ranges import SOLUTE_STRENGTH
 from osmodose.science.units import is_per_mass, parse_quantity, ureg
 
@@ -208,20 +208,19 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
     else:
         conc = out.quantity(f"{where}.concentration", entry.concentration, "g/L", ("g/L", "mmol/L"), percent_is_wv=True)
         if conc is not None:
-            if conc.check("[mass]/[volume]"):
-                grams = float(conc.m_as("g/L"))
-            else:
-                grams = float(conc.m_as("mmol/L")) * solute.molar_mass_g_per_mol / 1000.0
+            mass = conc if conc.check("[mass]/[volume]") else conc * molar_mass(entry.solute)
+            grams = float(mass.m_as("g/L"))
+            percent = float(mass.m_as("percent_wv"))
             strength = SOLUTE_STRENGTH.get(entry.solute)
             if grams <= 0:
                 out.add(f"{where}.concentration", f"{entry.concentration!r} is not above zero")
-            elif strength is not None and not strength.contains(grams / 10.0):
+            elif strength is not None and not strength.contains(percent):
                 out.add(
                     f"{where}.concentration",
-                    f"{entry.concentration!r} is {grams / 10.0:.4g} % w/v, outside the plausible range "
+                    f"{entry.concentration!r} is {percent:.4g} % w/v, outside the plausible range "
                     f"for {entry.solute} (accepted: {strength.describe()})",
                 )
-            moles = grams / solute.molar_mass_g_per_mol * 1000.0  # mmol/L
+            moles = float((mass / molar_mass(entry.solute)).m_as("mmol/L"))
             derived_na = moles * solute.sodium_per_mole
             derived_osm = moles * solute.osmoles_per_mole
     sodium = _explicit(entry.sodium, f"{where}.sodium", "mmol/L", ("mmol/L",), derived_na, out)

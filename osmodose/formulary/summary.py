@@ -10,6 +10,7 @@ from dataclasses import dataclass
 
 from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 from osmodose.formulary.model import Formulary
+from osmodose.science.units import Q_
 
 
 @dataclass(frozen=True)
@@ -55,9 +56,9 @@ def agent_rows(formulary: Formulary) -> list[AgentRow]:
                 solute=a.solute,
                 concentration=a.concentration_text or "as labelled",
                 sodium_mmol_l=a.sodium_mmol_l,
-                sodium_mmol_per_ml=a.sodium_mmol_l / 1000.0,
+                sodium_mmol_per_ml=float(Q_(a.sodium_mmol_l, "mmol/L").m_as("mmol/mL")),
                 osmolarity_mosm_l=a.osmolarity_mosm_l,
-                solute_g_per_ml=None if a.solute_g_per_l is None else a.solute_g_per_l / 1000.0,
+                solute_g_per_ml=None if a.solute_g_per_l is None else float(Q_(a.solute_g_per_l, "g/L").m_as("g/mL")),
                 route="central line only" if a.route == "central" else "peripheral or central",
                 presentations=", ".join(f"{size:g} mL" for size in a.presentations_ml) or "none listed",
                 dose_limits="; ".join(x for x in limits if x) or "none",

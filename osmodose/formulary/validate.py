@@ -17,6 +17,7 @@ from osmodose.errors import FormularyError, FormularyWarning
 from osmodose.formulary.load import COMPOSITION_TOLERANCE, ReadResult, read_formulary
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, Limits
+from osmodose.science.units import Q_
 
 #: A percentage written in a label: "Sodium chloride 23.4 % 30 mL" (or "0,9 %" with a decimal comma).
 _LABEL_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*%")
@@ -122,7 +123,7 @@ def label_problem(agent: Agent) -> str | None:
     if agent.solute_g_per_l is None:
         return None
     written = [float(number.replace(",", ".")) for number in _LABEL_PERCENT.findall(agent.label)]
-    percent = agent.solute_g_per_l / 10.0
+    percent = float(Q_(agent.solute_g_per_l, "g/L").m_as("percent_wv"))
     if not written or any(abs(value - percent) <= COMPOSITION_TOLERANCE * percent for value in written):
         return None
     shown = " or ".join(f"{value:g} %" for value in written)

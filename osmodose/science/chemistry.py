@@ -14,8 +14,6 @@ from typing import Literal
 
 from osmodose.science.units import Q_, Quantity
 
-MOLAR_MASS_SOURCE = "IUPAC/CIAAW conventional atomic weights"
-
 #: g/mol; source: IUPAC/CIAAW conventional atomic weights.
 MOLAR_MASS_G_PER_MOL: dict[str, float] = {
     "sodium chloride": 58.44,  # NaCl
@@ -48,7 +46,6 @@ class Solute:
     name: SoluteName
     molar_mass_g_per_mol: float | None
     sodium_per_mole: float
-    potassium_per_mole: float
     osmoles_per_mole: float
     #: Solutes that stay extracellular and carry no sodium: no sodium projection.
     projects_sodium: bool
@@ -57,14 +54,12 @@ class Solute:
 SOLUTES: dict[str, Solute] = {
     s.name: s
     for s in (
-        Solute("sodium chloride", MOLAR_MASS_G_PER_MOL["sodium chloride"], 1.0, 0.0, 2.0, True),
-        Solute("sodium bicarbonate", MOLAR_MASS_G_PER_MOL["sodium bicarbonate"], 1.0, 0.0, 2.0, True),
-        Solute("mannitol", MOLAR_MASS_G_PER_MOL["mannitol"], 0.0, 0.0, 1.0, False),
+        Solute("sodium chloride", MOLAR_MASS_G_PER_MOL["sodium chloride"], 1.0, 2.0, True),
+        Solute("sodium bicarbonate", MOLAR_MASS_G_PER_MOL["sodium bicarbonate"], 1.0, 2.0, True),
+        Solute("mannitol", MOLAR_MASS_G_PER_MOL["mannitol"], 0.0, 1.0, False),
         # Glucose is metabolised: the infusate becomes free water, so it projects
         # like a sodium-free fluid (Adrogue-Madias treat 5 % dextrose as Na 0).
-        Solute("glucose", MOLAR_MASS_G_PER_MOL["glucose"], 0.0, 0.0, 1.0, True),
-        Solute("mixed", None, 0.0, 0.0, 0.0, True),
+        Solute("glucose", MOLAR_MASS_G_PER_MOL["glucose"], 0.0, 1.0, True),
+        Solute("mixed", None, 0.0, 0.0, True),
     )
 }
-
-KNOWN_SOLUTES: tuple[str, ...] = tuple(SOLUTES)

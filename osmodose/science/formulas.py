@@ -47,6 +47,11 @@ WATSON_WOMAN_HEIGHT = 0.1069
 WATSON_WOMAN_WEIGHT = 0.2466
 
 
+#: Two figures this close, relative to their size, are the same figure: floating-point arithmetic
+#: leaves a few units in the last place (a 1.5 g/kg order came back as 1.5000000000000004 g/kg for
+#: 40.2 kg), which must not cross a limit set at 1.5 g/kg nor count as a changed concentration.
+RELATIVE_NOISE = 1e-9
+
 #: A float for a scalar case, an array for a column of cases.
 Figure = Any
 

@@ -8,8 +8,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from osmodose.errors import InputError
-
 
 @dataclass(frozen=True)
 class Range:
@@ -47,17 +45,6 @@ PLAUSIBLE: dict[str, Range] = {
     "map": Range(10.0, 250.0, "mmHg"),
     "icp": Range(-10.0, 150.0, "mmHg"),
 }
-
-
-def check_plausible(field: str, value: float, shown: object, range_key: str | None = None) -> float:
-    """Return `value` if inside the field's range, else raise an InputError.
-
-    `shown` is what the user typed, so the message quotes their own words.
-    """
-    limits = PLAUSIBLE[range_key or field]
-    if not (limits.low <= value <= limits.high):
-        raise InputError(field, shown, "is outside the plausible range", limits.describe())
-    return value
 
 
 @dataclass(frozen=True)

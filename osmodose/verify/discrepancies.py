@@ -28,6 +28,7 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.check.judging import severity_of
 from osmodose.check.presentations import matches_presentation
 from osmodose.check.results import CheckResult, DoseFigures, Severity
 from osmodose.errors import InputError
@@ -37,8 +38,6 @@ from osmodose.verify.order import Order
 
 #: A stated figure this many times off (or this fraction of) the recomputed one is refused.
 REFUSE_FACTOR = 2.0
-#: Floating-point slack so a difference of exactly the tolerance is within it.
-_EPSILON = 1e-9
 
 STATED_DOSE_MISMATCH = "stated-dose-mismatch"
 STATED_RATE_MISMATCH = "stated-rate-mismatch"
@@ -76,7 +75,7 @@ def _judge_ratio(stated: float, recomputed: float, tolerance_percent: float) -> 
     ratio = recomputed / stated
     if ratio >= REFUSE_FACTOR or ratio <= 1.0 / REFUSE_FACTOR:
         return "refuse"
-    if abs(ratio - 1.0) > tolerance_percent / 100.0 + _EPSILON:
+    if severity_of(abs(ratio - 1.0), tolerance_percent / 100.0, None) is not None:
         return "warn"
     return None
 
@@ -196,7 +195,7 @@ def _stated_sodium(order: Order, result: CheckResult, agent: Agent, limits: Limi
     current = result.labs["sodium_mmol_l"]
     assert current is not None
     difference = abs(projected - stated)
-    if difference <= tolerance + _EPSILON:
+    if severity_of(difference, tolerance, None) is None:
         return None
     stated_change = stated - current
     projected_change = projected - current

@@ -11,10 +11,10 @@ from __future__ import annotations
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from osmodose.case.choices import LINE
 from osmodose.case.fields import FIELDS, WRITTEN_ORDER_KEYS, read
 from osmodose.case.inputs import DoseUnit, Line, given_fields, parse_dose
 from osmodose.errors import InputError
+from osmodose.science.choices import LINE
 from osmodose.science.formulas import MINUTES_PER_HOUR
 
 _FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)

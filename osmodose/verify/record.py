@@ -165,7 +165,7 @@ def render_record(record: VerificationRecord) -> str:
     lines = [
         f"osmodose verification  {OUTCOME_MARK[outcome]} {OUTCOME_WORDS[outcome]}",
         f"verified by {decision.initials} at {record.timestamp} with osmodose {record.program_version}",
-        f"formulary: {f.name} v{f.version} sha256 {f.sha256}",
+        f.line(),
         "",
         "order as written: " + ", ".join(f"{k} {v}" for k, v in record.order.entered.items()),
         f"  read as: {_order_read_as(record.order)}",

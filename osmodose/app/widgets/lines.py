@@ -55,9 +55,7 @@ def set_content(widget: Static, content: str | Content) -> None:
 class LinesPanel(Static):
     """A titled panel of tagged lines, redrawn only when its lines change."""
 
-    def __init__(
-        self, panel_id: str, title: str = "", classes: str = "panel", lines: tuple[Line, ...] = ()
-    ) -> None:
+    def __init__(self, panel_id: str, title: str = "", classes: str = "panel", lines: tuple[Line, ...] = ()) -> None:
         """`lines` are shown from the first frame (a later `show` of the same lines costs nothing)."""
         super().__init__(markup(lines), id=panel_id, classes=classes)
         self.border_title = title
