@@ -29,8 +29,9 @@ from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 
-#: Width of the label column of the figure panels (a longer label takes a line of its own).
-LABEL_WIDTH = 15
+#: Width of the label column of the dose and figures panels (a longer label takes a line of its own).
+LABEL_WIDTH = 14
+PATIENT_LABEL_WIDTH = 22
 NOT_VALID = "—"
 
 
@@ -195,7 +196,7 @@ def banner_text(outcome: Outcome) -> str:
 def patient_texts(result: CheckResult) -> dict[str, str]:
     """Shown text of each figure that needs no order."""
     p = result.patient
-    method = "Watson" if p.tbw_method == "watson" else "fraction of weight"
+    method = "Watson" if p.tbw_method == "watson" else "fraction"
     return {
         "tbw": f"{fmt(p.total_body_water_l, 'L')} ({method})",
         "calc-osm": fmt(result.calculated_osmolality_mosm_kg, "mOsm/kg"),
@@ -243,15 +244,17 @@ def finding_lines(result: CheckResult) -> list[tuple[Role, str]]:
     return [(x.severity, f"{SYMBOL[x.severity]} {x.severity.upper()} {x.code}: {x.message}") for x in result.findings]
 
 
-def figure_lines(rows: tuple[tuple[str, str], ...], texts: Mapping[str, str], role: Role) -> tuple[Line, ...]:
+def figure_lines(
+    rows: tuple[tuple[str, str], ...], texts: Mapping[str, str], role: Role, width: int = LABEL_WIDTH
+) -> tuple[Line, ...]:
     """A label column and the value beside it; a label too long for the column stands on a line of its own."""
     lines: list[Line] = []
     for figure_id, label in rows:
         value: Span = (texts.get(figure_id, NOT_VALID), role if figure_id in texts else "muted")
-        if len(label) < LABEL_WIDTH:
-            lines.append(((label.ljust(LABEL_WIDTH), "label"), value))
+        if len(label) < width:
+            lines.append(((label.ljust(width), "label"), value))
         else:
-            lines += [((label, "label"),), ((" " * LABEL_WIDTH, ""), value)]
+            lines += [((label, "label"),), ((" " * width, ""), value)]
     return tuple(lines)
 
 
@@ -270,14 +273,14 @@ def show(outcome: Outcome, values: Mapping[str, str]) -> Shown:
         checks: tuple[Line, ...] = ((("not valid: no checks until every field reads", "muted"),),)
         dose_title = "dose"
         dose_lines: tuple[Line, ...] = ((("not valid: see the marked field", "muted"),),)
-        figures = figure_lines(PATIENT_FIGURES, {}, "value")
+        figures = figure_lines(PATIENT_FIGURES, {}, "value", PATIENT_LABEL_WIDTH)
         notes: tuple[str, ...] = ()
     else:
         found = finding_lines(result)
         checks = tuple(((line, severity),) for severity, line in found) or ((("✔ OK: no limit crossed", "ok"),),)
         patient = patient_texts(result)
         texts.update(patient)
-        figures = figure_lines(PATIENT_FIGURES, patient, "value")
+        figures = figure_lines(PATIENT_FIGURES, patient, "value", PATIENT_LABEL_WIDTH)
         dose_title, dose_lines = _dose_panel(result, texts, asked_text(values, echoes))
         notes = tuple(f"- {note}" for note in result.notes)
     return Shown(

@@ -56,7 +56,7 @@ async def test_mannitol_case_shows_the_figures_of_check_json(capsys: pytest.Capt
             shown(screen, "calc-osm") == f"{expected['calculated_osmolality_mosm_kg']:.1f} mOsm/kg" == "293.0 mOsm/kg"
         )
         assert shown(screen, "gap") == f"{expected['osmolar_gap_mosm_kg']:.1f} mOsm/kg" == "7.0 mOsm/kg"
-        assert shown(screen, "tbw") == f"{expected['patient']['total_body_water_l']:.1f} L (fraction of weight)"
+        assert shown(screen, "tbw") == f"{expected['patient']['total_body_water_l']:.1f} L (fraction)"
         dose = plain(screen.shown.dose)
         assert dose[-3:] == [
             "from stock, any one of:",

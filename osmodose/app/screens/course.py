@@ -12,6 +12,7 @@ from collections.abc import Callable, Mapping
 from functools import partial
 from typing import ClassVar
 
+from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import Vertical, VerticalScroll
@@ -33,6 +34,7 @@ from osmodose.app.course_view import (
     notes_lines,
     open_course,
     plan_next,
+    row_marks,
     status_text,
 )
 from osmodose.app.form_view import agent_choices
@@ -47,6 +49,8 @@ from osmodose.formulary.model import Formulary
 
 TIMELINE_COLUMNS = ("time", "entry", "details")
 _STYLE = {"ok": "bold $text-success", "warn": "bold $text-warning", "refuse": "bold $text-error"}
+#: Rows of the timeline a finding is about (rich styles: table cells do not take the theme's variables).
+_ROW_STYLE = {"warn": "bold dark_orange", "refuse": "bold red"}
 STATES = ("ok", "warn", "refuse")
 
 
@@ -129,8 +133,16 @@ class CourseScreen(Screen[None]):
         details = max(30, self.size.width - time_width - entry_width - 3 * 2 - 2)
         for label, width in zip(TIMELINE_COLUMNS, (time_width, entry_width, details), strict=True):
             table.add_column(label, width=width)
-        for row in state.rows:
-            table.add_row(*row, height=None)
+        for (time, entry, text), (severity, mark) in zip(state.rows, row_marks(state), strict=True):
+            if mark:  # word and colour: the finding's symbol, word and code under the values it is about
+                cells: tuple[str | Text, ...] = (
+                    Text(time, style=_ROW_STYLE[severity]),
+                    Text(entry, style=_ROW_STYLE[severity]),
+                    Text.assemble(text, "\n", (mark, _ROW_STYLE[severity])),
+                )
+            else:
+                cells = (time, entry, text)
+            table.add_row(*cells, height=None)
         table.move_cursor(row=len(state.rows) - 1)
         if self.app.focused is None or isinstance(self.app.focused, Input):
             table.focus()

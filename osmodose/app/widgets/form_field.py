@@ -32,7 +32,7 @@ class FormField(Container):
     """Holds one form value; `mark` shows at the field why it is wrong or still needed."""
 
     def __init__(self, spec: FieldSpec, choices: tuple[tuple[str, str], ...] = ()) -> None:
-        super().__init__(id=f"field-{spec.key}", classes="field")
+        super().__init__(id=f"field-{spec.key}", classes="field -select" if spec.select else "field")
         self.spec = spec
         self.choices = choices or spec.choices
         self.message = ""

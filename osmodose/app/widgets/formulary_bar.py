@@ -43,5 +43,5 @@ class FormularyBar(Static):
 
     def _set(self, text: str) -> None:
         self.text = (DEMO.strip() + "  " if self.demo else "") + text
-        badge = f"[reverse $warning]{DEMO}[/] " if self.demo else ""
+        badge = f"[bold black on $warning]{DEMO}[/] " if self.demo else ""
         set_content(self, badge + escape(text))
