@@ -176,3 +176,38 @@ class OrdersFileError(OsmodoseError):
         if accepted:
             text += f" (accepted: {accepted})"
         super().__init__(text)
+
+
+class LabsFileError(OsmodoseError):
+    """A labs file (`--labs FILE`, `course import`) cannot be used, or a value a case needs from it cannot.
+
+    Names the file and, when known, the resource (`Observation/na-2`), its LOINC
+    code and the field it gives, so the record can be found and fixed at its
+    source.  Nothing is taken from a file while one of these stands.
+    """
+
+    def __init__(
+        self,
+        path: Path | str,
+        problem: str,
+        resource: str | None = None,
+        loinc: str | None = None,
+        field: str | None = None,
+        accepted: str | None = None,
+    ) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        self.resource = resource
+        self.loinc = loinc
+        self.field = field
+        self.accepted = accepted
+        text = f"labs {self.path}: " + (f"{resource_label(resource, loinc, field)}: " if resource else "") + problem
+        if accepted:
+            text += f" (accepted: {accepted})"
+        super().__init__(text)
+
+
+def resource_label(resource: str | None, loinc: str | None = None, field: str | None = None) -> str:
+    """`Observation/na-2 (LOINC 2951-2, sodium)`: how a line about one resource names it."""
+    inside = ", ".join(part for part in (f"LOINC {loinc}" if loinc else None, field) if part)
+    return f"{resource}" + (f" ({inside})" if inside else "")

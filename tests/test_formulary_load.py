@@ -116,7 +116,7 @@ def test_an_unknown_agent_key_names_the_agent_and_its_line(tmp_path: Path) -> No
     path = write(tmp_path, HEADER + NACL_3 + 'colour = "blue"\n')
     assert problems_of(path) == [
         f"formulary {path}:10: agents[1].colour: is not a known key (known keys here: id, label, solute, "
-        "concentration, route, presentations, dose_warn, dose_refuse, max_rate, sodium, potassium, osmolarity)"
+        "concentration, route, presentations, dose_warn, dose_refuse, max_rate, sodium, potassium, osmolarity, codes)"
     ]
 
 

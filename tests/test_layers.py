@@ -1,6 +1,6 @@
 """The package's folders are its layers: nothing imports from a layer above its own.
 
-Lowest first: errors; science and storage; the formulary; the case; the check; verify, course
+Lowest first: errors; science and storage; the formulary; the case; the check and data in; verify, course
 and audit; the command line and the app.  An import from a higher layer (the engine importing
 the command line, say) would tie the core to a front end; this test names any such import.
 """
@@ -20,6 +20,7 @@ LAYER = {
     "formulary": 2,
     "case": 3,
     "check": 4,
+    "datain": 4,
     "verify": 5,
     "course": 5,
     "audit": 5,

@@ -24,6 +24,9 @@ CHECK: list[BindingType] = [
     Binding("ctrl+s", "save", "save"),
     Binding("ctrl+y", "copy", "copy"),
     Binding("ctrl+n", "new_case", "new"),
+    Binding("ctrl+l", "labs_file", "labs"),
+    # At 80 columns the check screen's footer leaves out the theme key; it works, and help (f1) lists it.
+    Binding("ctrl+t", "app.toggle_theme", "dark", show=False),
 ]
 # Screen keys come first in the footer, then the app's: at 80 columns the verification and course
 # screens leave two of the app's keys out of their footer (show=False), still working and in help (f1).

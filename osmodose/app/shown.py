@@ -48,6 +48,8 @@ class Shown:
     """The text under that field."""
     missing: bool = False
     """The mark asks for a value still needed (not a wrong one)."""
+    labs_file: tuple[str, ...] = ()
+    """Where each value came from when a labs file is loaded (empty otherwise)."""
 
 
 def loading_shown(what: str) -> Shown:

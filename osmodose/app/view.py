@@ -16,18 +16,23 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass
+from datetime import datetime
+from typing import TYPE_CHECKING, Any
 
 from osmodose.app.form_view import AMOUNT, DOSE_MODE, FIELDS, SYMBOL
 from osmodose.app.shown import Line, Role, Shown, Span
 from osmodose.case.fields import FIELDS as CASE_FIELDS
-from osmodose.case.fields import read
+from osmodose.case.fields import keys, read
 from osmodose.case.inputs import DoseMode, parse_check_request
 from osmodose.check.report import fmt, signed, status_words
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
-from osmodose.errors import InputError
+from osmodose.errors import InputError, LabsFileError
 from osmodose.formulary.model import Formulary
 from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
+
+if TYPE_CHECKING:
+    from osmodose.datain import FhirFile
 
 #: Width of the label column of the dose and figures panels (a longer label takes a line of its own).
 LABEL_WIDTH = 14
@@ -40,7 +45,7 @@ class Outcome:
     """One evaluation: a result, or the error that stops one (never both)."""
 
     result: CheckResult | None
-    error: InputError | None = None
+    error: InputError | LabsFileError | None = None
     field: str | None = None
     """The form field to mark: the one the error names, in the form's own keys."""
     missing: bool = False
@@ -57,26 +62,89 @@ class Outcome:
     @property
     def message(self) -> str:
         """The error in the screen's own words ("" when there is none)."""
-        return screen_message(self.error, self.mode) if self.error is not None else ""
+        if isinstance(self.error, InputError):
+            return screen_message(self.error, self.mode)
+        return str(self.error) if self.error is not None else ""
 
 
-def evaluate(values: Mapping[str, str], formulary: Formulary) -> Outcome:
-    """Run the typed form through the core; any InputError becomes a marked field."""
+@dataclass(frozen=True)
+class LoadedLabs:
+    """A labs file read into the form: the file, and the text each box it filled was given."""
+
+    file: FhirFile
+    filled: dict[str, str]
+
+
+def evaluate(
+    values: Mapping[str, str], formulary: Formulary, labs: LoadedLabs | None = None, now: datetime | None = None
+) -> Outcome:
+    """Run the typed form through the core; any InputError becomes a marked field.
+
+    With a labs file loaded, a box still holding the text the file put there is
+    the file's value (with its resource and age), any other text is typed and
+    wins, exactly as `check --labs` with options.
+    """
     mode: DoseMode = DOSE_CHOICE.read(DOSE_MODE, values.get(DOSE_MODE) or "dose")
     fields: dict[str, object] = {k: v for k, v in values.items() if k not in (AMOUNT, DOSE_MODE)}
     amount = (values.get(AMOUNT) or "").strip()
     if amount:
         fields[mode] = amount
     try:
-        result = run_check(parse_check_request(fields, dose_mode=mode), formulary)
-    except InputError as error:
+        data_in = None
+        if labs is not None:
+            fields, data_in = labs_case(fields, labs, now or datetime.now().astimezone())
+        result = run_check(parse_check_request(fields, dose_mode=mode, data_in=data_in), formulary)
+    except (InputError, LabsFileError) as error:
         where, missing = _where(error, values, amount)
         return Outcome(None, error, where, missing, mode)
     return Outcome(result, mode=mode)
 
 
-def _where(error: InputError, values: Mapping[str, str], amount: str) -> tuple[str, bool]:
+def labs_case(fields: dict[str, object], labs: LoadedLabs, now: datetime) -> tuple[dict[str, object], Any]:
+    """The form's fields with the file's values where the box holds what the file put there (or is empty)."""
+    from osmodose.datain import case_from_file  # noqa: PLC0415 (only once a labs file is loaded)
+
+    typed = {k: v for k, v in fields.items() if labs.filled.get(k) != v}
+    # A box the file filled and the user emptied takes nothing from the file.
+    cleared = {k for k in labs.filled if not str(fields.get(k) or "").strip()}
+    return case_from_file(typed, labs.file, now, [k for k in keys("patient", "labs") if k not in cleared])
+
+
+def fill_texts(labs_file: FhirFile, values: dict[str, str], now: datetime) -> dict[str, str]:
+    """The text to put in each empty box the file gives a value for (what is typed stays)."""
+    from osmodose.datain import case_from_file  # noqa: PLC0415 (only once a labs file is loaded)
+
+    typed = {k: v for k, v in values.items() if v.strip()}
+    wanted = keys("patient", "labs")
+    try:
+        fields, data_in = case_from_file(typed, labs_file, now, wanted)
+    except InputError as error:  # a gender to confirm: fill the rest, the form marks the sex
+        if error.field != "sex":
+            raise
+        fields, data_in = case_from_file(typed, labs_file, now, [k for k in wanted if k != "sex"])
+    texts = {}
+    for origin in data_in.fields:
+        if origin.source != "file":
+            continue
+        value = fields[origin.field]
+        # Age in full (rounding could cross the elderly cut-off); sex as the form's choice; the rest as written.
+        texts[origin.field] = (
+            repr(value) if origin.field == "age" else (str(value) if origin.field == "sex" else origin.shown)
+        )
+    return texts
+
+
+def labs_file_rows(result: CheckResult) -> list[str]:
+    """Where each value came from, as the report says it; empty when nothing was read from a file."""
+    from osmodose.check.report import labs_file_lines  # noqa: PLC0415 (only with a labs file)
+
+    return labs_file_lines(result.labs_file) if result.labs_file is not None else []
+
+
+def _where(error: InputError | LabsFileError, values: Mapping[str, str], amount: str) -> tuple[str, bool]:
     """Which form field an error belongs to, and whether it is only missing."""
+    if isinstance(error, LabsFileError):
+        return error.field or "sodium", False
     if error.field == "agent" and not amount:
         return AMOUNT, True  # an agent is chosen but no amount typed yet
     if error.field in DOSE_CHOICE.values:
@@ -283,6 +351,7 @@ def show(outcome: Outcome, values: Mapping[str, str]) -> Shown:
         figures = figure_lines(PATIENT_FIGURES, patient, "value", PATIENT_LABEL_WIDTH)
         dose_title, dose_lines = _dose_panel(result, texts, asked_text(values, echoes))
         notes = tuple(f"- {note}" for note in result.notes)
+    labs_file = tuple(labs_file_rows(result)) if result is not None else ()
     return Shown(
         state=outcome.state,
         banner=banner_text(outcome),
@@ -297,6 +366,7 @@ def show(outcome: Outcome, values: Mapping[str, str]) -> Shown:
         marked=outcome.field,
         mark=mark,
         missing=outcome.missing,
+        labs_file=labs_file,
     )
 
 

@@ -18,6 +18,7 @@ import functools
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Literal
 
+from osmodose.case.loinc import Loinc, memory, profile, value_set
 from osmodose.errors import InputError
 from osmodose.science.choices import DOSE_MODE, LINE, SEX, TBW_METHOD, Choice
 from osmodose.science.ranges import Range
@@ -43,6 +44,8 @@ class CaseField:
     whose value this one gives in another form (BUN gives urea).  `attr` is the
     attribute and JSON key the value is kept under (`sodium_mmol_l`).  `empty`
     says what leaving the field empty means, where that is not simply "not given".
+    `loinc` lists the LOINC codes a hospital's records give the value under
+    (`case.loinc`): the FHIR reader maps Observations to fields by them alone.
     """
 
     key: str
@@ -61,6 +64,7 @@ class CaseField:
     into: str | None = None
     attr: str = ""
     empty: str = ""
+    loinc: tuple[Loinc, ...] = ()
 
     @property
     def option(self) -> str:
@@ -145,31 +149,51 @@ TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = thi
 # nitrogen (two N per urea, N2 28.01 g/mol): the urea range 0.5-100 mmol/L is 1.4-280.1 mg/dL,
 # read into urea and judged in the unit it is typed in. Bedside pressures catch a slipped digit;
 # ICP may be a little below zero with the head up or the drain open.
+# LOINC codes of the rows below; `case.loinc` says where each was seen (value set, profile, memory).
+_WEIGHT = (value_set("29463-7", "Body weight"),)
+_HEIGHT = (value_set("8302-2", "Body height"),)
+_SODIUM = (value_set("2951-2", "Sodium [Moles/volume] in Serum or Plasma"),)
+_POTASSIUM = (value_set("2823-3", "Potassium [Moles/volume] in Serum or Plasma"),)
+_GLUCOSE = (
+    value_set("2345-7", "Glucose [Mass/volume] in Serum or Plasma"),
+    value_set("14749-6", "Glucose [Moles/volume] in Serum or Plasma"),
+)
+_UREA = (
+    value_set("22664-7", "Urea [Moles/volume] in Serum or Plasma"),
+    value_set("3091-6", "Urea [Mass/volume] in Serum or Plasma"),
+)
+_BUN = (value_set("3094-0", "Urea nitrogen [Mass/volume] in Serum or Plasma"),)
+_ETHANOL = (memory("5643-2", "Ethanol [Mass/volume] in Serum or Plasma"),)
+_OSMOLALITY = (value_set("2692-2", "Osmolality of Serum or Plasma"),)
+_MAP = (profile("8478-0", "Mean blood pressure"),)
+_ICP = (profile("60956-0", "Intracranial pressure (ICP)"),)
+
 FIELDS: dict[str, CaseField] = {
     f.key: f
     for f in (
         # the patient
         _number("weight", "patient", "weight", "body weight; bare number = kg (e.g. 70, 176lb)", "kg, or 176 lb",
-                "kg", 0.3, 400.0, "weight_kg", required=True),
+                "kg", 0.3, 400.0, "weight_kg", required=True, loinc=_WEIGHT),
         _number("age", "patient", "age", "age; bare number = years", "years", "year", 0.0, 120.0, "age_years",
                 shown_unit="years", required=True),
         _choice("sex", "patient", "sex", "sex, for the total-body-water fractions and the Watson formula", SEX,
                 "choose", required=True),
         _number("height", "patient", "height", "height; bare number = cm (needed for --tbw-method watson)",
-                "cm (for Watson)", "cm", 25.0, 250.0, "height_cm"),
+                "cm (for Watson)", "cm", 25.0, 250.0, "height_cm", loinc=_HEIGHT),
         _choice("tbw-method", "patient", "TBW method", "total-body-water method: fraction of weight "
                 "(Adrogue-Madias) or Watson (needs --height); default: the formulary's", TBW_METHOD, "default"),
         # serum labs, SI units
-        _lab("sodium", "serum sodium", 90.0, 200.0, required=True),
-        _lab("potassium", "serum potassium", 1.0, 10.0),
-        _lab("glucose", "serum glucose", 0.5, 100.0, mass="glucose"),
-        _lab("urea", "serum urea", 0.5, 100.0, mass="urea", hint="mmol/L"),
+        _lab("sodium", "serum sodium", 90.0, 200.0, required=True, loinc=_SODIUM),
+        _lab("potassium", "serum potassium", 1.0, 10.0, loinc=_POTASSIUM),
+        _lab("glucose", "serum glucose", 0.5, 100.0, mass="glucose", loinc=_GLUCOSE),
+        _lab("urea", "serum urea", 0.5, 100.0, mass="urea", hint="mmol/L", loinc=_UREA),
         _number("bun", "labs", "or BUN", "blood urea nitrogen instead of urea; bare number = mg/dL", "mg/dL",
                 "mg/dL", 1.4, 280.1, accepted=("mg/dL", "mmol/L"), canonical="mmol/L", substance="urea nitrogen",
-                into="urea"),
-        _lab("ethanol", "serum ethanol", 0.0, 200.0, mass="ethanol"),
+                into="urea", loinc=_BUN),
+        _lab("ethanol", "serum ethanol", 0.0, 200.0, mass="ethanol", loinc=_ETHANOL),
         _number("osmolality", "labs", "osmolality", "measured serum osmolality; bare number = mOsm/kg",
-                "measured, mOsm/kg", "mOsm/kg", 200.0, 450.0, "osmolality_mosm_kg", accepted=("mOsm/kg", "mmol/kg")),
+                "measured, mOsm/kg", "mOsm/kg", 200.0, 450.0, "osmolality_mosm_kg", accepted=("mOsm/kg", "mmol/kg"),
+                loinc=_OSMOLALITY),
         # the order
         CaseField("agent", "order", "agent", "agent id from the formulary", kind="text", empty="no order"),
         CaseField("dose", "order", "dose", "dose per kg (1g/kg, 5mL/kg) or absolute (50g, 120mmol)",
@@ -193,14 +217,17 @@ FIELDS: dict[str, CaseField] = {
                 90.0, 200.0, "stated_sodium_mmol_l"),
         # bedside readings
         _number("map", "reading", "MAP", "mean arterial pressure; bare number = mmHg", "mmHg", "mmHg", 10.0,
-                250.0, "map_mmhg", required=True),
+                250.0, "map_mmhg", required=True, loinc=_MAP),
         _number("icp", "reading", "ICP", "intracranial pressure; bare number = mmHg", "mmHg", "mmHg", -10.0,
-                150.0, "icp_mmhg", required=True),
+                150.0, "icp_mmhg", required=True, loinc=_ICP),
         # what every course entry carries
         CaseField("time", "entry", "time", TIME_HELP, "2026-12-01T08:30+00:00, or now", kind="text", required=True),
         CaseField("label", "entry", "label", "free text to tell episodes apart (bed, initials)", kind="text"),
     )
 }  # fmt: skip
+
+#: Each LOINC code of the table, with the field it gives: the FHIR reader's one map.
+LOINC_FIELDS: dict[str, tuple[CaseField, Loinc]] = {code.code: (f, code) for f in FIELDS.values() for code in f.loinc}
 
 #: The serum labs kept on a request and an episode's lab entry, in the order they are shown.
 LAB_FIELDS: tuple[CaseField, ...] = tuple(f for f in FIELDS.values() if f.group == "labs" and f.into is None)
@@ -242,9 +269,9 @@ def conversion(key: str, unit: str, target: str) -> float:
     A check's typed value and an audit's whole column are converted by the same
     factor, so both give the same float for the same text.
     """
-    from osmodose.science.units import Q_  # noqa: PLC0415 (see the imports)
+    from osmodose.science.units import one  # noqa: PLC0415 (see the imports)
 
-    return _convert(Q_(1.0, unit), target, FIELDS[key].substance)
+    return _convert(one(unit), target, FIELDS[key].substance)
 
 
 def read(key: str, raw: object, shown: object | None = None) -> float:

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any, Literal
 from pydantic import BaseModel, ConfigDict, Field, create_model
 
 from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, read
+from osmodose.case.provenance import DataIn
 from osmodose.errors import InputError
 from osmodose.science.choices import LINE, SEX, TBW_METHOD, DoseMode, Line, Sex, TbwMethod
 from osmodose.science.units import Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
@@ -135,6 +136,8 @@ class CheckRequest(BaseModel):
     """Total-body-water method; None takes the formulary's default."""
     entered: dict[str, str] = Field(default_factory=dict)
     """Each field as the user typed it."""
+    data_in: DataIn | None = None
+    """The labs file the case was read from, with each value's origin and age; None when all was typed."""
 
 
 def given_fields(fields: dict[str, object]) -> dict[str, object]:
@@ -149,14 +152,18 @@ def need(given: dict[str, object], name: str) -> object:
     return given[name]
 
 
-def parse_check_request(fields: dict[str, object], dose_mode: DoseMode | None = None) -> CheckRequest:
+def parse_check_request(
+    fields: dict[str, object], dose_mode: DoseMode | None = None, data_in: DataIn | None = None
+) -> CheckRequest:
     """Build a CheckRequest from typed text; raises InputError on the first bad field.
 
     Keys of `fields` are the field table's (`fields.FIELDS`): the patient, the
-    labs and the order.  Empty or None values are "not given".
+    labs and the order.  Empty or None values are "not given".  Values read from
+    a labs file (`osmodose.datain`) are quantities, with `data_in` saying where
+    each came from.
     """
     given = given_fields(fields)
-    entered = {k: str(v) for k, v in given.items()}
+    entered = {k: _entered(k, v, data_in) for k, v in given.items()}
     weight = read("weight", need(given, "weight"))
     age = read("age", need(given, "age"))
     sex = SEX.read("sex", need(given, "sex"))
@@ -172,7 +179,16 @@ def parse_check_request(fields: dict[str, object], dose_mode: DoseMode | None = 
         line=line,
         tbw_method=tbw_method,
         entered=entered,
+        data_in=data_in,
     )
+
+
+def _entered(key: str, value: object, data_in: DataIn | None) -> str:
+    """What to record as entered: the text typed, or a file's value as the file wrote it."""
+    origin = data_in.origin(key) if data_in is not None else None
+    if origin is not None and origin.source == "file":
+        return origin.shown
+    return str(value)
 
 
 def parse_labs(fields: dict[str, object]) -> Labs:

@@ -101,6 +101,8 @@ class Cases:
     dose_per_kg: np.ndarray
     duration_min: np.ndarray
     use_watson: np.ndarray
+    #: Hours from the sodium's draw to the check, where a labs file gave the time; None or NaN: not known.
+    sodium_age_h: np.ndarray | None = None
 
     def __len__(self) -> int:
         return int(np.size(self.male))

@@ -6,6 +6,9 @@ printout say the same thing in the same words.
 
 from __future__ import annotations
 
+from datetime import datetime
+
+from osmodose.case.provenance import DataIn
 from osmodose.check.results import CheckResult
 
 STATUS_MARK = {"ok": "[OK]", "warn": "[WARN]", "refuse": "[REFUSE]"}
@@ -92,9 +95,40 @@ def render_text(result: CheckResult) -> str:
     if result.notes:
         lines.append("notes:")
         lines += [f"  - {note}" for note in result.notes]
+    if result.labs_file is not None:
+        lines += ["", *labs_file_lines(result.labs_file)]
     lines += ["", result.caution]
     return "\n".join(lines) + "\n"
 
 
 def _method(method: str) -> str:
     return "Watson formula" if method == "watson" else "Adrogue-Madias fraction of weight"
+
+
+def _time(moment: object) -> str:
+    if not isinstance(moment, datetime):
+        return ""
+    offset = moment.strftime("%z")
+    return moment.strftime("%Y-%m-%d %H:%M ") + (offset[:-2] + ":" + offset[-2:] if offset else "")
+
+
+def labs_file_lines(data_in: DataIn) -> list[str]:
+    """Where each value came from: the file's resource, drawn when and how long before the check, or typed."""
+    lines = [f"labs file: {data_in.path} sha256 {data_in.sha256}", f"  ages at {_time(data_in.at)}"]
+    for origin in data_in.fields:
+        if origin.source == "typed":
+            text = f"typed {origin.shown}" + (f", replaces the file's {origin.replaced}" if origin.replaced else "")
+        else:
+            text = f"{origin.shown} from {origin.resource}"
+            if origin.loinc:
+                text += f" (LOINC {origin.loinc})"
+            if origin.effective_time is not None:
+                drawn = origin.effective_time.date().isoformat() if origin.date_only else _time(origin.effective_time)
+                text += f", {drawn}"
+                if origin.age_h is not None:
+                    text += f", {origin.age_h:.1f} h old" if not origin.date_only else ""
+        lines.append(f"  {origin.field}: {text}")
+    if data_in.ignored:
+        lines.append("  not used:")
+        lines += [f"    {line}" for line in data_in.ignored]
+    return lines

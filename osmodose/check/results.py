@@ -11,6 +11,7 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
+from osmodose.case.provenance import DataIn
 from osmodose.caution import CAUTION
 from osmodose.formulary.model import Formulary
 
@@ -112,6 +113,8 @@ class CheckResult(BaseModel):
     projected_sodium_rise_mmol_l: float | None
     program_version: str
     caution: str = CAUTION
+    labs_file: DataIn | None = None
+    """The labs file the case was read from: each value's resource, effective time and age; null when typed."""
 
     def to_json(self) -> dict[str, Any]:
         """The public JSON object (plain types only)."""

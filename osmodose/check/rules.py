@@ -84,6 +84,7 @@ class Batch:
     fall: np.ndarray
     osmolar_gap: np.ndarray
     agent_osmolarity: np.ndarray
+    sodium_age_h: np.ndarray
     # Conditions.
     always: np.ndarray
     has_agent: np.ndarray
@@ -121,6 +122,9 @@ class Batch:
             fall=-rise,
             osmolar_gap=figures.osmolar_gap,
             agent_osmolarity=agent.osmolarity_mosm_l,
+            sodium_age_h=(
+                np.full(np.shape(sodium), np.nan) if cases.sodium_age_h is None else np.asarray(cases.sodium_age_h)
+            ),
             always=np.ones(np.shape(has_agent), dtype=bool),
             has_agent=has_agent,
             not_lowering=not_lowering,
@@ -289,6 +293,13 @@ def _dose_rule(figure: str, what: str, kind: DoseKind) -> Rule:
     )
 
 
+def _sodium_too_old(value: float, limit: float, _severity: str) -> str:
+    return (
+        f"the sodium was drawn {shown(value, limit)} h before this check, more than the {limit:g} h limit: "
+        "re-measure before dosing"
+    )
+
+
 def _negative_gap_limit(batch: Batch) -> float:
     allowed = batch.limits.osmolar_gap_negative_warn
     return np.nan if allowed is None else -float(allowed)
@@ -410,6 +421,17 @@ RULES: tuple[Rule, ...] = (
         "peripheral_osmolarity_warn",
         None,
         "other_peripheral",
+    ),
+    # Judged only where a labs file gave the sodium's effective time (typed labs carry none).
+    Rule(
+        "sodium-too-old",
+        "sodium_age_h",
+        "sodium age",
+        "h",
+        "lab_max_age",
+        None,
+        "always",
+        describe=_sodium_too_old,
     ),
 )
 

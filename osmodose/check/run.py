@@ -87,6 +87,7 @@ def cases_from_request(request: CheckRequest, agent_index: int, use_watson: bool
         dose_per_kg=np.array([bool(dose and dose.per_kg)]),
         duration_min=np.array([_nan(dose.duration_min if dose else None)]),
         use_watson=np.array([use_watson]),
+        sodium_age_h=col(request.data_in.age_h("sodium") if request.data_in is not None else None),
     )
 
 
@@ -152,6 +153,7 @@ def run_check(request: CheckRequest, formulary: Formulary) -> CheckResult:
         projected_sodium_mmol_l=_opt(figures.projected_sodium[0]),
         projected_sodium_rise_mmol_l=_opt(figures.projected_rise[0]),
         program_version=__version__,
+        labs_file=request.data_in,
     )
 
 

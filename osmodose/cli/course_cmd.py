@@ -42,8 +42,23 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     new.set_defaults(handler=run_new)
 
     lab = _sub(sub, "add-lab", "add serum labs drawn at one time", formulary=False)
-    add_field_options(lab, ("time", *LAB_KEYS), required=("time", "sodium"))
-    lab.set_defaults(handler=run_add_lab)
+    add_field_options(lab, ("time", *LAB_KEYS))
+    lab.add_argument(
+        "--labs",
+        metavar="BUNDLE",
+        default=None,
+        help="take the labs from an HL7 FHIR R4 file: the newest final values, at the sodium's time "
+        "(typed values win; docs/data-in.md)",
+    )
+    lab.set_defaults(handler=run_add_lab, required_unless_labs=(lab, ("time", "sodium")))
+
+    imported = _sub(
+        sub,
+        "import",
+        "add every final lab, reading and dose of an HL7 FHIR R4 file (Bundle or NDJSON) not in the episode yet",
+    )
+    imported.add_argument("bundle", metavar="BUNDLE", help="the FHIR file (JSON Bundle, one resource, or NDJSON)")
+    imported.set_defaults(handler=run_import)
 
     dose = _sub(sub, "add-dose", "add a dose given (the agent must be in the formulary)")
     add_field_options(
@@ -93,12 +108,44 @@ def _added(args: argparse.Namespace, what: str, time: datetime, count: int, kind
 
 
 def run_add_lab(args: argparse.Namespace) -> int:
+    from osmodose.cli.labs_args import require_unless_labs
     from osmodose.course.entries import parse_lab
     from osmodose.course.store import update_episode
 
-    entry = parse_lab(case_fields(args, ("time", *LAB_KEYS)))
+    require_unless_labs(args)
+    fields = case_fields(args, ("time", *LAB_KEYS))
+    if args.labs:
+        from osmodose.course.importing import lab_from_file
+
+        entry, lines = lab_from_file(fields, args.labs, datetime.now().astimezone())
+        for line in lines:
+            print(f"not used: {line}")
+    else:
+        entry = parse_lab(fields)
     changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
     return _added(args, "lab", entry.time, len(changed.labs), "lab")
+
+
+def run_import(args: argparse.Namespace) -> int:
+    from osmodose.course.importing import import_file
+    from osmodose.course.store import read_episode, save_episode
+    from osmodose.datain import read_labs_file
+
+    formulary = formulary_from_args(args)
+    episode, digest = read_episode(args.file)
+    file = read_labs_file(args.bundle)
+    changed, report = import_file(episode, file, formulary)
+    if report.added:  # nothing new: the file is not even rewritten
+        save_episode(changed, args.file, expect_sha256=digest)
+    for line in report.lines:
+        print(f"not imported: {line}")
+    print(
+        f"imported from {args.bundle} into {args.file}: {report.labs} lab entr{'y' if report.labs == 1 else 'ies'}, "
+        f"{report.readings} reading{'' if report.readings == 1 else 's'}, "
+        f"{report.doses} dose{'' if report.doses == 1 else 's'}"
+        + (f"; {report.already} already in the episode" if report.already else "")
+    )
+    return OK
 
 
 def run_add_dose(args: argparse.Namespace) -> int:

@@ -31,13 +31,26 @@ def add_field_options(
         parser.add_argument(field.option, required=key in must, help=text, metavar=metavar)
 
 
-def add_case_options(parser: argparse.ArgumentParser, order: bool = True) -> None:
-    """Add the patient, lab and (optionally) order options; required as a check requires them."""
+def add_case_options(parser: argparse.ArgumentParser, order: bool = True, labs: bool = False) -> None:
+    """Add the patient, lab and (optionally) order options; required as a check requires them.
+
+    With `labs`, the case may be read from a labs file too (`labs_args`): the
+    patient and lab fields are then required only when no file is given.
+    """
+    unless_labs: list[str] = []
     for group, title in CASE_GROUPS:
         if group == "order" and not order:
             continue
         names = keys(group)
-        add_field_options(parser.add_argument_group(title), names, [k for k in names if FIELDS[k].required])
+        must = [k for k in names if FIELDS[k].required]
+        if labs and group in ("patient", "labs"):
+            unless_labs += must
+            must = []
+        add_field_options(parser.add_argument_group(title), names, must)
+    if labs:
+        from osmodose.cli.labs_args import add_labs_options  # noqa: PLC0415 (cheap; kept beside its use)
+
+        add_labs_options(parser, unless_labs)
 
 
 def case_fields(args: argparse.Namespace, names: Iterable[str] | None = None) -> dict[str, object]:

@@ -33,7 +33,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         description=HELP + ". Decision support only: verify against local protocol and licensed clinical judgement.",
     )
     add_formulary_option(parser)
-    add_case_options(parser, order=False)
+    add_case_options(parser, order=False, labs=True)
     add_field_options(
         parser.add_argument_group("order as written"),
         WRITTEN_ORDER_KEYS,
@@ -65,10 +65,12 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from osmodose.case.inputs import parse_check_request  # noqa: PLC0415 (kept out of start-up)
+    from osmodose.cli.labs_args import with_labs  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
 
     formulary = formulary_from_args(args)
-    request = parse_check_request(case_fields(args, keys("patient", "labs")))
+    fields, data_in = with_labs(args, case_fields(args, keys("patient", "labs")), keys("patient", "labs"))
+    request = parse_check_request(fields, data_in=data_in)
     order = parse_order(case_fields(args, WRITTEN_ORDER_KEYS))
     acceptances = [parse_acceptance(text) for text in args.accept]
     record = verify_order(request, order, formulary, acceptances, args.initials)

@@ -13,33 +13,14 @@ itself is never ambiguous.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from datetime import datetime
 
 from osmodose.case.fields import LAB_FIELDS, LAB_KEYS, keys, read
 from osmodose.case.inputs import given_fields, need, parse_labs
+from osmodose.case.times import parse_time
 from osmodose.course.episode import DoseEntry, EpisodePatient, LabEntry, ReadingEntry
 from osmodose.errors import InputError
 from osmodose.formulary.model import Formulary
 from osmodose.science.choices import SEX, TBW_METHOD
-
-TIME_ACCEPTED = "ISO 8601 such as 2026-12-01T08:30+00:00 (no offset = this computer's local time), or now"
-
-
-def parse_time(raw: object, field: str = "time", now: datetime | None = None) -> datetime:
-    """An aware datetime from typed text; naive text is local time, stored with its offset."""
-    if isinstance(raw, datetime):
-        moment = raw
-    else:
-        text = str(raw).strip() if raw is not None else ""
-        if not text:
-            raise InputError(field, None, "is required", TIME_ACCEPTED)
-        if text.lower() == "now":
-            return (now or datetime.now()).astimezone()
-        try:
-            moment = datetime.fromisoformat(text)
-        except ValueError:
-            raise InputError(field, raw, "is not a time osmodose can read", TIME_ACCEPTED) from None
-    return moment if moment.tzinfo is not None else moment.astimezone()
 
 
 def parse_patient(fields: Mapping[str, object]) -> EpisodePatient:

@@ -26,7 +26,7 @@ from osmodose.science.choices import Sex, TbwMethod
 from osmodose.science.formulas import cerebral_perfusion_pressure
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
-FORMAT_VERSION: Literal[2] = 2
+FORMAT_VERSION: Literal[3] = 3
 
 _FILE = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
@@ -104,6 +104,13 @@ def _lab_entry_fields() -> dict[str, Any]:
             )
         )
     fields["entered"] = (dict[str, str], Field(default_factory=dict, description="Each value as the user typed it."))
+    fields["sources"] = (
+        dict[str, str],
+        Field(
+            default_factory=dict,
+            description="The FHIR resource each value was imported from (Observation/id), by field key.",
+        ),
+    )
     return fields
 
 
@@ -131,6 +138,8 @@ class DoseEntry(BaseModel):
     """Volume given, mL."""
     duration_min: Duration | None = None
     """Infusion time in minutes; none for a push."""
+    source: str | None = None
+    """The FHIR MedicationAdministration it was imported from (MedicationAdministration/id); none if typed."""
 
 
 class ReadingEntry(BaseModel):
@@ -144,6 +153,8 @@ class ReadingEntry(BaseModel):
     """Mean arterial pressure, mmHg."""
     icp_mmhg: Icp
     """Intracranial pressure, mmHg."""
+    sources: dict[str, str] = Field(default_factory=dict)
+    """The FHIR Observation each pressure was imported from, by field key ("map", "icp"); empty if typed."""
 
     @property
     def cpp_mmhg(self) -> float:
@@ -168,7 +179,7 @@ class Episode(BaseModel):
 
     model_config = _FILE
 
-    format_version: Literal[2] = FORMAT_VERSION
+    format_version: Literal[3] = FORMAT_VERSION
     """Format of this file; older versions are migrated when read."""
     patient: EpisodePatient
     """The patient."""

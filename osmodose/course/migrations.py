@@ -11,6 +11,8 @@ Version history:
   UTC written without an offset, no bedside readings.
 * 2: unit-suffixed keys (`sodium_mmol_l`, `agent_id`), every time with its UTC
   offset, bedside readings (MAP, ICP), patient label and TBW method.
+* 3: entries may name the FHIR resource they were imported from (`sources` on
+  labs and readings, `source` on doses), so a repeated import adds nothing twice.
 """
 
 from __future__ import annotations
@@ -72,8 +74,13 @@ def v1_to_v2(data: Data) -> Data:
     return {**rest, "format_version": 2, "labs": labs, "doses": doses, "readings": []}
 
 
+def v2_to_v3(data: Data) -> Data:
+    """Nothing moves: version 3 only adds optional keys (an entry's FHIR source)."""
+    return {**data, "format_version": 3}
+
+
 #: version n -> the step from n to n+1
-MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2}
+MIGRATIONS: dict[int, Callable[[Data], Data]] = {1: v1_to_v2, 2: v2_to_v3}
 
 
 def migrate(data: Data, version: int) -> Data:

@@ -166,6 +166,9 @@ def _one_agent(agent_id: str, old: Agent, old_row: AgentRow, new: Agent, new_row
     if old.potassium_mmol_l != new.potassium_mmol_l:
         was, now = f"{old.potassium_mmol_l:g}", f"{new.potassium_mmol_l:g}"
         add("potassium", was, now, f"potassium {was} mmol/L → {now} mmol/L")
+    if old.codes != new.codes:
+        was, now = ", ".join(old.codes) or "none", ", ".join(new.codes) or "none"
+        add("codes", was, now, f"medication codes {was} → {now}")
     if old.route != new.route:
         flag = ROUTE_NOW_PERIPHERAL if new.route == "peripheral" else ROUTE_NOW_CENTRAL
         add("route", before["route"], after["route"], f"route {before['route']} → {after['route']}: {flag}")

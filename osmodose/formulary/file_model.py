@@ -97,6 +97,9 @@ class AgentEntry(BaseModel):
     """Potassium content as labelled, e.g. "4 mmol/L"; counts in the sodium projection."""
     osmolarity: str | None = None
     """Theoretical osmolarity as labelled, e.g. "273 mOsm/L"; checked against the concentration."""
+    codes: list[str] = Field(default_factory=list)
+    """Medication codes the hospital's records give this stock, "system|code" (e.g. "http://example.org/stock|NACL3"):
+    `course import` makes a FHIR MedicationAdministration with one of them a dose of this agent."""
 
 
 class FormularyFile(BaseModel):

@@ -146,11 +146,23 @@ def load_formulary(path: Path | str) -> Formulary:
 def _resolve_agents(entries: list[tuple[int, AgentEntry]], out: _Collector) -> tuple[tuple[int, Agent], ...]:
     agents: list[tuple[int, Agent]] = []
     seen: dict[str, int] = {}
+    coded: dict[str, int] = {}
     for index, entry in entries:
         where = f"agents[{index}]"
         if entry.id in seen:
             out.add(f"{where}.id", f"{entry.id!r} is already the id of agents[{seen[entry.id]}]")
         seen.setdefault(entry.id, index)
+        for number, code in enumerate(entry.codes, start=1):
+            system, bar, value = code.partition("|")
+            if not (bar and system.strip() and value.strip()) or "|" in value or code != code.strip():
+                out.add(
+                    f"{where}.codes[{number}]", f'{code!r} is not "system|code" (e.g. "http://example.org/stock|NACL3")'
+                )
+            elif code in coded and coded[code] != index:
+                out.add(
+                    f"{where}.codes[{number}]", f"{code!r} already names agents[{coded[code]}]: one code, one agent"
+                )
+            coded.setdefault(code, index)
         agent = _resolve_agent(entry, where, out)
         if agent is not None:
             agents.append((index, agent))
@@ -268,6 +280,7 @@ def _resolve_agent(entry: AgentEntry, where: str, out: _Collector) -> Agent | No
         dose_warn=dose_warn,
         dose_refuse=dose_refuse,
         max_rate_ml_h=max_rate,
+        codes=tuple(entry.codes),
     )
 
 

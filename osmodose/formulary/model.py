@@ -49,6 +49,8 @@ class Agent(BaseModel):
     dose_warn: DoseLimit | None = None
     dose_refuse: DoseLimit | None = None
     max_rate_ml_h: float | None = None
+    codes: tuple[str, ...] = ()
+    """Medication codes ("system|code") that name this stock in the hospital's records."""
 
     @property
     def cations_mmol_l(self) -> float:
@@ -81,3 +83,10 @@ class Formulary(BaseModel):
                 return agent
         known = ", ".join(a.id for a in self.agents)
         raise InputError(field, agent_id, "is not an agent of this formulary", f"one of: {known}")
+
+    def agent_for_codes(self, codes: tuple[str, ...] | list[str]) -> Agent | None:
+        """The agent one of whose `codes` ("system|code") is among `codes`; None when none is mapped."""
+        for agent in self.agents:
+            if any(code in agent.codes for code in codes):
+                return agent
+        return None

@@ -62,6 +62,7 @@ _EXAMPLE_AGENTS = (
         ("dose_refuse", '"1 mL/kg"     # your protocol'),
         ("max_rate", '"180 mL/h"        # your protocol'),
         ("sodium", '"4 mEq/mL"'),
+        ("codes", '["http://example.org/stock-codes|NACL23.4-30"]  # your records\' codes, for course import'),
     ),
     (
         ("id", '"mannitol-20"'),

@@ -76,6 +76,8 @@ _LEADING_NUMBER = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
 _EXPONENT = re.compile(r"(?:\*\*|\^)\s*[+-]?\d+")
 _POWER = re.compile(r"\*\*|\^")
 _SMALL_POWER = re.compile(r"(?:\*\*|\^)\s*[+-]?\d{1,2}(?![\d.(])")
+#: A UCUM annotation after a unit, "{H2O}" in "mOsm/kg{H2O}": a note, never a unit (UCUM 2.2, section 2.6).
+_ANNOTATION = re.compile(r"(?<=[A-Za-z\]\)%])\{[!-z|~]*\}")
 
 # The errors pint's parser can raise for text that is not a unit expression.  Its
 # evaluator asserts on a dangling operator ("1 mL/", "4-", "5 //"), and evaluates
@@ -157,6 +159,54 @@ def _parse_text(field: str, raw: str, default_unit: str, hint: str, percent_is_w
         raise InputError(field, "", "is empty", f"a number in {hint}")
     if _NUMBER.match(text):
         return Q_(float(text), default_unit)
+    try:
+        return _parse_spelling(field, raw, _ANNOTATION.sub("", text), default_unit, hint, percent_is_wv)
+    except InputError:
+        quantity = _parse_ucum(text)
+        if quantity is None:
+            raise
+        return quantity
+
+
+def _parse_ucum(text: str) -> pint.Quantity | None:
+    """A number and a UCUM code ("140 meq/L", "290 mosm/kg{H2O}", "176 [lb_av]"), or None.
+
+    Tried only when the text is not a spelling osmodose read before UCUM, so
+    every such spelling reads exactly as it did, and the UCUM library is loaded
+    only for text that needs it.
+    """
+    number = _LEADING_NUMBER.match(text)
+    if number is None:
+        return None
+    code = text[number.end() :].strip()
+    from osmodose.science.ucum import UcumError, ucum_unit  # noqa: PLC0415 (the library loads on first use)
+
+    try:
+        unit = ucum_unit(code)
+    except UcumError:
+        return None
+    result: pint.Quantity = float(number.group()) * unit
+    return result
+
+
+def one(unit: str) -> pint.Quantity:
+    """One of `unit`, written as pint reads it or as a UCUM code ("meq/L", "mosm/kg{H2O}").
+
+    For units written by a file's header or by osmodose itself (never a
+    user's free text): the audit's column units, `fields.conversion`.
+    """
+    try:
+        return Q_(1.0, _ANNOTATION.sub("", unit))
+    except _PARSE_ERRORS:
+        from osmodose.science.ucum import ucum_unit  # noqa: PLC0415 (the library loads on first use)
+
+        return ucum_unit(unit)
+
+
+def _parse_spelling(
+    field: str, raw: str, text: str, default_unit: str, hint: str, percent_is_wv: bool
+) -> pint.Quantity:
+    """The spellings read before UCUM: a number and a unit pint reads ("176 lb", "126mg/dL", "3% w/v")."""
     _check_shape(field, raw, text, default_unit, hint)
     text = _PERCENT_WV.sub(" percent_wv", text)
     if percent_is_wv:

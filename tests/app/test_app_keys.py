@@ -33,13 +33,16 @@ def mannitol_summary(demo: Formulary) -> str:
 
 
 @sync
-async def test_every_action_is_a_described_key_in_the_footer() -> None:
+async def test_every_action_is_a_described_key_in_the_footer_or_left_out_on_purpose() -> None:
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
         await pilot.pause()
         shown = {(k.key, k.description) for k in app.screen.query(FooterKey)}
-        assert {(b.key, b.description) for b in ACTIONS} <= shown
-        assert all(b.show and b.description for b in ACTIONS)
+        # A key a screen binds again with show=False is left out of that footer to fit 80 columns.
+        quiet = {b.key for b in MainScreen.BINDINGS if isinstance(b, Binding) and not b.show}
+        assert quiet == {"ctrl+t"}
+        assert {(b.key, b.description) for b in ACTIONS if b.key not in quiet} <= shown
+        assert all(b.description for b in ACTIONS)
 
 
 @sync

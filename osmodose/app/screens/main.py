@@ -9,6 +9,7 @@ core, as `osmodose check` reads it) and shown from `view.show`.
 
 from __future__ import annotations
 
+from datetime import datetime
 from typing import TYPE_CHECKING, ClassVar
 
 from textual.app import ComposeResult
@@ -27,7 +28,8 @@ from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
 
 if TYPE_CHECKING:
-    from osmodose.app.view import Outcome
+    from osmodose.app.view import LoadedLabs, Outcome
+    from osmodose.datain import FhirFile
     from osmodose.formulary.model import Formulary
 
 PANELS = ("patient", "labs", "order")
@@ -45,6 +47,7 @@ class MainScreen(Screen[None]):
         self.demo = demo
         self.loading_text = loading
         self.outcome: Outcome | None = None
+        self.labs: LoadedLabs | None = None
         self.shown: Shown = loading_shown(loading)
         # Every box of the form, built once: read and marked on each key without a query.
         self.fields = {spec.key: FormField(spec) for spec in FIELDS}
@@ -69,6 +72,9 @@ class MainScreen(Screen[None]):
                 notes = LinesPanel("notes", "notes", lines=tuple(((note, "muted"),) for note in shown.notes))
                 notes.display = bool(shown.notes)
                 yield notes
+                labs_file = LinesPanel("labs-file", "labs file")
+                labs_file.display = False
+                yield labs_file
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
 
@@ -114,7 +120,7 @@ class MainScreen(Screen[None]):
         from osmodose.app import view  # noqa: PLC0415 (imported by the loader thread before this runs)
 
         values = self.values()
-        self.outcome = view.evaluate(values, self.formulary)
+        self.outcome = view.evaluate(values, self.formulary, self.labs)
         self.draw(view.show(self.outcome, values))
 
     def draw(self, shown: Shown) -> None:
@@ -134,6 +140,10 @@ class MainScreen(Screen[None]):
         notes.show(tuple(((note, "muted"),) for note in shown.notes))
         if notes.display != bool(shown.notes):
             notes.display = bool(shown.notes)
+        labs_file = self.query_one("#labs-file", LinesPanel)
+        labs_file.show(tuple(((line, "muted"),) for line in shown.labs_file))
+        if labs_file.display != bool(shown.labs_file):
+            labs_file.display = bool(shown.labs_file)
         results = self.query_one("#results")
         for state in STATES:
             results.set_class(shown.state == state, f"-{state}")
@@ -166,7 +176,34 @@ class MainScreen(Screen[None]):
             self.notify("Summary copied to the terminal's clipboard (where the terminal allows it).")
 
     def action_new_case(self) -> None:
+        self.labs = None
         for f in self.fields.values():
             f.reset()
         self.recompute()
         self.field("weight").control.focus()
+
+    def action_labs_file(self) -> None:
+        from osmodose.app.screens.labs_file import LabsFileScreen  # noqa: PLC0415 (opened when first asked for)
+
+        if self.formulary is None:
+            self.notify("The formulary is still being read: no labs file yet.", severity="error")
+            return
+        self.app.push_screen(LabsFileScreen(), self._labs_read)
+
+    def _labs_read(self, file: FhirFile | None) -> None:
+        """Fill the empty boxes from the file (typed ones stay, and win), then recompute."""
+        from osmodose.app.view import LoadedLabs, fill_texts  # noqa: PLC0415 (loaded with the engine)
+        from osmodose.errors import OsmodoseError  # noqa: PLC0415
+
+        if file is None:
+            return
+        try:
+            texts = fill_texts(file, self.values(), datetime.now().astimezone())
+        except OsmodoseError as error:
+            self.notify(str(error), severity="error", timeout=15)
+            return
+        for key, text in texts.items():
+            self.field(key).set_value(text)
+        self.labs = LoadedLabs(file, texts)
+        self.recompute()
+        self.notify(f"Labs read from {file.path}: {len(texts)} boxes filled; typed values kept.")

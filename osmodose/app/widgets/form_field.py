@@ -67,6 +67,10 @@ class FormField(Container):
             return control.value
         return "" if control.is_blank() else str(control.value)
 
+    def set_value(self, text: str) -> None:
+        """Put `text` in the box (a value read from a file)."""
+        self.control.value = text
+
     def reset(self) -> None:
         control = self.control
         if isinstance(control, Input):
