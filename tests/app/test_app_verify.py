@@ -6,10 +6,11 @@ import json
 from pathlib import Path
 
 import pytest
-from textual.widgets import Checkbox, Static
+from textual.widgets import Checkbox, Input, Static
 from textual.widgets._footer import FooterKey
 
 from osmodose.app.screens.main import MainScreen
+from osmodose.app.screens.save import SaveScreen
 from osmodose.app.screens.verify import NOT_SAVED_YET, VerifyScreen
 from osmodose.cli.main import main
 from osmodose.verify import read_log, verify_chain
@@ -181,3 +182,31 @@ async def test_the_verification_keys_are_in_its_footer() -> None:
                 ("f1", "help")} <= keys  # fmt: skip
         # At 80 columns f3 and f4 stay out of this footer; they still work, and help (f1) lists them.
         assert not {"f3", "f4"} & {key for key, _ in keys}
+
+
+@sync
+async def test_the_saved_records_sha256_is_copied_and_the_record_printed(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    log = tmp_path / "app.jsonl"
+    monkeypatch.setenv("OSMODOSE_LOG", str(log))
+    printed = tmp_path / "record.txt"
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB")
+        await pilot.press("ctrl+y")  # nothing saved yet: nothing to copy
+        assert app.clipboard == ""
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await pilot.press("ctrl+y")
+        [stored] = read_log(log).entries
+        assert app.clipboard == stored.sha256
+        await pilot.press("ctrl+p")
+        await pilot.pause()
+        assert isinstance(app.screen, SaveScreen)
+        app.screen.query_one("#save-path", Input).value = str(printed)
+        await pilot.press("enter")
+        await pilot.pause()
+    text = printed.read_text(encoding="utf-8")
+    assert text.startswith(f"✔ SAVED as record 1 in {log}\nsha256 {stored.sha256}\n")
+    assert stored.entry.record.render_text() in text
