@@ -13,28 +13,28 @@ from textual.binding import Binding, BindingType
 
 #: Keys that work on every screen (the app's own).
 EVERYWHERE: list[BindingType] = [
-    Binding("f1", "help", "help"),
-    Binding("f2", "formulary", "formulary"),
-    Binding("f3", "verify", "verify"),
-    Binding("f4", "course", "course"),
-    Binding("ctrl+t", "toggle_theme", "dark"),
+    Binding("f1", "help", "help", tooltip="these keys, and each figure with its formula"),
+    Binding("f2", "formulary", "formulary", tooltip="the formulary in force: agents and limits"),
+    Binding("f3", "verify", "verify", tooltip="the verification screen (an order as written), and back"),
+    Binding("f4", "course", "course", tooltip="the course screen (an episode file), and back"),
+    Binding("ctrl+t", "toggle_theme", "dark", tooltip="dark or light theme"),
     Binding("ctrl+q", "quit", "quit"),
 ]
 CHECK: list[BindingType] = [
-    Binding("ctrl+s", "save", "save"),
-    Binding("ctrl+y", "copy", "copy"),
-    Binding("ctrl+n", "new_case", "new"),
-    Binding("ctrl+l", "labs_file", "labs"),
+    Binding("ctrl+s", "save", "save", tooltip="save the summary `osmodose check` prints to a file"),
+    Binding("ctrl+y", "copy", "copy", tooltip="copy that summary to the clipboard"),
+    Binding("ctrl+n", "new_case", "new", tooltip="empty the form"),
+    Binding("ctrl+l", "labs_file", "labs", tooltip="read labs from an HL7 FHIR file into the empty boxes"),
     # At 80 columns the check screen's footer leaves out the theme key; it works, and help (f1) lists it.
-    Binding("ctrl+t", "app.toggle_theme", "dark", show=False),
+    Binding("ctrl+t", "app.toggle_theme", "dark", show=False, tooltip="as everywhere; left out of this footer"),
 ]
 # Screen keys come first in the footer, then the app's: at 80 columns the verification and course
 # screens leave two of the app's keys out of their footer (show=False), still working and in help (f1).
 VERIFY: list[BindingType] = [
-    Binding("ctrl+s", "save", "save"),
-    Binding("ctrl+y", "copy_sha", "copy sha256"),
-    Binding("ctrl+p", "print", "print"),
-    Binding("escape", "back", "back"),
+    Binding("ctrl+s", "save", "save", tooltip="append this record to the verification log"),
+    Binding("ctrl+y", "copy_sha", "copy sha256", tooltip="copy the saved record's SHA-256, to note in the chart"),
+    Binding("ctrl+p", "print", "print", tooltip="save the record as printable text"),
+    Binding("escape", "back", "back", tooltip="back to the check screen (what is typed here stays)"),
     Binding("f3", "back", "back to the check", show=False),
     Binding("f4", "app.course", "course", show=False),
 ]

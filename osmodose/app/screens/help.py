@@ -28,6 +28,12 @@ def key_rows() -> list[tuple[str, str, str]]:
     return rows + list(keys.FORM_KEYS)
 
 
+def _said(bindings: list[BindingType], key: str, description: str) -> str:
+    """The footer's word, and what the key does where it says more ("save: append this record to ...")."""
+    tooltip = next((b.tooltip for b in bindings if isinstance(b, Binding) and b.key == key and b.tooltip), "")
+    return f"{description}: {tooltip}" if tooltip else description
+
+
 def _table(rows: list[tuple[str, str]]) -> Table:
     """Rows of (left, right): the left column bold, a long right side wrapping under itself."""
     table = Table.grid(padding=(0, 1))
@@ -52,9 +58,10 @@ class HelpScreen(Screen[None]):
     def compose(self) -> ComposeResult:
         yield FormularyBar(self.formulary, self.demo)
         with VerticalScroll(id="help-body"):
+            bindings = dict(keys.BY_SCREEN)
             sections: dict[str, list[tuple[str, str]]] = {}
             for where, key, text in self.keys:
-                sections.setdefault(where, []).append((key, text))
+                sections.setdefault(where, []).append((key, _said(bindings.get(where, []), key, text)))
             for where, rows in sections.items():
                 yield Static(f"keys: {where}", classes="help-title", markup=False)
                 yield Static(_table(rows), classes="help-table")
