@@ -14,6 +14,7 @@ PACKAGE = Path(__file__).resolve().parent.parent / "osmodose"
 
 LAYER = {
     "errors": 0,
+    "caution": 0,
     "science": 1,
     "storage": 1,
     "formulary": 2,

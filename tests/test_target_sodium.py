@@ -15,7 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from osmodose.app.view import DOSE_MODES, asked_text, evaluate
+from osmodose.app.form_view import DOSE_MODES
+from osmodose.app.view import asked_text, evaluate
 from osmodose.case.fields import FIELDS
 from osmodose.cli.main import main
 from osmodose.formulary import Formulary
@@ -97,9 +98,11 @@ def test_the_dose_styles_and_the_app_select_offer_a_target_sodium() -> None:
 def test_the_app_names_an_amount_error_by_the_style_it_is_asked_as(demo: Formulary) -> None:
     form = {"weight": "70", "age": "45", "sex": "male", "sodium": "120", "agent": "nacl-3"}
     outcome = evaluate({**form, "dose-mode": "target-rise", "amount": "134"}, demo)
-    assert (outcome.field, str(outcome.error)) == (
-        "amount",
-        "target Na change: 134 is outside the plausible range (accepted: -30 to 30 mmol/L)",
+    # The screen names the amount by the style it is asked as, and says how to aim at a level.
+    assert outcome.field == "amount"
+    assert outcome.message == (
+        "target Na change: 134 is outside the plausible range (accepted: -30 to 30 mmol/L); "
+        "to aim at a sodium level, ask as target Na"
     )
     outcome = evaluate({**form, "dose-mode": "target-sodium", "amount": "134"}, demo)
     assert outcome.result is not None and outcome.result.projected_sodium_mmol_l == pytest.approx(134.0)
@@ -107,7 +110,7 @@ def test_the_app_names_an_amount_error_by_the_style_it_is_asked_as(demo: Formula
     outcome = evaluate({**form, "dose-mode": "target-rise", "amount": "6"}, demo)
     assert outcome.result is not None and asked_text(outcome.result) == "target Na change 6"
     outcome = evaluate({**form, "dose-mode": "target-sodium", "amount": "120"}, demo)
-    assert str(outcome.error) == (
+    assert outcome.message == (
         "target Na: 120 is the serum sodium already (120 mmol/L) (accepted: a target other than 120 mmol/L)"
     )
 

@@ -15,11 +15,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
-from osmodose.app.view import SYMBOL, FieldSpec, shown_names, spec_of
+from osmodose.app.form_view import SYMBOL, FieldSpec, shown_names, spec_of
 from osmodose.case.fields import FIELDS as CASE_FIELDS
 from osmodose.case.fields import LAB_KEYS
 from osmodose.course.entries import OUTPUT_KEYS, parse_dose_entry, parse_lab, parse_output, parse_reading
 from osmodose.course.episode import DoseEntry, Episode, LabEntry, OutputEntry, ReadingEntry
+from osmodose.course.findings import when
 from osmodose.course.marks import LEGEND, TimelineRow
 from osmodose.course.plan import plan_dose
 from osmodose.course.report import (
@@ -190,6 +191,27 @@ def finding_rows(state: CourseState) -> list[tuple[str, str]]:
     if not findings:
         return [("ok", f"{SYMBOL['ok']} OK: no limit crossed")]
     return [(x.severity, f"{SYMBOL[x.severity]} {x.severity.upper()} {x.code}: {x.message}") for x in findings]
+
+
+def row_marks(state: CourseState) -> list[tuple[str, str]]:
+    """(severity, words) per timeline row: the course findings about that entry's time, by word and code.
+
+    The core judges (`course.findings`); this only puts each finding beside
+    the row of the entry it is about, so a value past a limit reads as such
+    in the timeline itself ("✖ REFUSE osmolality-high"), not only in the
+    findings tab.  ("", "") for a row nothing is found about.
+    """
+    by_row: dict[tuple[str, bool], list[tuple[str, str]]] = {}
+    for finding in state.review.findings:
+        if finding.time is not None:  # a pressure (mmHg) is a reading's; anything else a lab's or a dose's
+            key = (when(finding.time), finding.unit == "mmHg")
+            by_row.setdefault(key, []).append((finding.severity, finding.code))
+    marks = []
+    for time, kind, _ in state.rows:
+        found = by_row.pop((time, kind == "reading"), [])  # the first row of that time and kind takes it
+        worst = "refuse" if any(sev == "refuse" for sev, _ in found) else ("warn" if found else "")
+        marks.append((worst, "  ".join(f"{SYMBOL[sev]} {sev.upper()} {code}" for sev, code in found)))
+    return marks
 
 
 def notes_lines(state: CourseState) -> list[str]:

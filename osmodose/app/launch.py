@@ -1,29 +1,32 @@
-"""Start the app: load the formulary (and the episode, if named), then (and only then) import textual."""
+"""Start the app: its first frame at once, the formulary (and the episode) read behind it.
+
+An unusable formulary or episode file ends the app before any figure is shown
+and prints the command line's one-line message (exit status 2): never a
+silent fall-back to the demo, never a dosing screen on a file it cannot show.
+Light on purpose: the command line imports this module, and textual only
+once the app is asked for.
+"""
 
 from __future__ import annotations
 
 import sys
+from functools import partial
 
-from osmodose.app.course_view import open_course
 from osmodose.cli.exit_codes import BAD_INPUT, OK
-from osmodose.errors import OsmodoseError
-from osmodose.formulary import demo_formulary_path, load_formulary
 
 
 def launch(formulary_path: str | None, episode_path: str | None = None) -> int:
-    """Open the app on the unit's formulary (or the bundled demo when none is named), and the episode if given.
+    """Open the app on the unit's formulary (or the bundled demo when none is named), and the episode if given."""
+    from osmodose.app.app import OsmodoseApp  # noqa: PLC0415 (textual only once the app is asked for)
+    from osmodose.app.loading import load_files, loading_words  # noqa: PLC0415
 
-    An unusable formulary or episode file prints the command line's one-line
-    message and returns 2 before any screen appears: never a silent fall-back
-    to the demo, never an app open on a file it cannot show.
-    """
-    try:
-        formulary = load_formulary(formulary_path or demo_formulary_path())
-        course = open_course(episode_path, formulary) if episode_path is not None else None
-    except OsmodoseError as error:
-        sys.stderr.write(f"osmodose: {error}\n")
+    app = OsmodoseApp(
+        load=partial(load_files, formulary_path, episode_path),
+        loading=loading_words(formulary_path),
+        demo=formulary_path is None,
+    )
+    app.run()
+    if app.load_error is not None:
+        sys.stderr.write(f"osmodose: {app.load_error}\n")
         return BAD_INPUT
-    from osmodose.app.app import OsmodoseApp  # noqa: PLC0415 (textual only once the files are good)
-
-    OsmodoseApp(formulary, course=course).run()
     return OK

@@ -21,7 +21,18 @@ from dataclasses import dataclass, field
 from datetime import datetime
 from typing import NamedTuple
 
-from osmodose.app.view import ERROR_NAMES, FIELDS, SYMBOL, FieldSpec, shown_names, spec_of
+from osmodose.app.form_view import FIELDS, SYMBOL, FieldSpec, spec_of
+from osmodose.app.shown import Line, Span
+from osmodose.app.view import (
+    DOSE_FIGURES,
+    NOT_VALID,
+    dose_texts,
+    echo,
+    figure_lines,
+    finding_lines,
+    screen_message,
+    short,
+)
 from osmodose.case.fields import WRITTEN_ORDER_KEYS
 from osmodose.case.inputs import parse_check_request
 from osmodose.errors import InputError
@@ -40,7 +51,7 @@ PREVIEW_INITIALS = "XX"
 REASON = "reason:"
 
 ORDER_SPECS: tuple[FieldSpec, ...] = (
-    spec_of("agent", blank="choose"),
+    spec_of("agent", blank="choose"),  # its choices: form_view.agent_choices
     spec_of("volume", hint="mL, or 0.35 L"),
     spec_of("duration"),
     spec_of("rate", "order", label="or rate", hint="mL/h, or 2 mL/min"),
@@ -51,7 +62,6 @@ ORDER_SPECS: tuple[FieldSpec, ...] = (
 INITIALS_SPEC = FieldSpec("initials", "initials", "verifier", "e.g. AB")
 assert {spec.key for spec in ORDER_SPECS} == set(WRITTEN_ORDER_KEYS)
 #: What an error calls each box of the order as written: its label on this screen.
-ORDER_NAMES = shown_names(ORDER_SPECS)
 
 #: The decision line: symbol, word and CSS state (ok/warn/refuse colours), so it reads without colour too.
 DECISION_SHOWN: dict[str, tuple[str, str, str]] = {
@@ -76,9 +86,13 @@ def patient_fields(check_values: Mapping[str, str]) -> dict[str, str]:
 
 
 def patient_summary(patient: Mapping[str, str]) -> str:
-    """The patient and labs as typed, for the read-only box: "weight 70, age 45, ..."."""
+    """The patient and labs as typed, each with its unit, for the read-only box: "weight 70 kg, age 45 y, ..."."""
     labels = {spec.key: spec.label for spec in FIELDS}
-    return ", ".join(f"{labels.get(k, k).removeprefix('or ')} {v}" for k, v in patient.items()) or "nothing typed"
+    parts = []
+    for key, typed in patient.items():
+        unit = echo(key, typed)[0]
+        parts.append(f"{labels.get(key, key).removeprefix('or ')} {typed}" + (f" {unit}" if unit else ""))
+    return ", ".join(parts) or "nothing typed"
 
 
 @dataclass(frozen=True)
@@ -152,15 +166,15 @@ def evaluate(entry: Entry, formulary: Formulary, now: datetime | None = None) ->
     try:
         request = parse_check_request(dict(entry.patient))
     except InputError as error:
-        return VerifyState(None, None, error.named(ERROR_NAMES), PATIENT, error.value is None)
+        return VerifyState(None, None, error, PATIENT, error.value is None)
     try:
         order = parse_order(dict(entry.order))
     except InputError as error:
-        return VerifyState(None, None, error.named(ORDER_NAMES), error.field, error.value is None)
+        return VerifyState(None, None, error, error.field, error.value is None)
     try:
         preview = verify_order(request, order, formulary, (), PREVIEW_INITIALS, now=now)
     except InputError as error:
-        return VerifyState(None, None, error.named(ORDER_NAMES), error.field, error.value is None)
+        return VerifyState(None, None, error, error.field, error.value is None)
     acceptances = []
     for code in preview.decision.open_warnings:
         if code in preview.decision.must_state or not entry.accepted.get(code):
@@ -188,7 +202,12 @@ def problem_text(state: VerifyState) -> str:
         if state.missing:
             return f"accept {code}: needs a written reason of at least {MIN_REASON_LENGTH} characters"
         return f"accept {code}: {error.problem}"
-    return str(error)
+    return screen_message(error)
+
+
+def box_reading(entry: Entry, key: str) -> tuple[str, str]:
+    """What an order box reads as: (the unit beside a bare number, the value converted), as on the check screen."""
+    return echo(key, entry.order.get(key, "")) if key in entry.order else ("", "")
 
 
 def box_message(state: VerifyState, key: str) -> str:
@@ -240,6 +259,8 @@ class SaveNote(NamedTuple):
     key: tuple[object, ...]
     text: str
     saved: bool
+    sha256: str = ""
+    """The saved record's SHA-256 (what `osmodose log verify --expect` takes)."""
 
 
 def saved_text(sequence: int, sha256: str, path: object) -> str:
@@ -248,3 +269,90 @@ def saved_text(sequence: int, sha256: str, path: object) -> str:
 
 def not_saved_text(problem: object) -> str:
     return f"✖ NOT SAVED: {problem}. Nothing is verified until the record is in the log."
+
+
+#: Said above the order's boxes: they are empty on purpose, not forgotten.
+RETYPE_NOTE = "typed again from the written order, on purpose: an independent re-check"
+
+
+def summary_lines(state: VerifyState, entry: Entry) -> tuple[Line, ...]:
+    """Pinned under the decision: the patient, the order's key figures as recomputed, and the findings by code."""
+    preview = state.preview
+    if preview is not None:
+        p = preview.result.patient
+        na = preview.result.labs.get("sodium_mmol_l")
+        patient = f"{short(p.weight_kg)} kg · {short(p.age_years)} y · {p.sex} · Na {short(na or 0)} mmol/L"
+    else:
+        typed = [entry.patient.get(key, "").strip() for key in ("weight", "age", "sex", "sodium")]
+        patient = " · ".join(text or NOT_VALID for text in typed)
+    lines: list[Line] = [(("patient ", "label"), (patient, ""))]
+    if preview is None or preview.result.dose is None:
+        lines.append((("order   ", "label"), (NOT_VALID, "muted")))
+        lines.append((("checks  ", "label"), ("not valid until every box reads", "muted")))
+        return tuple(lines)
+    result, dose = preview.result, preview.result.dose
+    refused = state.outcome == "refused"
+    rate = f" at {dose.rate_ml_h:.0f} mL/h" if dose.rate_ml_h is not None else ""
+    order: list[Span] = [
+        ("order   ", "label"),
+        (f"{dose.agent} ", ""),
+        (f"{dose.volume_ml:g} mL{rate}", "struck" if refused else "value"),
+    ]
+    if refused:
+        order.append((" ✖ refused: do not give", "refuse"))
+    elif result.projected_sodium_mmol_l is not None:
+        order += [(" · projected Na ", "label"), (f"{result.projected_sodium_mmol_l:.1f} mmol/L", "value")]
+    lines.append(tuple(order))
+    found: list[Span] = [("checks  ", "label")]
+    severities = [(d.severity, d.code) for d in preview.discrepancies]
+    severities += [(x.severity, x.code) for x in result.findings]
+    if not severities:
+        found.append(("✔ none crossed, nothing contradicts the order", "ok"))
+    for i, (severity, code) in enumerate(sorted(severities, key=lambda sc: sc[0] != "refuse")):
+        found.append(((" · " if i else "") + f"{SYMBOL[severity]} {code}", severity))
+    lines.append(tuple(found))
+    return tuple(lines)
+
+
+def check_lines(state: VerifyState) -> tuple[Line, ...]:
+    """The check of the volume as ordered: each finding, as on the check screen."""
+    if state.preview is None:
+        return ((("not valid: no checks until every box reads", "muted"),),)
+    found = finding_lines(state.preview.result)
+    return tuple(((line, severity),) for severity, line in found) or ((("✔ OK: no limit crossed", "ok"),),)
+
+
+def discrepancy_lines(state: VerifyState) -> tuple[Line, ...]:
+    """As written against recomputed: heading, the two numbers side by side, the message."""
+    if state.preview is None:
+        return ((("not valid: nothing to compare until the order reads", "muted"),),)
+    rows = discrepancy_rows(state.preview.discrepancies)
+    if not rows:
+        return ((("✔ none: the order as written agrees with the recomputation", "ok"),),)
+    lines: list[Line] = []
+    for severity, heading, side, message in rows:
+        lines.append(((heading, "refuse" if severity == "refuse" else "warn"),))
+        if side:
+            lines.append(((side, "value"),))
+        lines.append(((message, "muted"),))
+    return tuple(lines)
+
+
+def recomputed_lines(state: VerifyState) -> tuple[Line, ...]:
+    """The order's figures recomputed from its volume; struck through when the order is refused."""
+    preview = state.preview
+    texts = dose_texts(preview.result) if preview is not None else {}
+    return figure_lines(DOSE_FIGURES, texts, "struck" if state.outcome == "refused" else "value")
+
+
+#: The file name the print key offers.
+PRINT_NAME = "osmodose-verification.txt"
+
+
+def printable(record: VerificationRecord, note: SaveNote | None) -> str:
+    """The record as text to print and file: whether and where it is logged, then the record itself."""
+    if note is not None:
+        head = note.text + "\n"
+    else:
+        head = "NOT SAVED: this record is not in the verification log; nothing is verified until it is.\n"
+    return head + "\n" + record.render_text()

@@ -1,24 +1,33 @@
-"""What the screen shows, as plain data: no textual here, so it is tested without a terminal.
+"""What the check screen shows, as plain data: no textual here, so it is tested without a terminal.
 
-The form's fields, one evaluation of the typed text through the core
-(`parse_check_request` then `run_check`), and the text of each shown figure,
-formatted by `science.precision` as the report and the JSON are, so the screen
-and the saved summary round alike.  Nothing here computes a clinical figure.
+One evaluation of the typed form through the core (`parse_check_request` then
+`run_check`) becomes one `Shown`: the text of every line on the screen, each
+piece tagged with a role (a value, a refused value, a warning...) that the
+widgets turn into a style.  Figures are formatted by the one
+precision table (`science.precision`) as the report and the JSON are, so the screen, the
+saved summary and `check --json` round alike.  Nothing here
+computes a clinical figure.
+
+Imported by the app's loader thread, once pint and the formulary are in:
+the screen itself is laid out from `form_view` alone.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
 from datetime import datetime
-from typing import TYPE_CHECKING, Any, Literal, cast
+from typing import TYPE_CHECKING, Any
 
+from osmodose.app.form_view import AMOUNT, DOSE_MODE, FIELDS, SYMBOL
+from osmodose.app.shown import Line, Role, Shown, Span
 from osmodose.case.fields import FIELDS as CASE_FIELDS
-from osmodose.case.fields import keys
+from osmodose.case.fields import keys, read
 from osmodose.case.inputs import DoseMode, parse_check_request
 from osmodose.check.report import (
     LABELS,
     corrected_sodium_text,
-    fmt,
     presentation_text,
     range_text,
     rate_text,
@@ -36,63 +45,10 @@ from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 if TYPE_CHECKING:
     from osmodose.datain import FhirFile
 
-Panel = Literal["patient", "labs", "order", "verifier", "lab", "dose", "reading", "plan"]
-
-#: The order field whose meaning is chosen by the dose-mode select.
-AMOUNT = "amount"
-DOSE_MODE = "dose-mode"
-DOSE_MODES: tuple[tuple[str, str], ...] = tuple((DOSE_CHOICE.label(mode), mode) for mode in DOSE_CHOICE.values)
-AMOUNT_HINT: dict[str, str] = {mode: CASE_FIELDS[mode].hint for mode in DOSE_CHOICE.values}
-
-#: Banner symbols: each status has its own word, colour and symbol.
-SYMBOL = {"ok": "✔", "warn": "▲", "refuse": "✖", "invalid": "?", "incomplete": "…"}
-
-
-@dataclass(frozen=True)
-class FieldSpec:
-    """One box of the paper form, in the order a checker fills it in."""
-
-    key: str
-    label: str
-    panel: Panel
-    hint: str = ""
-    choices: tuple[tuple[str, str], ...] = ()
-    """For a select: (shown, value) pairs; empty for a typed field."""
-    blank: str = ""
-    """For a select that may stay empty: what the empty choice says."""
-
-
-def spec_of(key: str, panel: Panel | None = None, **override: Any) -> FieldSpec:
-    """The form box of a field of the field table (`osmodose.case.fields`), its words overridable."""
-    field = CASE_FIELDS[key]
-    choices = tuple((field.choice.label(v), v) for v in field.choice.values) if field.choice else ()
-    spec = FieldSpec(key, field.label, panel or cast(Panel, field.group), field.hint, choices, field.empty)
-    return replace(spec, **override) if override else spec
-
-
-FIELDS: tuple[FieldSpec, ...] = (
-    *(spec_of(key) for key in keys("patient", "labs")),
-    # Urine over the infusion sits with the labs (optional; the projection then takes the losses out).
-    *(spec_of(key, "labs") for key in keys("urine")),
-    spec_of("agent"),
-    FieldSpec(DOSE_MODE, "asked as", "order", choices=DOSE_MODES),
-    FieldSpec(AMOUNT, "amount", "order", AMOUNT_HINT["dose"]),
-    spec_of("duration"),
-    spec_of("line"),
-)
-
-
-def shown_names(specs: tuple[FieldSpec, ...]) -> dict[str, str]:
-    """What a form calls each field, for its errors: the box's label ("or BUN" as "BUN")."""
-    return {spec.key: spec.label.removeprefix("or ") for spec in specs}
-
-
-#: What an error calls each field typed on the check screen: the box's label, and an amount by
-#: the style it is asked as ("target Na change", not the command line's `target-rise`).
-ERROR_NAMES: dict[str, str] = {
-    **shown_names(FIELDS),
-    **{mode: DOSE_CHOICE.label(mode) for mode in DOSE_CHOICE.values},
-}
+#: Width of the label column of the dose and figures panels (a longer label takes a line of its own).
+LABEL_WIDTH = 14
+PATIENT_LABEL_WIDTH = 22
+NOT_VALID = "—"
 
 
 @dataclass(frozen=True)
@@ -105,12 +61,21 @@ class Outcome:
     """The form field to mark: the one the error names, in the form's own keys."""
     missing: bool = False
     """True when a needed field is still empty (incomplete), False when one is wrong."""
+    mode: str = "dose"
+    """The dose style the amount was asked as."""
 
     @property
     def state(self) -> str:
         if self.result is not None:
             return self.result.status
         return "incomplete" if self.missing else "invalid"
+
+    @property
+    def message(self) -> str:
+        """The error in the screen's own words ("" when there is none)."""
+        if isinstance(self.error, InputError):
+            return screen_message(self.error, self.mode)
+        return str(self.error) if self.error is not None else ""
 
 
 @dataclass(frozen=True)
@@ -122,7 +87,7 @@ class LoadedLabs:
 
 
 def evaluate(
-    values: dict[str, str], formulary: Formulary, labs: LoadedLabs | None = None, now: datetime | None = None
+    values: Mapping[str, str], formulary: Formulary, labs: LoadedLabs | None = None, now: datetime | None = None
 ) -> Outcome:
     """Run the typed form through the core; any InputError becomes a marked field.
 
@@ -141,10 +106,9 @@ def evaluate(
             fields, data_in = labs_case(fields, labs, now or datetime.now().astimezone())
         result = run_check(parse_check_request(fields, dose_mode=mode, data_in=data_in), formulary)
     except (InputError, LabsFileError) as error:
-        field, missing = _where(error, values, amount)
-        shown = error.named(ERROR_NAMES) if isinstance(error, InputError) else error
-        return Outcome(None, shown, field, missing)
-    return Outcome(result)
+        where, missing = _where(error, values, amount)
+        return Outcome(None, error, where, missing, mode)
+    return Outcome(result, mode=mode)
 
 
 def labs_case(fields: dict[str, object], labs: LoadedLabs, now: datetime) -> tuple[dict[str, object], Any]:
@@ -188,7 +152,7 @@ def labs_file_rows(result: CheckResult) -> list[str]:
     return labs_file_lines(result.labs_file) if result.labs_file is not None else []
 
 
-def _where(error: InputError | LabsFileError, values: dict[str, str], amount: str) -> tuple[str, bool]:
+def _where(error: InputError | LabsFileError, values: Mapping[str, str], amount: str) -> tuple[str, bool]:
     """Which form field an error belongs to, and whether it is only missing."""
     if isinstance(error, LabsFileError):
         return error.field or "sodium", False
@@ -201,26 +165,97 @@ def _where(error: InputError | LabsFileError, values: dict[str, str], amount: st
     return error.field, error.value is None
 
 
-def banner_text(outcome: Outcome) -> str:
-    """The status line: symbol, word, and what it means."""
-    state = outcome.state
-    if outcome.result is None:
-        word = "INCOMPLETE" if outcome.missing else "NOT VALID"
-        return f"{SYMBOL[state]} {word}: {outcome.error}  (no results shown)"
-    text = f"{SYMBOL[state]} {status_words(outcome.result)}"
-    if outcome.result.dose is None:
-        text += "  (no order: labs only)"
+# --- the screen's own words --------------------------------------------------------------------
+
+#: Words of the command line that the screen calls otherwise.
+_OPTION_WORDS = {"--agent ID": "an agent from the list", "exactly one of dose, volume or target-rise": "an amount"}
+
+
+def _screen_names() -> dict[str, str]:
+    """Field keys whose box on screen is named otherwise (tbw-method is "TBW method")."""
+    names = {key: f.label.removeprefix("or ") for key, f in CASE_FIELDS.items()}
+    names.update({mode: DOSE_CHOICE.label(mode) for mode in DOSE_CHOICE.values})
+    return {key: name for key, name in names.items() if name != key}
+
+
+SCREEN_NAMES = _screen_names()
+_NAMES = "|".join(map(re.escape, sorted(SCREEN_NAMES, key=len, reverse=True)))
+_KEY_WORD = re.compile(rf"(?<![\w-])({_NAMES})(?![\w-])")
+
+
+def on_screen(text: str) -> str:
+    """`text` with every command-line name of a field replaced by the name its box has on screen."""
+    for words, shown in _OPTION_WORDS.items():
+        text = text.replace(words, shown)
+    return _KEY_WORD.sub(lambda m: SCREEN_NAMES[m.group(1)], text)
+
+
+def screen_message(error: InputError, mode: str = "dose") -> str:
+    """An input error in the words of the screen: "target Na change: 134 is outside ...", never "target-rise"."""
+    name = SCREEN_NAMES.get(error.field, error.field)
+    problem, accepted = on_screen(error.problem), on_screen(error.accepted) if error.accepted else None
+    text = str(InputError(name, error.value, problem, accepted))
+    if error.field == "target-rise" and "target-sodium" in DOSE_CHOICE.values and "outside" in problem:
+        text += f"; to aim at a sodium level, ask as {DOSE_CHOICE.label('target-sodium')}"
     return text
 
 
+# --- what each box reads as ---------------------------------------------------------------------
+
+_UNIT_SHOWN = {"year": "y"}
+
+
+def short(value: float) -> str:
+    """A figure at most to 0.1, without a trailing .0: 69.85 is 69.9, 70.0 is 70."""
+    return f"{round(value, 1):g}"
+
+
+def echo(key: str, raw: str, mode: str = "dose") -> tuple[str, str]:
+    """What a typed value reads as: (the unit beside a bare number, the value converted under a typed unit).
+
+    ("kg", "") for "70"; ("", "= 69.9 kg") for "154 lb"; ("", "") for an empty
+    box, a choice, a dose (its unit is always typed) or a value that does not read.
+    """
+    if key == AMOUNT:
+        key = mode
+    field = CASE_FIELDS.get(key)
+    if field is None or field.kind != "quantity" or not raw.strip():
+        return "", ""
+    try:
+        value = read(key, raw)
+    except InputError:
+        return "", ""
+    if _is_bare(raw):
+        return _UNIT_SHOWN.get(field.unit, field.unit), ""
+    shown = _UNIT_SHOWN.get(field.engine_unit, field.engine_unit)
+    return "", f"= {short(value)} {shown}" + (f" {field.into}" if field.into else "")
+
+
+def _is_bare(raw: str) -> bool:
+    try:
+        float(raw.strip())
+    except ValueError:
+        return False
+    return True
+
+
+# --- the lines shown ----------------------------------------------------------------------------
+
 #: (id, label) of the figures that need no order, in the order shown.
 PATIENT_FIGURES: tuple[tuple[str, str], ...] = (
-    ("tbw", "body water"),
-    ("calc-osm", "calculated osm"),
-    ("eff-osm", "effective osm"),
+    ("tbw", "total body water"),
+    ("calc-osm", "calculated osmolality"),
+    ("eff-osm", "effective osmolality"),
     ("gap", "osmolar gap"),
-    ("free-water", "free-water def."),
+    ("free-water", "free-water deficit"),
     ("urine-water", "urine free water"),
+)
+#: (id, label) of the patient-level figures of the safety checks (body size, tonicity, the rise
+#: budget), shown under the figures only where the case has them.
+SAFETY_FIGURES: tuple[tuple[str, str], ...] = (
+    ("bmi", "body mass index"),
+    ("corrected-na", "Na corrected for glucose"),
+    ("rise-budget", "24 h rise"),
 )
 #: (id, label) of the order's figures.
 DOSE_FIGURES: tuple[tuple[str, str], ...] = (
@@ -233,6 +268,18 @@ DOSE_FIGURES: tuple[tuple[str, str], ...] = (
     ("projected-na", LABELS["projected-na"]),
     ("na-no-losses", "Na without urine losses"),
 )
+
+
+def banner_text(outcome: Outcome) -> str:
+    """The status line: symbol, word, and what it means."""
+    state = outcome.state
+    if outcome.result is None:
+        word = "INCOMPLETE" if outcome.missing else "NOT VALID"
+        return f"{SYMBOL[state]} {word}: {outcome.message}  (no results shown)"
+    text = f"{SYMBOL[state]} {status_words(outcome.result)}"
+    if outcome.result.dose is None:
+        text += "  (no order: labs only)"
+    return text
 
 
 def patient_texts(result: CheckResult) -> dict[str, str]:
@@ -252,6 +299,20 @@ def patient_texts(result: CheckResult) -> dict[str, str]:
         if result.urine is None
         else f("electrolyte_free_water_clearance_l", result.electrolyte_free_water_clearance_l, "L"),
     }
+
+
+def safety_texts(result: CheckResult) -> dict[str, str]:
+    """Shown text of each `SAFETY_FIGURES` figure the result has (the report's own words)."""
+    texts = {}
+    if result.patient.bmi_kg_m2 is not None:
+        texts["bmi"] = p.figure_text("bmi_kg_m2", result.patient.bmi_kg_m2, "kg/m²")
+    corrected = corrected_sodium_text(result)
+    if corrected is not None:
+        texts["corrected-na"] = corrected
+    budget = rise_budget_text(result)
+    if budget is not None:
+        texts["rise-budget"] = budget
+    return texts
 
 
 def dose_texts(result: CheckResult) -> dict[str, str]:
@@ -277,29 +338,6 @@ def dose_texts(result: CheckResult) -> dict[str, str]:
         if result.urine is None
         else f("projected_sodium_without_losses_mmol_l", result.projected_sodium_without_losses_mmol_l, "mmol/L"),
     }
-
-
-#: (id, label) of the patient-level figures added for the safety checks (body size, tonicity, the rise
-#: budget), shown only where the case has them.
-SAFETY_FIGURES: tuple[tuple[str, str], ...] = (
-    ("bmi", "body mass index"),
-    ("corrected-na", "Na corrected for glucose"),
-    ("rise-budget", "24 h rise"),
-)
-
-
-def safety_texts(result: CheckResult) -> dict[str, str]:
-    """Shown text of each `SAFETY_FIGURES` figure the result has (the report's own words)."""
-    texts = {}
-    if result.patient.bmi_kg_m2 is not None:
-        texts["bmi"] = fmt(result.patient.bmi_kg_m2, "kg/m^2")
-    corrected = corrected_sodium_text(result)
-    if corrected is not None:
-        texts["corrected-na"] = corrected
-    budget = rise_budget_text(result)
-    if budget is not None:
-        texts["rise-budget"] = budget
-    return texts
 
 
 def equiosmolar_rows(result: CheckResult) -> list[tuple[str, str]]:
@@ -332,6 +370,165 @@ def stock_rows(result: CheckResult) -> list[str]:
     return rows or ["no presentations listed in the formulary"]
 
 
-def finding_rows(result: CheckResult) -> list[tuple[str, str]]:
+def stock_lines(result: CheckResult) -> list[str]:
+    """The stock rows as the dose panel shows them: alternatives, any one of them, best first."""
+    rows = stock_rows(result)
+    if result.dose is None:
+        return []
+    if not result.dose.presentations:
+        return ["from stock: no bag or vial sizes listed in the formulary"]
+    return ["from stock, any one of:", *(f"  {row}" for row in rows)]
+
+
+def agent_volume_lines(title: str, rows: list[tuple[str, str]]) -> list[str]:
+    """A small table of agents and volumes under a title (equiosmolar volumes, the daily fall); none when empty."""
+    if not rows:
+        return []
+    width = max(len(agent) for agent, _ in rows)
+    return [title, *(f"  {agent.ljust(width)}  {volume}" for agent, volume in rows)]
+
+
+def finding_lines(result: CheckResult) -> list[tuple[Role, str]]:
     """(severity, line) per finding, with the symbol and the word, refusals first."""
     return [(x.severity, f"{SYMBOL[x.severity]} {x.severity.upper()} {x.code}: {x.message}") for x in result.findings]
+
+
+def figure_lines(
+    rows: tuple[tuple[str, str], ...], texts: Mapping[str, str], role: Role, width: int = LABEL_WIDTH
+) -> tuple[Line, ...]:
+    """A label column and the value beside it; a label too long for the column stands on a line of its own."""
+    lines: list[Line] = []
+    for figure_id, label in rows:
+        value: Span = (texts.get(figure_id, NOT_VALID), role if figure_id in texts else "muted")
+        if len(label) < width:
+            lines.append(((label.ljust(width), "label"), value))
+        else:
+            lines += [((label, "label"),), ((" " * width, ""), value)]
+    return tuple(lines)
+
+
+def show(outcome: Outcome, values: Mapping[str, str]) -> Shown:
+    """The whole screen's text for one evaluation of the form's `values`."""
+    result = outcome.result
+    mode = values.get(DOSE_MODE) or "dose"
+    echoes = {spec.key: echo(spec.key, values.get(spec.key, ""), mode) for spec in FIELDS}
+    if outcome.field is not None:
+        echoes[outcome.field] = ("", "")
+    mark = ""
+    if outcome.error is not None:
+        mark = ("… needed: " if outcome.missing else "✖ ") + outcome.message
+    texts: dict[str, str] = {}
+    if result is None:
+        checks: tuple[Line, ...] = ((("not valid: no checks until every field reads", "muted"),),)
+        dose_title = "dose"
+        dose_lines: tuple[Line, ...] = ((("not valid: see the marked field", "muted"),),)
+        figures = figure_lines(PATIENT_FIGURES, {}, "value", PATIENT_LABEL_WIDTH)
+        notes: tuple[str, ...] = ()
+    else:
+        found = finding_lines(result)
+        checks = tuple(((line, severity),) for severity, line in found) or ((("✔ OK: no limit crossed", "ok"),),)
+        patient = patient_texts(result)
+        texts.update(patient)
+        safety = safety_texts(result)
+        texts.update(safety)
+        shown_safety = tuple((key, label) for key, label in SAFETY_FIGURES if key in safety)
+        figures = figure_lines(PATIENT_FIGURES + shown_safety, {**patient, **safety}, "value", PATIENT_LABEL_WIDTH)
+        figures += tuple(
+            ((text, "muted"),)
+            for text in agent_volume_lines("to lower Na by the daily fall limit:", daily_fall_rows(result))
+        )
+        dose_title, dose_lines = _dose_panel(result, texts, _asked_typed(values, echoes))
+        notes = tuple(f"- {note}" for note in result.notes)
+    labs_file = tuple(labs_file_rows(result)) if result is not None else ()
+    return Shown(
+        state=outcome.state,
+        banner=banner_text(outcome),
+        summary=summary_lines(outcome, values, echoes),
+        checks=checks,
+        dose_title=dose_title,
+        dose=dose_lines,
+        figures=figures,
+        notes=notes,
+        values=texts,
+        echoes=echoes,
+        marked=outcome.field,
+        mark=mark,
+        missing=outcome.missing,
+        labs_file=labs_file,
+    )
+
+
+def _asked_typed(values: Mapping[str, str], echoes: Mapping[str, tuple[str, str]]) -> str:
+    """What was asked for, in the screen's words and with its unit: "target Na change 6 mmol/L"."""
+    mode = values.get(DOSE_MODE) or "dose"
+    unit = echoes.get(AMOUNT, ("", ""))[0]
+    return f"{DOSE_CHOICE.label(mode)} {values.get(AMOUNT, '').strip()}" + (f" {unit}" if unit else "")
+
+
+def _dose_panel(result: CheckResult, texts: dict[str, str], asked: str) -> tuple[str, tuple[Line, ...]]:
+    """The dose panel's title and lines; a refused order's figures struck through, the refusal above them."""
+    dose = result.dose
+    if dose is None:
+        return "dose", ((("no order entered: the labs are checked alone", "muted"),),)
+    figures = dose_texts(result)
+    texts.update(figures)
+    refused = result.status == "refuse"
+    line = f", {result.line} line" if result.line else ""
+    lines: list[Line] = []
+    if refused:
+        codes = ", ".join(x.code for x in result.findings if x.severity == "refuse")
+        lines.append(((f"✖ REFUSED ({codes}): do not give as ordered; the figures are for reference only", "refuse"),))
+    lines += [((dose.agent_label, ""),), ((f"asked as {asked}{line}", "muted"),)]
+    lines += figure_lines(DOSE_FIGURES, figures, "struck" if refused else "value")
+    lines += [((text, "struck" if refused else ""),) for text in stock_lines(result)]
+    equiosmolar = agent_volume_lines("equiosmolar (same ideal mOsm):", equiosmolar_rows(result))
+    lines += [((text, "muted"),) for text in equiosmolar]
+    title = f"dose {SYMBOL[result.status]} {'REFUSED' if refused else result.status.upper()}"
+    return title, tuple(lines)
+
+
+def summary_lines(
+    outcome: Outcome, values: Mapping[str, str], echoes: Mapping[str, tuple[str, str]]
+) -> tuple[Line, ...]:
+    """The lines pinned under the status: the patient, the order's key figures, the findings by code."""
+    result = outcome.result
+    if result is not None:
+        pt = result.patient
+        na = result.labs.get("sodium_mmol_l")
+        patient = f"{short(pt.weight_kg)} kg · {short(pt.age_years)} y · {pt.sex} · Na {short(na or 0)} mmol/L"
+    else:
+        parts = []
+        for key, name in (("weight", ""), ("age", ""), ("sex", ""), ("sodium", "Na ")):
+            typed = values.get(key, "").strip()
+            unit = echoes.get(key, ("", ""))[0]
+            parts.append(f"{name}{typed} {unit}".strip() if typed else NOT_VALID)
+        patient = " · ".join(parts)
+    lines: list[Line] = [(("patient ", "label"), (patient, ""))]
+    if result is None:
+        lines.append((("order   ", "label"), (NOT_VALID, "muted")))
+        lines.append((("checks  ", "label"), ("not valid until every field reads", "muted")))
+        return tuple(lines)
+    dose = result.dose
+    if dose is None:
+        lines.append((("order   ", "label"), ("none: the labs are checked alone", "muted")))
+    else:
+        refused = result.status == "refuse"
+        rate = f" over {dose.duration_min:g} min" if dose.duration_min else ""
+        order: list[Span] = [("order   ", "label"), (f"{dose.agent} ", "")]
+        volume = p.figure_text("volume_ml", dose.volume_ml, "mL")
+        order.append((f"{volume}{rate}", "struck" if refused else "value"))
+        if refused:
+            order.append((" ✖ refused: do not give", "refuse"))
+        elif result.projected_sodium_mmol_l is not None:
+            projected = p.figure_text("projected_sodium_mmol_l", result.projected_sodium_mmol_l, "mmol/L")
+            order += [(" · projected Na ", "label"), (projected, "value")]
+            rise = p.signed_text("projected_sodium_rise_mmol_l", result.projected_sodium_rise_mmol_l, "mmol/L")
+            order.append((f" ({rise}{range_text(result)})", ""))
+        lines.append(tuple(order))
+    checks: list[Span] = [("checks  ", "label")]
+    if not result.findings:
+        checks.append(("✔ none crossed", "ok"))
+    for i, x in enumerate(result.findings):
+        checks.append(((" · " if i else "") + f"{SYMBOL[x.severity]} {x.code}", x.severity))
+    lines.append(tuple(checks))
+    return tuple(lines)

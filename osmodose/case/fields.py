@@ -16,14 +16,18 @@ from __future__ import annotations
 
 import functools
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 from osmodose.case.loinc import Loinc, memory, profile, value_set
 from osmodose.errors import InputError
-from osmodose.science.chemistry import molar_mass
 from osmodose.science.choices import DOSE_MODE, LINE, SEX, TARGET_MODES, TBW_METHOD, YES_NO, Choice
 from osmodose.science.ranges import Range
-from osmodose.science.units import Quantity, as_osmolar, is_bare_number, one, parse_quantity, ureg
+
+if TYPE_CHECKING:
+    from osmodose.science.units import Quantity
+
+# pint is imported by the readers below, not here: the table itself is plain data, so the app
+# can lay its form out from it before pint has loaded (the app's first frame is timed, issue 11).
 
 Group = Literal["patient", "condition", "labs", "urine", "order", "written", "reading", "entry"]
 Kind = Literal["quantity", "choice", "text", "dose", "flag"]
@@ -268,6 +272,9 @@ WRITTEN_ORDER_KEYS: tuple[str, ...] = tuple(
 
 def _convert(quantity: Quantity, unit: str, substance: str | None) -> float:
     """`quantity` in `unit`, through the substance's molar mass where the dimensions differ."""
+    from osmodose.science.chemistry import molar_mass  # noqa: PLC0415 (see the imports)
+    from osmodose.science.units import as_osmolar, ureg  # noqa: PLC0415
+
     target = ureg.parse_units(unit)
     if quantity.dimensionality != target.dimensionality and substance is not None:
         if quantity.check("[mass]/[volume]"):
@@ -284,6 +291,8 @@ def conversion(key: str, unit: str, target: str) -> float:
     A check's typed value and an audit's whole column are converted by the same
     factor, so both give the same float for the same text.
     """
+    from osmodose.science.units import one  # noqa: PLC0415 (see the imports)
+
     return _convert(one(unit), target, FIELDS[key].substance)
 
 
@@ -296,6 +305,8 @@ def read(key: str, raw: object, shown: object | None = None) -> float:
     written in, so a BUN is judged in mg/dL of nitrogen.  `shown` is what
     errors quote (the raw text by default).
     """
+    from osmodose.science.units import parse_quantity  # noqa: PLC0415 (see the imports)
+
     field = FIELDS[key]
     shown = raw if shown is None else shown
     plain = _plain_number(raw)
@@ -312,6 +323,8 @@ def read(key: str, raw: object, shown: object | None = None) -> float:
 
 def _plain_number(raw: object) -> float | None:
     """A number given as such ("70", 70): in the field's unit, with no unit to parse."""
+    from osmodose.science.units import is_bare_number  # noqa: PLC0415 (see the imports)
+
     if isinstance(raw, str) and is_bare_number(raw):
         return float(raw)
     if isinstance(raw, (int, float)) and not isinstance(raw, bool) and _finite(raw):

@@ -13,6 +13,7 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict
 
 from osmodose.case.provenance import DataIn
+from osmodose.caution import CAUTION
 from osmodose.formulary.model import Formulary
 from osmodose.science.precision import round_document
 
@@ -20,11 +21,6 @@ _FROZEN = ConfigDict(frozen=True)
 
 Severity = Literal["warn", "refuse"]
 Status = Literal["ok", "warn", "refuse"]
-
-CAUTION = (
-    "Decision support only: verify every figure against local protocol "
-    "and licensed clinical judgement before giving anything."
-)
 
 
 class Finding(BaseModel):

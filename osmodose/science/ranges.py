@@ -7,8 +7,10 @@ judge the patient (common practice, no single source).  Clinical limits live in 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 
 @dataclass(frozen=True)
@@ -134,10 +136,14 @@ class WeightForAge:
 
     def low(self, age_years: np.ndarray) -> np.ndarray:
         ages, lows, _ = zip(*self.rows, strict=True)
+        import numpy as np  # noqa: PLC0415 (the field table imports this module; the app's first frame needs no numpy)
+
         return np.interp(np.asarray(age_years, dtype=float), ages, lows)
 
     def high(self, age_years: np.ndarray) -> np.ndarray:
         ages, _, highs = zip(*self.rows, strict=True)
+        import numpy as np  # noqa: PLC0415 (see `low`)
+
         return np.interp(np.asarray(age_years, dtype=float), ages, highs)
 
 

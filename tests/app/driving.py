@@ -5,15 +5,15 @@ from __future__ import annotations
 import asyncio
 import functools
 from collections.abc import Callable, Coroutine
-from typing import Any
+from typing import Any, NamedTuple
 
 from textual import events
 from textual.pilot import Pilot
 from textual.widgets import Input
 
 from osmodose.app.app import OsmodoseApp
+from osmodose.app.form_view import FIELDS
 from osmodose.app.screens.main import MainScreen
-from osmodose.app.view import FIELDS
 from osmodose.app.widgets.form_field import FormField
 from osmodose.formulary import demo_formulary_path, load_formulary
 
@@ -66,6 +66,8 @@ def main_screen(app: OsmodoseApp) -> MainScreen:
 
 async def type_in_form_order(pilot: Pilot, fields: dict[str, str]) -> None:
     """Fill the form with the keyboard only, from the first field on, Tab by Tab.
+
+    Slow (a key press at a time): ONE test types a whole case this way; the others use `fill`.
 
     Typed fields get each character as a key press; a choice is opened with
     enter, found by typing the fewest letters of its shown name and taken with enter.
@@ -159,12 +161,12 @@ async def tick(pilot: Pilot, code: str) -> None:
 
 
 async def open_verification(
-    pilot: Pilot, patient: dict[str, str], order: dict[str, str], initials: str = "", typed: bool = True
+    pilot: Pilot, patient: dict[str, str], order: dict[str, str], initials: str = "", typed: bool = False
 ) -> None:
     """The patient on the check screen, F3, then the order as written typed into the verification screen.
 
     With `typed` False each box gets its value at once (the same Changed message typing sends): faster,
-    for tests about something else than typing.
+    for tests about something else than typing (the default for every test but one: see `type_into`).
     """
     await fill(pilot, patient)
     await pilot.press("f3")
@@ -176,3 +178,28 @@ async def open_verification(
         else:
             pilot.app.screen.query_one(f"#field-{key}", FormField).control.value = text
     await pilot.pause()
+
+
+class Started(NamedTuple):
+    app: OsmodoseApp
+    main: MainScreen
+    """The check screen it opened on (kept: the app's screen stack is empty once it has ended)."""
+
+
+def run_headless(app: OsmodoseApp, seen: list[Started]) -> None:
+    """Stand-in for `OsmodoseApp.run` in tests: the app headless until its files are read, then quit.
+
+    A file that cannot be used ends the app by itself (its `load_error`); a
+    good one is quit once loaded, as a user would.
+    """
+
+    async def go() -> None:
+        async with app.run_test(size=(80, 24)) as pilot:
+            seen.append(Started(app, main_screen(app)))
+            while app.formulary is None and app.load_error is None:
+                await pilot.pause(0.01)
+            if app.load_error is None:
+                await pilot.pause()
+                app.exit()
+
+    asyncio.run(go())

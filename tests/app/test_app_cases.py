@@ -6,9 +6,8 @@ import json
 
 import pytest
 
-from osmodose.app.widgets.dose_panel import DosePanel
-from osmodose.app.widgets.figures import NOT_VALID, FigureValue
-from osmodose.app.widgets.findings import ChecksPanel
+from osmodose.app.shown import plain
+from osmodose.app.view import NOT_VALID
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.cli.main import main
 from tests.app.driving import (
@@ -29,7 +28,7 @@ SIZE = (80, 24)
 
 
 def shown(screen: object, figure_id: str) -> str:
-    return screen.query_one(f"#fig-{figure_id}", FigureValue).text  # type: ignore[attr-defined]
+    return screen.shown.values.get(figure_id, NOT_VALID)  # type: ignore[attr-defined, no-any-return]
 
 
 @sync
@@ -58,10 +57,16 @@ async def test_mannitol_case_shows_the_figures_of_check_json(capsys: pytest.Capt
         )
         assert shown(screen, "gap") == f"{expected['osmolar_gap_mosm_kg']:.1f} mOsm/kg" == "7.0 mOsm/kg"
         assert shown(screen, "tbw") == f"{expected['patient']['total_body_water_l']:.1f} L (fraction)"
+        dose = plain(screen.shown.dose)
         # Alternatives, the least waste first (then the fewest containers): never read as 1,000 mL hung.
-        assert screen.query_one(DosePanel).stock == ["1 × 500 mL (discard 150 mL)", "or 2 × 250 mL (discard 150 mL)"]
+        start = dose.index("from stock, any one of:")
+        assert dose[start : start + 3] == [
+            "from stock, any one of:",
+            "  1 × 500 mL (discard 150 mL)",
+            "  or 2 × 250 mL (discard 150 mL)",
+        ]
         assert screen.query_one(StatusBanner).text == "✔ OK: no limit crossed"
-        assert screen.query_one(ChecksPanel).lines == ["✔ OK: no limit crossed"]
+        assert plain(screen.shown.checks) == ["✔ OK: no limit crossed"]
 
 
 @sync
@@ -94,10 +99,10 @@ async def test_hypertonic_saline_case_shows_the_figures_of_check_json_run_as_a_c
         assert shown(screen, "projected-na") == "134.0 mmol/L (+6.0 mmol/L; range +3.5 to +14.4)"
         # glucose 108 mg/dL / 180.16 g/mol = 5.99 mmol/L; BUN 14 mg/dL / 28.01 = 5.0 mmol/L urea.
         assert shown(screen, "calc-osm") == f"{expected['calculated_osmolality_mosm_kg']:.1f} mOsm/kg"
-        codes = [line.split(" ")[2].rstrip(":") for line in screen.query_one(ChecksPanel).lines]
+        codes = [line.split(" ")[2].rstrip(":") for line in plain(screen.shown.checks)]
         assert codes == [f["code"] for f in expected["findings"]]
         assert screen.query_one(StatusBanner).text.startswith("▲ WARN: ")
-        assert screen.query_one(DosePanel).border_title == "dose ▲ WARN"
+        assert screen.query_one("#dose").border_title == "dose ▲ WARN"
 
 
 @sync
@@ -112,8 +117,8 @@ async def test_refused_order_shows_refuse_word_symbol_and_colour() -> None:
         assert banner.text == "✖ REFUSE: a hard limit is crossed; do not give as ordered"
         assert banner.has_class("-refuse") and not banner.has_class("-ok")
         assert screen.query_one("#results").has_class("-refuse")
-        assert screen.query_one(DosePanel).border_title == "dose ✖ REFUSE"
-        assert screen.query_one(ChecksPanel).lines[0].startswith("✖ REFUSE osmolality-high: ")
+        assert screen.query_one("#dose").border_title == "dose ✖ REFUSED"
+        assert plain(screen.shown.checks)[0].startswith("✖ REFUSE osmolality-high: ")
 
 
 @sync
@@ -126,11 +131,13 @@ async def test_implausible_sodium_is_marked_at_its_field_and_no_figure_stays() -
         await fill(pilot, {"sodium": "1400"})
         sodium = screen.field("sodium")
         assert sodium.has_class("-bad")
-        assert sodium.message == "✖ sodium: 1400 is outside the plausible range (accepted: 90 to 200 mmol/L)"
+        assert sodium.marked == "✖ sodium: 1400 is outside the plausible range (accepted: 90 to 200 mmol/L)"
         assert screen.outcome.result is None
-        assert {v.text for v in screen.query(FigureValue)} == {NOT_VALID}
+        assert screen.shown.values == {}
+        shown_text = "".join(plain(screen.shown.figures) + plain(screen.shown.dose) + plain(screen.shown.summary[1:]))
+        assert not any(ch.isdigit() for ch in shown_text.replace("1400", ""))  # no number from an earlier entry
         assert screen.query_one(StatusBanner).text.startswith("? NOT VALID: sodium: 1400 is outside")
-        assert screen.query_one(DosePanel).border_title == "dose"
+        assert screen.query_one("#dose").border_title == "dose"
         assert [f.spec.key for f in screen.query("FormField") if f.has_class("-bad")] == ["sodium"]
 
 
@@ -142,7 +149,7 @@ async def test_unreadable_unit_is_marked_at_the_amount_field() -> None:
         screen = main_screen(app)
         amount = screen.field("amount")
         assert amount.has_class("-bad")
-        assert amount.message.startswith("✖ dose: 1 g/kk ")
+        assert amount.marked.startswith("✖ dose: 1 g/kk ")
         assert screen.query_one(StatusBanner).has_class("-invalid")
 
 
@@ -154,8 +161,8 @@ async def test_unreachable_target_rise_is_marked_at_the_amount_field() -> None:
         await fill(pilot, {**SALINE, "agent": "glucose-5"})
         amount = main_screen(app).field("amount")
         assert amount.has_class("-bad")
-        # Named as the screen names it ("target Na change"), not by the command line's option.
-        assert amount.message.startswith("✖ target Na change: 6 cannot be reached with glucose-5: ")
+        # Named as on screen ("target Na change"), never by the command line's "target-rise".
+        assert amount.marked.startswith("✖ target Na change: 6 cannot be reached with glucose-5: ")
 
 
 @sync
@@ -165,7 +172,7 @@ async def test_empty_form_asks_for_the_first_required_field_without_marking_it_w
         screen = main_screen(app)
         weight = screen.field("weight")
         assert weight.has_class("-missing") and not weight.has_class("-bad")
-        assert weight.message == "… needed: weight: is required"
+        assert weight.marked == "… needed: weight: is required"
         assert screen.query_one(StatusBanner).text == "… INCOMPLETE: weight: is required  (no results shown)"
 
 
@@ -187,5 +194,5 @@ async def test_labs_without_order_say_no_order() -> None:
         await fill(pilot, {k: v for k, v in MANNITOL.items() if k not in ("agent", "amount", "duration")})
         screen = main_screen(app)
         assert screen.query_one(StatusBanner).text == "✔ OK: no limit crossed  (no order: labs only)"
-        assert screen.query_one(DosePanel).order_text == "no order entered"
+        assert plain(screen.shown.dose) == ["no order entered: the labs are checked alone"]
         assert shown(screen, "calc-osm") == "293.0 mOsm/kg"

@@ -21,7 +21,7 @@ from osmodose.course.series import course_series
 from osmodose.course.store import read_episode
 from osmodose.formulary import Formulary
 from tests.app.course_driving import NEXT_LAB, copy_demo, course_app, show_json
-from tests.app.driving import sync
+from tests.app.driving import Started, run_headless, sync
 
 SIZE = (80, 24)
 CORRUPT = '{"format_version": 2, "patient": {"weight_kg": 70,\n'
@@ -43,6 +43,7 @@ async def type_entry(pilot: Pilot, values: dict[str, str], typed: tuple[str, ...
     Fields in `typed` get each character as a key press; the others get their
     text at once (the same Changed message), which keeps the test fast.
     """
+    await pilot.pause()  # the form is composed and its first box focused before anything is typed
     form = pilot.app.screen
     assert isinstance(form, EntryScreen)
     for spec in form.specs:
@@ -182,8 +183,8 @@ async def test_plan_shows_the_course_plan_report(tmp_path: Path, demo: Formulary
 def test_corrupt_episode_stops_launch_with_the_course_show_message(
     tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    started: list[str] = []
-    monkeypatch.setattr(OsmodoseApp, "run", lambda self, *a, **k: started.append("run"))
+    started: list[Started] = []
+    monkeypatch.setattr(OsmodoseApp, "run", lambda self, *a, **k: run_headless(self, started))
     path = tmp_path / "bed3.json"
     path.write_text(CORRUPT, encoding="utf-8")
     assert main(["course", "show", str(path)]) == 2
@@ -194,7 +195,9 @@ def test_corrupt_episode_stops_launch_with_the_course_show_message(
     )
     assert main(["--episode", str(path)]) == 2
     assert capsys.readouterr().err == show_error
-    assert started == []
+    [(app, main_screen)] = started
+    assert app.course is None and app.formulary is None  # no course screen, no figure: loading, then the end
+    assert main_screen.outcome is None and main_screen.shown.state == "loading"
     assert path.read_text(encoding="utf-8") == CORRUPT
 
 
@@ -202,11 +205,12 @@ def test_good_episode_starts_the_app_on_it(
     tmp_path: Path, demo: Formulary, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
     path = copy_demo(tmp_path)
-    started: list[object] = []
-    monkeypatch.setattr(OsmodoseApp, "run", lambda self, *a, **k: started.append(self.course))
+    started: list[Started] = []
+    monkeypatch.setattr(OsmodoseApp, "run", lambda self, *a, **k: run_headless(self, started))
     assert main(["--episode", str(path)]) == 0
     expected = open_course(path, demo)
-    assert [(x.path, x.sha256, x.episode, x.rows) for x in started] == [  # type: ignore[attr-defined]
+    courses = [app.course for app, _ in started]
+    assert [(x.path, x.sha256, x.episode, x.rows) for x in courses if x] == [
         (expected.path, expected.sha256, expected.episode, expected.rows)
     ]
     assert capsys.readouterr().err == ""
@@ -217,7 +221,7 @@ async def test_help_lists_the_course_keys_and_f4_returns_to_the_check(tmp_path: 
     app = course_app(demo, copy_demo(tmp_path))
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("f1")
-        keys = app.screen.keys  # type: ignore[attr-defined]
+        keys = [(key, text) for _, key, text in app.screen.keys]  # type: ignore[attr-defined]
         for pair in [("f4", "course"), ("l", "lab"), ("d", "dose"), ("r", "reading"), ("p", "plan"), ("2", "plot tab")]:
             assert pair in keys
         await pilot.press("escape", "f4")

@@ -6,10 +6,11 @@ import json
 from pathlib import Path
 
 import pytest
-from textual.widgets import Checkbox, Static
+from textual.widgets import Checkbox, Input, Static
 from textual.widgets._footer import FooterKey
 
 from osmodose.app.screens.main import MainScreen
+from osmodose.app.screens.save import SaveScreen
 from osmodose.app.screens.verify import NOT_SAVED_YET, VerifyScreen
 from osmodose.cli.main import main
 from osmodose.verify import read_log, verify_chain
@@ -47,7 +48,7 @@ def shown(screen: VerifyScreen, widget_id: str) -> str:
 async def test_ten_fold_mannitol_order_is_refused_and_the_refusal_has_no_accept_box() -> None:
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
-        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB")
+        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB", typed=False)
         screen = verify_screen(app)
         assert screen.verification is not None
         assert screen.verification.outcome == "refused"
@@ -82,7 +83,7 @@ async def test_accepted_peripheral_warning_releases_saves_and_matches_osmodose_v
     monkeypatch.setenv("OSMODOSE_LOG", str(log))
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
-        await open_verification(pilot, VERIFY_PATIENT, PERIPHERAL_SALINE, initials="ab")
+        await open_verification(pilot, VERIFY_PATIENT, PERIPHERAL_SALINE, initials="ab", typed=False)
         screen = verify_screen(app)
         assert screen.verification.outcome == "held"  # type: ignore[union-attr]
         assert screen.verification.acceptable == ["peripheral-osmolarity"]  # type: ignore[union-attr]
@@ -147,7 +148,9 @@ async def test_f3_goes_back_and_forth_keeping_the_order_and_reading_the_new_pati
     async with app.run_test(size=SIZE) as pilot:
         await open_verification(pilot, VERIFY_PATIENT, PERIPHERAL_SALINE, initials="AB", typed=False)
         screen = verify_screen(app)
-        assert shown(screen, "patient-typed") == "weight 70, age 45, sex male, sodium 141, glucose 6, urea 5"
+        assert shown(screen, "patient-typed") == (
+            "weight 70 kg, age 45 y, sex male, sodium 141 mmol/L, glucose 6 mmol/L, urea 5 mmol/L"
+        )
         await pilot.press("escape")
         assert isinstance(app.screen, MainScreen)
         main_screen(app).field("weight").control.value = ""
@@ -175,4 +178,35 @@ async def test_the_verification_keys_are_in_its_footer() -> None:
         await pilot.press("f3")
         await pilot.pause()
         keys = {(k.key, k.description) for k in app.screen.query(FooterKey)}
-        assert {("ctrl+s", "save"), ("escape", "back"), ("f3", "verify"), ("f1", "help")} <= keys
+        assert {("ctrl+s", "save"), ("ctrl+y", "copy sha256"), ("ctrl+p", "print"), ("escape", "back"),
+                ("f1", "help")} <= keys  # fmt: skip
+        # At 80 columns f3 and f4 stay out of this footer; they still work, and help (f1) lists them.
+        assert not {"f3", "f4"} & {key for key, _ in keys}
+
+
+@sync
+async def test_the_saved_records_sha256_is_copied_and_the_record_printed(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    log = tmp_path / "app.jsonl"
+    monkeypatch.setenv("OSMODOSE_LOG", str(log))
+    printed = tmp_path / "record.txt"
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB")
+        await pilot.press("ctrl+y")  # nothing saved yet: nothing to copy
+        assert app.clipboard == ""
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await pilot.press("ctrl+y")
+        [stored] = read_log(log).entries
+        assert app.clipboard == stored.sha256
+        await pilot.press("ctrl+p")
+        await pilot.pause()
+        assert isinstance(app.screen, SaveScreen)
+        app.screen.query_one("#save-path", Input).value = str(printed)
+        await pilot.press("enter")
+        await pilot.pause()
+    text = printed.read_text(encoding="utf-8")
+    assert text.startswith(f"✔ SAVED as record 1 in {log}\nsha256 {stored.sha256}\n")
+    assert stored.entry.record.render_text() in text

@@ -6,8 +6,10 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from osmodose.app.view import SYMBOL, banner_text, evaluate
+from osmodose.app.form_view import AMOUNT_HINT
+from osmodose.app.view import SCREEN_NAMES, SYMBOL, banner_text, echo, evaluate, show
 from osmodose.formulary import Formulary
+from osmodose.science.choices import DOSE_MODE as DOSE_CHOICE
 from tests.app.driving import MANNITOL, REFUSE, SALINE
 
 
@@ -61,3 +63,30 @@ def test_any_half_typed_text_gives_a_result_or_a_marked_field(demo: Formulary, k
     assert (outcome.result is None) == (outcome.error is not None)
     if outcome.error is not None:
         assert outcome.field is not None
+        words = outcome.message.replace(typed, "")  # what was typed is quoted as typed
+        assert "--" not in words and "target-rise" not in words
+
+
+@pytest.mark.parametrize("mode", DOSE_CHOICE.values)
+def test_every_dose_style_has_a_hint_and_errors_name_it_as_on_screen(demo: Formulary, mode: str) -> None:
+    # Generated from the choice: a new style (an absolute target sodium) gets its hint and its words here.
+    assert AMOUNT_HINT[mode]
+    outcome = evaluate({**SALINE, "dose-mode": mode, "amount": "100000"}, demo)
+    assert outcome.field == "amount" and outcome.error is not None
+    assert outcome.message.startswith(f"{DOSE_CHOICE.label(mode)}: ")
+    assert not any(key in outcome.message for key in SCREEN_NAMES if SCREEN_NAMES[key] != key and "-" in key)
+
+
+def test_a_target_change_out_of_range_says_so_in_the_screen_words(demo: Formulary) -> None:
+    outcome = evaluate({**SALINE, "amount": "134"}, demo)
+    # The field table's plausible range for a target change: -30 to 30 mmol/L (common practice).
+    assert outcome.message.startswith("target Na change: 134 is outside the plausible range (accepted: -30 to 30")
+    assert "target-rise" not in outcome.message and "target-rise" not in show(outcome, SALINE).mark
+
+
+def test_a_bare_number_reads_with_its_unit_and_a_typed_unit_with_its_value() -> None:
+    assert echo("weight", "62") == ("kg", "")
+    # 154 lb x 0.45359237 kg/lb = 69.85 kg (the international pound, NIST SP 811).
+    assert echo("weight", "154 lb") == ("", "= 69.9 kg")
+    assert echo("duration", "30") == ("min", "")
+    assert echo("weight", "7,5") == ("", "")  # not read: nothing is claimed beside it

@@ -41,7 +41,7 @@ def test_the_check_screens_own_order_is_left_out_of_the_patient() -> None:
     check_screen = {**VERIFY_PATIENT, "height": "", "agent": "nacl-3", "dose-mode": "dose", "amount": "6",
                     "duration": "20", "line": "central"}  # fmt: skip
     assert patient_fields(check_screen) == VERIFY_PATIENT
-    assert patient_summary({"weight": "70", "bun": "14"}) == "weight 70, BUN 14"
+    assert patient_summary({"weight": "70", "bun": "14"}) == "weight 70 kg, BUN 14 mg/dL"
     assert patient_summary({}) == "nothing typed"
 
 

@@ -12,13 +12,15 @@ from collections.abc import Callable, Mapping
 from functools import partial
 from typing import ClassVar
 
+from rich.text import Text
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Label, Static, TabbedContent, TabPane
 
+from osmodose.app import keys
 from osmodose.app.course_view import (
     ENTRY_FIELDS,
     ENTRY_TITLES,
@@ -32,52 +34,52 @@ from osmodose.app.course_view import (
     notes_lines,
     open_course,
     plan_next,
+    row_marks,
     status_text,
 )
+from osmodose.app.form_view import agent_choices
 from osmodose.app.plot_view import pressure_panel, sodium_panel
 from osmodose.app.screens.entry import EntryScreen
 from osmodose.app.widgets.course_plot import CoursePlot, PlotLegend
-from osmodose.app.widgets.formulary_bar import formulary_line
-from osmodose.check.results import CAUTION
+from osmodose.app.widgets.formulary_bar import FormularyBar, formulary_line
+from osmodose.app.widgets.status_banner import StatusBanner
+from osmodose.caution import CAUTION
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
 
 TIMELINE_COLUMNS = ("time", "entry", "details")
 _STYLE = {"ok": "bold $text-success", "warn": "bold $text-warning", "refuse": "bold $text-error"}
+#: Rows of the timeline a finding is about (rich styles: table cells do not take the theme's variables).
+_ROW_STYLE = {"warn": "bold dark_orange", "refuse": "bold red"}
 STATES = ("ok", "warn", "refuse")
 
 
 class CourseScreen(Screen[None]):
     """Shows `self.state`; `remember` hands every newly read state back to the app."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [
-        Binding("l", "add('lab')", "lab"),
-        Binding("d", "add('dose')", "dose"),
-        Binding("r", "add('reading')", "reading"),
-        Binding("u", "add('output')", "urine"),
-        Binding("p", "plan", "plan"),
-        Binding("o", "open", "open"),
-        Binding("escape", "app.pop_screen", "back"),
-        Binding("1", "tab('tab-timeline')", "timeline tab", show=False),
-        Binding("2", "tab('tab-plot')", "plot tab", show=False),
-        Binding("3", "tab('tab-findings')", "findings tab", show=False),
-    ]
+    BINDINGS: ClassVar[list[BindingType]] = keys.COURSE
 
     def __init__(
-        self, formulary: Formulary, state: CourseState | None, remember: Callable[[CourseState], None]
+        self,
+        formulary: Formulary,
+        state: CourseState | None,
+        remember: Callable[[CourseState], None],
+        demo: bool = False,
     ) -> None:
         super().__init__(id="course-screen")
         self.formulary = formulary
+        self.demo = demo
         self.state = state
         self.remember = remember
 
     def compose(self) -> ComposeResult:
+        yield FormularyBar(self.formulary, self.demo)
         with Vertical(id="course-open"):
             yield Label("episode file to open (JSON), then enter:")
             yield Input(placeholder="bed3.json", id="course-path")
             yield Static("", id="course-open-message", markup=False)
         yield Static("", id="course-head", markup=False)
-        yield Static("", id="course-status", markup=False)
+        yield StatusBanner("course-status")
         with TabbedContent(id="course-tabs"):
             with TabPane("timeline", id="tab-timeline"):
                 yield DataTable(id="course-timeline", cursor_type="row", zebra_stripes=True)
@@ -105,10 +107,7 @@ class CourseScreen(Screen[None]):
             self.query_one("#course-path", Input).focus()
             return
         self.query_one("#course-head", Static).update(head_text(state))
-        status = self.query_one("#course-status", Static)
-        status.update(status_text(state))
-        for name in STATES:
-            status.set_class(state.review.status == name, f"-{name}")
+        self.query_one(StatusBanner).show(status_text(state), state.review.status)
         self._fill_table(state)
         for plot_id, legend_id, make in (
             ("#sodium-plot", "#sodium-legend", sodium_panel),
@@ -134,8 +133,16 @@ class CourseScreen(Screen[None]):
         details = max(30, self.size.width - time_width - entry_width - 3 * 2 - 2)
         for label, width in zip(TIMELINE_COLUMNS, (time_width, entry_width, details), strict=True):
             table.add_column(label, width=width)
-        for row in state.rows:
-            table.add_row(*row, height=None)
+        for (time, entry, text), (severity, mark) in zip(state.rows, row_marks(state), strict=True):
+            if mark:  # word and colour: the finding's symbol, word and code under the values it is about
+                cells: tuple[str | Text, ...] = (
+                    Text(time, style=_ROW_STYLE[severity]),
+                    Text(entry, style=_ROW_STYLE[severity]),
+                    Text.assemble(text, "\n", (mark, _ROW_STYLE[severity])),
+                )
+            else:
+                cells = (time, entry, text)
+            table.add_row(*cells, height=None)
         table.move_cursor(row=len(state.rows) - 1)
         if self.app.focused is None or isinstance(self.app.focused, Input):
             table.focus()
@@ -183,7 +190,7 @@ class CourseScreen(Screen[None]):
         self.query_one(f"#{pane_id}").query("DataTable, VerticalScroll").first().focus()
 
     def _agents(self) -> tuple[tuple[str, str], ...]:
-        return tuple((a.id, a.id) for a in self.formulary.agents)
+        return agent_choices(self.formulary.agents)
 
     def action_add(self, kind: EntryKind) -> None:
         if self.state is None:

@@ -12,13 +12,14 @@ from collections.abc import Callable, Mapping
 from typing import ClassVar
 
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Input, Label, Static
 
+from osmodose.app import keys
 from osmodose.app.course_view import CourseState, FormOutcome
-from osmodose.app.view import FieldSpec
+from osmodose.app.form_view import FieldSpec
 from osmodose.app.widgets.form_field import FormField
 
 Submit = Callable[[Mapping[str, str]], FormOutcome]
@@ -28,10 +29,7 @@ HINT = "enter: next field (on the last: {verb}) · ctrl+s: {verb} · escape: can
 class EntryScreen(ModalScreen[CourseState | None]):
     """Returns the new state after a save, or None when cancelled."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [
-        Binding("ctrl+s", "submit", "save"),
-        Binding("escape", "cancel", "cancel"),
-    ]
+    BINDINGS: ClassVar[list[BindingType]] = keys.FORM
 
     def __init__(
         self,

@@ -1,68 +1,62 @@
-"""The check: the paper form on the left, its figures and checks on the right, recomputed on every change."""
+"""The check: the paper form on the left, its figures and checks on the right, recomputed on every change.
+
+The screen is laid out from the form's plain data alone (`form_view`), so it
+is on screen, and typed into, while the app's loader thread reads the
+formulary and imports the engine.  Until `engine_ready` it shows a loading
+state and no figure; after it, every change is read by `view.evaluate` (the
+core, as `osmodose check` reads it) and shown from `view.show`.
+"""
 
 from __future__ import annotations
 
 from datetime import datetime
-from typing import ClassVar
+from typing import TYPE_CHECKING, ClassVar
 
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Input, Select, Static
 
-from osmodose.app.screens.labs_file import LabsFileScreen
-from osmodose.app.screens.save import SaveScreen
-from osmodose.app.view import (
-    AMOUNT,
-    AMOUNT_HINT,
-    DOSE_MODE,
-    FIELDS,
-    PATIENT_FIGURES,
-    LoadedLabs,
-    Outcome,
-    daily_fall_rows,
-    equiosmolar_rows,
-    evaluate,
-    fill_texts,
-    patient_texts,
-)
-from osmodose.app.widgets.agent_volumes import AgentVolumes
-from osmodose.app.widgets.dose_panel import DosePanel
-from osmodose.app.widgets.figures import FigurePanel
-from osmodose.app.widgets.findings import ChecksPanel, LabsFilePanel, NotesPanel
+from osmodose.app import keys
+from osmodose.app.form_view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, agent_choices
+from osmodose.app.shown import Shown, loading_shown
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.lines import LinesPanel
 from osmodose.app.widgets.status_banner import StatusBanner
-from osmodose.check.report import render_text
-from osmodose.check.results import CAUTION
-from osmodose.datain import FhirFile
-from osmodose.errors import OsmodoseError
-from osmodose.formulary.model import Formulary
+from osmodose.caution import CAUTION
+
+if TYPE_CHECKING:
+    from osmodose.app.view import LoadedLabs, Outcome
+    from osmodose.datain import FhirFile
+    from osmodose.formulary.model import Formulary
 
 PANELS = ("patient", "labs", "order")
+STATES = ("ok", "warn", "refuse", "invalid", "incomplete", "loading")
 
 
 class MainScreen(Screen[None]):
-    """Holds the latest `Outcome`; every shown figure comes from it and nothing else."""
+    """Holds the latest `Shown`; every figure on screen comes from it and nothing else."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [
-        Binding("ctrl+s", "save", "save"),
-        Binding("ctrl+y", "copy", "copy"),
-        Binding("ctrl+n", "new_case", "new"),
-        Binding("ctrl+l", "labs_file", "labs"),
-    ]
+    BINDINGS: ClassVar[list[BindingType]] = keys.CHECK
 
-    def __init__(self, formulary: Formulary) -> None:
+    def __init__(self, formulary: Formulary | None = None, demo: bool = False, loading: str = "") -> None:
         super().__init__(id="main-screen")
         self.formulary = formulary
+        self.demo = demo
+        self.loading_text = loading
+        self.outcome: Outcome | None = None
         self.labs: LoadedLabs | None = None
-        self.outcome: Outcome = evaluate({}, formulary)
+        self.shown: Shown = loading_shown(loading)
+        # Every box of the form, built once: read and marked on each key without a query.
+        self.fields = {spec.key: FormField(spec) for spec in FIELDS}
 
     def compose(self) -> ComposeResult:
-        agents = tuple((a.id, a.id) for a in self.formulary.agents)
-        yield FormularyBar(self.formulary)
-        yield StatusBanner()
+        yield FormularyBar(self.formulary, self.demo, self.loading_text)
+        shown = self.shown  # the loading state, or the empty form's: the first frame is the final one
+        yield StatusBanner("status", shown.banner, shown.state)
+        yield LinesPanel("summary", classes="summary", lines=shown.summary)
         with Horizontal(id="body"):
             form = VerticalScroll(id="form")
             form.can_focus = False  # Tab goes straight to the first field
@@ -70,29 +64,37 @@ class MainScreen(Screen[None]):
                 for panel in PANELS:
                     with Vertical(id=panel, classes="panel") as box:
                         box.border_title = panel
-                        for spec in FIELDS:
-                            if spec.panel == panel:
-                                yield FormField(spec, agents if spec.key == "agent" else ())
-            with VerticalScroll(id="results"):
-                yield ChecksPanel()
-                yield DosePanel()
-                yield AgentVolumes("equiosmolar", "equiosmolar (same ideal mOsm)", equiosmolar_rows)
-                yield FigurePanel("figures", "figures", PATIENT_FIGURES)
-                yield AgentVolumes("daily-fall", "to lower Na by the daily fall limit", daily_fall_rows)
-                yield NotesPanel()
-                yield LabsFilePanel()
+                        yield from (f for f in self.fields.values() if f.spec.panel == panel)
+            with VerticalScroll(id="results", classes=f"-{shown.state}"):
+                yield LinesPanel("checks", "checks", lines=shown.checks)
+                yield LinesPanel("dose", shown.dose_title, lines=shown.dose)
+                yield LinesPanel("figures", "figures", lines=shown.figures)
+                notes = LinesPanel("notes", "notes", lines=tuple(((note, "muted"),) for note in shown.notes))
+                notes.display = bool(shown.notes)
+                yield notes
+                labs_file = LinesPanel("labs-file", "labs file")
+                labs_file.display = False
+                yield labs_file
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
 
     def on_mount(self) -> None:
-        self.recompute()
+        if self.formulary is not None:
+            self.engine_ready(self.formulary, self.demo)
         self.field("weight").control.focus()
 
+    def engine_ready(self, formulary: Formulary, demo: bool) -> None:
+        """The formulary is read and valid, the engine imported: offer its agents and judge what is typed."""
+        self.formulary, self.demo = formulary, demo
+        self.field("agent").set_choices(agent_choices(formulary.agents))
+        self.query_one(FormularyBar).show(formulary, demo)
+        self.recompute()
+
     def field(self, key: str) -> FormField:
-        return self.query_one(f"#field-{key}", FormField)
+        return self.fields[key]
 
     def values(self) -> dict[str, str]:
-        return {f.spec.key: f.value for f in self.query(FormField)}
+        return {key: f.value for key, f in self.fields.items()}
 
     def on_input_changed(self, event: Input.Changed) -> None:
         event.stop()
@@ -102,7 +104,9 @@ class MainScreen(Screen[None]):
         event.stop()
         if event.select.id == f"in-{DOSE_MODE}":
             mode = self.field(DOSE_MODE).value or "dose"
-            self.field(AMOUNT).query_one(Input).placeholder = AMOUNT_HINT[mode]
+            amount = self.field(AMOUNT).control
+            if isinstance(amount, Input):
+                amount.placeholder = AMOUNT_HINT.get(mode, "")
         self.recompute()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
@@ -110,34 +114,53 @@ class MainScreen(Screen[None]):
         self.focus_next()
 
     def recompute(self) -> None:
-        """Evaluate the whole form and replace every shown figure (or blank them all)."""
-        outcome = evaluate(self.values(), self.formulary, self.labs)
-        self.outcome = outcome
-        for f in self.query(FormField):
-            if f.spec.key == outcome.field:
-                f.mark(("… needed: " if outcome.missing else "✖ ") + str(outcome.error), bad=not outcome.missing)
-            else:
-                f.mark("", bad=False)
-        self.query_one(StatusBanner).show(outcome)
-        result = outcome.result
-        self.query_one("#figures", FigurePanel).show(patient_texts(result) if result else None)
-        self.query_one(DosePanel).show_outcome(outcome)
-        for table in self.query(AgentVolumes):
-            table.show(outcome)
-        self.query_one(ChecksPanel).show(outcome)
-        self.query_one(NotesPanel).show(outcome)
-        self.query_one(LabsFilePanel).show(outcome)
+        """Evaluate the whole form and replace every shown figure (or blank them all); nothing while loading."""
+        if self.formulary is None:
+            return  # what is typed is kept, and judged as soon as the formulary is read
+        from osmodose.app import view  # noqa: PLC0415 (imported by the loader thread before this runs)
+
+        values = self.values()
+        self.outcome = view.evaluate(values, self.formulary, self.labs)
+        self.draw(view.show(self.outcome, values))
+
+    def draw(self, shown: Shown) -> None:
+        """Put `shown` on screen; each widget is touched only where its text changed."""
+        self.shown = shown
+        for f in self.fields.values():
+            marked = f.spec.key == shown.marked
+            unit, converted = shown.echoes.get(f.spec.key, ("", ""))
+            f.mark(shown.mark if marked else "", marked and not shown.missing, converted)
+            f.read_as(unit)
+        self.query_one(StatusBanner).show(shown.banner, shown.state)
+        self.query_one("#summary", LinesPanel).show(shown.summary)
+        self.query_one("#checks", LinesPanel).show(shown.checks)
+        self.query_one("#dose", LinesPanel).show(shown.dose, shown.dose_title)
+        self.query_one("#figures", LinesPanel).show(shown.figures)
+        notes = self.query_one("#notes", LinesPanel)
+        notes.show(tuple(((note, "muted"),) for note in shown.notes))
+        if notes.display != bool(shown.notes):
+            notes.display = bool(shown.notes)
+        labs_file = self.query_one("#labs-file", LinesPanel)
+        labs_file.show(tuple(((line, "muted"),) for line in shown.labs_file))
+        if labs_file.display != bool(shown.labs_file):
+            labs_file.display = bool(shown.labs_file)
         results = self.query_one("#results")
-        for state in ("ok", "warn", "refuse", "invalid", "incomplete"):
-            results.set_class(outcome.state == state, f"-{state}")
+        for state in STATES:
+            results.set_class(shown.state == state, f"-{state}")
 
     def _summary(self) -> str | None:
-        if self.outcome.result is None:
-            self.notify(f"Nothing to save: the results are not valid ({self.outcome.error}).", severity="error")
+        outcome = self.outcome
+        if outcome is None or outcome.result is None:
+            why = outcome.message if outcome is not None else "the formulary is still being read"
+            self.notify(f"Nothing to save: the results are not valid ({why}).", severity="error")
             return None
-        return render_text(self.outcome.result)
+        from osmodose.check.report import render_text  # noqa: PLC0415 (loaded with the engine)
+
+        return render_text(outcome.result)
 
     def action_save(self) -> None:
+        from osmodose.app.screens.save import SaveScreen  # noqa: PLC0415 (opened when first asked for)
+
         text = self._summary()
         if text is not None:
             self.app.push_screen(SaveScreen(text), self._saved)
@@ -154,16 +177,24 @@ class MainScreen(Screen[None]):
 
     def action_new_case(self) -> None:
         self.labs = None
-        for f in self.query(FormField):
+        for f in self.fields.values():
             f.reset()
         self.recompute()
         self.field("weight").control.focus()
 
     def action_labs_file(self) -> None:
+        from osmodose.app.screens.labs_file import LabsFileScreen  # noqa: PLC0415 (opened when first asked for)
+
+        if self.formulary is None:
+            self.notify("The formulary is still being read: no labs file yet.", severity="error")
+            return
         self.app.push_screen(LabsFileScreen(), self._labs_read)
 
     def _labs_read(self, file: FhirFile | None) -> None:
         """Fill the empty boxes from the file (typed ones stay, and win), then recompute."""
+        from osmodose.app.view import LoadedLabs, fill_texts  # noqa: PLC0415 (loaded with the engine)
+        from osmodose.errors import OsmodoseError  # noqa: PLC0415
+
         if file is None:
             return
         try:

@@ -11,57 +11,61 @@ from collections.abc import Callable
 from typing import ClassVar
 
 from textual.app import ComposeResult
-from textual.binding import Binding, BindingType
+from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
-from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import Checkbox, Footer, Input, Select, Static
 
+from osmodose.app import keys
+from osmodose.app.form_view import agent_choices
 from osmodose.app.verify_view import (
     INITIALS_SPEC,
     ORDER_SPECS,
     PATIENT,
+    PRINT_NAME,
+    RETYPE_NOTE,
     Entry,
     SaveNote,
     VerifyState,
     box_message,
+    box_reading,
+    check_lines,
     decision_text,
-    discrepancy_rows,
+    discrepancy_lines,
     evaluate,
     not_saved_text,
     patient_fields,
     patient_summary,
+    printable,
     problem_text,
+    recomputed_lines,
     saved_text,
+    summary_lines,
 )
-from osmodose.app.view import DOSE_FIGURES, Outcome, dose_texts
 from osmodose.app.widgets.accept_panel import AcceptPanel
-from osmodose.app.widgets.figures import FigurePanel
-from osmodose.app.widgets.findings import ChecksPanel
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.lines import LinesPanel, set_text
+from osmodose.app.widgets.status_banner import StatusBanner
+from osmodose.caution import CAUTION
 from osmodose.check.judging import worst_status
-from osmodose.check.results import CAUTION
 from osmodose.errors import LogError
 from osmodose.formulary.model import Formulary
 from osmodose.verify import append_record, log_path
 
 STATES = ("ok", "warn", "refuse", "invalid", "incomplete")
-_STYLE = {"warn": "bold $text-warning", "refuse": "bold $text-error"}
 NOT_SAVED_YET = "not saved yet: ctrl+s appends this record to the verification log"
 
 
 class VerifyScreen(Screen[None]):
     """Keeps what was typed while the user goes back to the check screen (it is installed, not rebuilt)."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [
-        Binding("ctrl+s", "save", "save"),
-        Binding("escape", "back", "back"),
-    ]
+    BINDINGS: ClassVar[list[BindingType]] = keys.VERIFY
 
-    def __init__(self, formulary: Formulary, check_values: Callable[[], dict[str, str]]) -> None:
+    def __init__(self, formulary: Formulary, check_values: Callable[[], dict[str, str]], demo: bool = False) -> None:
         super().__init__(id="verify-screen")
         self.formulary = formulary
+        self.demo = demo
         self.check_values = check_values
         self.ticks: dict[str, bool] = {}
         self.reasons: dict[str, str] = {}
@@ -71,13 +75,14 @@ class VerifyScreen(Screen[None]):
         self.generation = 0
 
     def compose(self) -> ComposeResult:
-        agents = tuple((a.id, a.id) for a in self.formulary.agents)
-        yield FormularyBar(self.formulary)
-        yield Static("", id="verify-status", markup=False)
+        agents = agent_choices(self.formulary.agents)
+        yield FormularyBar(self.formulary, self.demo)
+        yield StatusBanner("verify-status")
         yield Static(NOT_SAVED_YET, id="verify-saved", markup=False)
+        yield LinesPanel("verify-summary", classes="summary")
         with Horizontal(id="verify-body"):
             form = VerticalScroll(id="verify-form")
-            form.can_focus = False
+            form.can_focus = False  # Tab goes from box to box, never to a scroll area
             with form:
                 with Vertical(id="verify-patient", classes="panel") as box:
                     box.border_title = "patient & labs"
@@ -86,18 +91,19 @@ class VerifyScreen(Screen[None]):
                     yield Static("typed on the check screen: escape to change", classes="hint", markup=False)
                 with Vertical(id="verify-order", classes="panel") as box:
                     box.border_title = "order as written"
+                    yield Static(RETYPE_NOTE, id="retype-note", classes="hint", markup=False)
                     for spec in ORDER_SPECS:
                         yield FormField(spec, agents if spec.key == "agent" else ())
                 with Vertical(id="verify-verifier", classes="panel") as box:
                     box.border_title = "verifier"
                     yield FormField(INITIALS_SPEC)
-            with VerticalScroll(id="verify-results"):
-                discrepancies = Static("", id="discrepancies", classes="panel")
-                discrepancies.border_title = "as written vs recomputed"
-                yield discrepancies
-                yield ChecksPanel()
+            results = VerticalScroll(id="verify-results")
+            results.can_focus = False  # the accept boxes and reasons in it are the Tab stops
+            with results:
+                yield LinesPanel("discrepancies", "as written vs recomputed")
+                yield LinesPanel("checks", "checks")
                 yield AcceptPanel()
-                yield FigurePanel("recomputed", "recomputed from the volume", DOSE_FIGURES)
+                yield LinesPanel("recomputed", "recomputed from the volume")
         yield Static(CAUTION, id="caution", markup=False)
         yield Footer()
 
@@ -147,23 +153,25 @@ class VerifyScreen(Screen[None]):
         if generation != self.generation:
             return  # a newer evaluation started while the boxes were rebuilt: it shows everything
         self.verification = state
-        status = self._show("verify-status", decision_text(state))
-        for name in STATES:
-            status.set_class(state.state == name, f"-{name}")
+        self.query_one(StatusBanner).show(decision_text(state), state.state)
         self._show("patient-typed", patient_summary(entry.patient))
         self._show("patient-error", box_message(state, PATIENT)).display = state.field == PATIENT
         for f in self.query(FormField):
             message = box_message(state, f.spec.key)
-            f.mark(message, bad=bool(message) and not state.missing)
-        preview = state.preview
-        self._show("discrepancies", self._discrepancies(state))
-        self.query_one(ChecksPanel).show(Outcome(preview.result if preview else None, state.error))
+            unit, converted = box_reading(entry, f.spec.key) if not message else ("", "")
+            f.mark(message, bool(message) and not state.missing, converted)
+            f.read_as(unit)
+        self.query_one("#verify-summary", LinesPanel).show(summary_lines(state, entry))
+        self.query_one("#discrepancies", LinesPanel).show(discrepancy_lines(state))
+        self.query_one("#checks", LinesPanel).show(check_lines(state))
         accept.mark(state.field or "", box_message(state, state.field or ""), bad=not state.missing)
-        self.query_one("#recomputed", FigurePanel).show(dose_texts(preview.result) if preview else None)
+        self.query_one("#recomputed", LinesPanel).show(recomputed_lines(state))
+        preview = state.preview
         borders: dict[str, list[str]] = {
             "discrepancies": [d.severity for d in preview.discrepancies] if preview else [],
             "checks": [x.severity for x in preview.result.findings] if preview else [],
             "accept": ["refuse"] * len(state.refusals) + ["warn"] * len(state.acceptable),
+            "recomputed": ["refuse"] if state.outcome == "refused" else [],
         }
         for panel_id, severities in borders.items():
             panel = self.query_one(f"#{panel_id}")
@@ -172,26 +180,11 @@ class VerifyScreen(Screen[None]):
         self._show_note(entry)
 
     def _show(self, static_id: str, text: str) -> Static:
-        """Replace a line's text only when it changed (an update re-lays the screen out)."""
+        """Replace a line's text only when it changed, without a relayout unless its size changes."""
         box = self.query_one(f"#{static_id}", Static)
-        if self.shown.get(static_id) != text:
+        if set_text(box, text, self.shown.get(static_id, "")):
             self.shown[static_id] = text
-            box.update(text)
         return box
-
-    @staticmethod
-    def _discrepancies(state: VerifyState) -> str:
-        if state.preview is None:
-            return "[$text-muted]not valid: nothing to compare until the order reads[/]"
-        rows = discrepancy_rows(state.preview.discrepancies)
-        if not rows:
-            return "[$text-success]✔ none: the order as written agrees with the recomputation[/]"
-        return "\n".join(
-            f"[{_STYLE[severity]}]{escape(heading)}[/]\n"
-            + (f"[bold]{escape(side)}[/]\n" if side else "")
-            + f"[$text-muted]{escape(message)}[/]"
-            for severity, heading, side, message in rows
-        )
 
     def _show_note(self, entry: Entry) -> None:
         note = self.note if self.note is not None and self.note.key == entry.key() else None
@@ -216,9 +209,38 @@ class VerifyScreen(Screen[None]):
             except LogError as error:
                 self.note = SaveNote(entry.key(), not_saved_text(error), False)
             else:
-                self.note = SaveNote(entry.key(), saved_text(saved.sequence, digest, path), True)
+                self.note = SaveNote(entry.key(), saved_text(saved.sequence, digest, path), True, digest)
         self.notify(self.note.text.splitlines()[0], severity="information" if self.note.saved else "error")
         await self.recompute()
 
     def action_back(self) -> None:
         self.app.pop_screen()
+
+    def _saved_record(self) -> SaveNote | None:
+        """The last save, while it still belongs to what is on screen."""
+        note = self.note
+        if note is not None and note.saved and note.key == self.entry().key():
+            return note
+        return None
+
+    def action_copy_sha(self) -> None:
+        """Copy the saved record's SHA-256 (to note in the chart; `osmodose log verify --expect` proves it)."""
+        note = self._saved_record()
+        if note is None:
+            self.notify("Nothing to copy yet: ctrl+s saves the record and gives its sha256.", severity="error")
+            return
+        self.app.copy_to_clipboard(note.sha256)
+        self.notify(f"sha256 {note.sha256} copied to the terminal's clipboard (where the terminal allows it).")
+
+    def action_print(self) -> None:
+        """Save the record as printable text (the saved record, or the decision on screen if not saved yet)."""
+        from osmodose.app.screens.save import SaveScreen  # noqa: PLC0415 (opened when first asked for)
+
+        state = self.verification
+        record = state.record if state is not None else None
+        if record is None:
+            self.notify(f"Nothing to print: {problem_text(state) if state else 'no order'}.", severity="error")
+            return
+        note = self._saved_record()
+        text = printable(record, note)
+        self.app.push_screen(SaveScreen(text, default_name=PRINT_NAME, what="the verification record"))

@@ -1,25 +1,23 @@
-"""The status line: ok, warn, refuse (or not valid) by word, symbol and colour at once."""
+"""The status line: ok, warn, refuse (or not valid, loading) by word, symbol and colour at once."""
 
 from __future__ import annotations
 
 from textual.widgets import Static
 
-from osmodose.app.view import Outcome, banner_text
+from osmodose.app.widgets.lines import set_text
 
-STATES = ("ok", "warn", "refuse", "invalid", "incomplete")
+STATES = ("ok", "warn", "refuse", "invalid", "incomplete", "loading")
 
 
 class StatusBanner(Static):
     """Coloured by state through CSS classes; the word and symbol carry it without colour."""
 
-    def __init__(self) -> None:
-        super().__init__("", id="status", markup=False)
-        self.text = ""
+    def __init__(self, banner_id: str = "status", text: str = "", state: str = "") -> None:
+        super().__init__(text, id=banner_id, classes=f"status -{state}" if state else "status", markup=False)
+        self.text = text
 
-    def show(self, outcome: Outcome) -> None:
-        text = banner_text(outcome)
-        if text != self.text:
+    def show(self, text: str, state: str) -> None:
+        if set_text(self, text, self.text):
             self.text = text
-            self.update(text)
-        for state in STATES:
-            self.set_class(state == outcome.state, f"-{state}")
+        for name in STATES:
+            self.set_class(state == name, f"-{name}")
