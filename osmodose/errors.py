@@ -176,3 +176,19 @@ class OrdersFileError(OsmodoseError):
         if accepted:
             text += f" (accepted: {accepted})"
         super().__init__(text)
+
+
+class SigningKeyError(OsmodoseError):
+    """The unit's key for signing verification records cannot be made, read or used.
+
+    Names the key file; never prints the key.
+    """
+
+    def __init__(self, path: Path | str, problem: str) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        super().__init__(f"signing key {self.path}: {problem}")
+
+
+class OutputError(OsmodoseError):
+    """What a command made could not be written out (a full disk, a closed pipe); the message says what was kept."""

@@ -20,6 +20,19 @@ REPO_ROOT = Path(__file__).resolve().parent.parent
 
 
 @pytest.fixture(scope="session")
+def _test_key_folder(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    return tmp_path_factory.mktemp("signing-key")
+
+
+@pytest.fixture(autouse=True)
+def _signing_key_outside_home(_test_key_folder: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
+    """Every test signs log records with a key of the test run's own ($OSMODOSE_LOG_KEY), never the user's."""
+    path = _test_key_folder / "log-signing.key"
+    monkeypatch.setenv("OSMODOSE_LOG_KEY", str(path))
+    return path
+
+
+@pytest.fixture(scope="session")
 def demo() -> Formulary:
     """The bundled demo formulary (an invented unit)."""
     return load_formulary(demo_formulary_path())

@@ -4,16 +4,25 @@ Exit status answers "may this be given as written?": 0 released (with or
 without accepted warnings), 3 held (a warning not accepted yet), 4 refused,
 2 bad input or a log that cannot be appended to (then nothing is shown as
 verified: a verification is only reported once its record is on disk).
+
+A log whose chain is broken is not appended to (exit 2, naming the first
+problem) unless --append-to-broken-log is given, and then the new record
+says so.  Output that cannot be written after the record was saved (a full
+disk, a closed pipe) is reported with the record's number, so a retry does
+not verify the same order twice.
 """
 
 from __future__ import annotations
 
 import argparse
 import json
+import sys
 
 from osmodose.cli.exit_codes import OK, REFUSE, WARN
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
+from osmodose.errors import OutputError
+from osmodose.safe_text import escape_controls
 
 HELP = "re-check an order as written, decide on it, and append an initialled record to the verification log"
 
@@ -62,6 +71,18 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         default=None,
         help="the log to append to (default: $OSMODOSE_LOG, else ~/.local/state/osmodose/verifications.jsonl)",
     )
+    verifier.add_argument(
+        "--key",
+        metavar="PATH",
+        default=None,
+        help="the unit's signing key (default: $OSMODOSE_LOG_KEY, else ~/.config/osmodose/log-signing.key; "
+        "made on first use)",
+    )
+    verifier.add_argument(
+        "--append-to-broken-log",
+        action="store_true",
+        help="append even though the log's chain is broken (the record notes the first problem)",
+    )
     parser.add_argument("--json", action="store_true", help="print the saved log entry as JSON instead of the record")
     parser.set_defaults(handler=run)
 
@@ -70,6 +91,7 @@ def run(args: argparse.Namespace) -> int:
     from osmodose.case.inputs import parse_check_request  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify.order import ORDER_FIELDS  # noqa: PLC0415 (kept out of start-up)
+    from osmodose.verify.signing import key_path, signer_for_log  # noqa: PLC0415 (kept out of start-up)
 
     formulary = formulary_from_args(args)
     patient = {k: v for k, v in case_fields(args).items() if k not in ORDER_FIELDS}
@@ -78,18 +100,37 @@ def run(args: argparse.Namespace) -> int:
     acceptances = [parse_acceptance(text) for text in args.accept]
     record = verify_order(request, order, formulary, acceptances, args.initials)
     path = log_path(args.log)
-    entry, digest = append_record(path, record)
+    signer, made = signer_for_log(key_path(args.key), path)
+    entry, digest = append_record(path, record, signer, append_to_broken_log=args.append_to_broken_log)
+    try:
+        _show(args, path, record, entry, digest)
+        if made:
+            sys.stderr.write(f"osmodose: made the unit's signing key {signer.path} (key id {signer.key_id})\n")
+        sys.stdout.flush()
+    except OSError as error:
+        raise OutputError(
+            f"the verification was saved as record {entry.sequence} in {path} (sha256 {digest}), but it could not "
+            f"be printed ({error.strerror or type(error).__name__}): do not verify it again; "
+            f"osmodose log show {entry.sequence} prints it"
+        ) from None
+    return BY_OUTCOME[record.outcome]
+
+
+def _show(args: argparse.Namespace, path: object, record, entry, digest: str) -> None:  # type: ignore[no-untyped-def]
     if args.json:
         shown = {
             "log": str(path),
             "sequence": entry.sequence,
             "sha256": digest,
             "previous_sha256": entry.previous_sha256,
+            "signed_by": entry.signed_by,
+            "appended_to_broken_log": entry.appended_to_broken_log,
             "record": record.to_json(),
         }
         print(json.dumps(shown, indent=2))
-    else:
-        print(record.render_text(), end="")
-        print(f"saved as record {entry.sequence} in {path}")
-        print(f"record sha256 {digest} (note it in the chart: osmodose log verify --expect checks it)")
-    return BY_OUTCOME[record.outcome]
+        return
+    print(escape_controls(record.render_text(), keep_lines=True), end="")
+    if entry.appended_to_broken_log:
+        print(f"appended to a log whose chain is broken: {entry.appended_to_broken_log}")
+    print(f"saved as record {entry.sequence} in {path}")
+    print(f"record sha256 {digest} (note it in the chart: osmodose log verify --expect checks it)")
