@@ -94,4 +94,3 @@ def test_a_closed_stdout_is_one_line_and_exit_two(args: list[str]) -> None:
     done = _run_with_stdout(args, None, close_stdout=True)
     assert done.returncode == 2
     assert done.stderr == "osmodose: standard output is closed: nothing was done\n"
-

@@ -35,8 +35,9 @@ def test_an_episode_survives_a_save_and_a_load(tmp_path: Path) -> None:
     save_episode(ep, path, create=True)
     assert load_episode(path) == ep
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == FORMAT_VERSION == 2
+    assert data["format_version"] == FORMAT_VERSION == 3
     assert "cpp_mmhg" not in data["readings"][0]  # computed, never stored
+    assert [data["labs"][0]["id"], data["doses"][0]["id"], data["readings"][0]["id"]] == ["L1", "D1", "R1"]
 
 
 def test_entries_are_kept_in_time_order(tmp_path: Path) -> None:
@@ -46,7 +47,7 @@ def test_entries_are_kept_in_time_order(tmp_path: Path) -> None:
 
 def test_the_shipped_version_1_file_loads_through_the_migration() -> None:
     ep = load_episode(V1_EXAMPLE)
-    assert ep.format_version == 2
+    assert ep.format_version == 3
     # Version 1 wrote UTC without an offset: 22:00 is 22:00 UTC.
     assert ep.labs[0].time == datetime(2026, 11, 30, 22, 0, tzinfo=UTC)
     assert ep.labs[0].sodium_mmol_l == 121.0
@@ -57,7 +58,7 @@ def test_the_shipped_version_1_file_loads_through_the_migration() -> None:
     assert ep.patient.height_cm == 168.0
 
 
-def test_a_version_1_file_is_rewritten_as_version_2_when_a_command_changes_it(tmp_path: Path) -> None:
+def test_a_version_1_file_is_rewritten_in_the_current_format_when_a_command_changes_it(tmp_path: Path) -> None:
     path = tmp_path / "old.json"
     shutil.copy(V1_EXAMPLE, path)
     assert (
@@ -65,9 +66,10 @@ def test_a_version_1_file_is_rewritten_as_version_2_when_a_command_changes_it(tm
         == 0
     )
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == 2
+    assert data["format_version"] == 3
     assert data["labs"][0]["time"] == "2026-11-30T22:00:00Z"
-    assert len(data["readings"]) == 1
+    assert [x["id"] for x in data["labs"]] == ["L1", "L2"]
+    assert [x["id"] for x in data["readings"]] == ["R1"]
 
 
 def test_the_demo_episode_is_in_the_current_format() -> None:
@@ -88,8 +90,8 @@ def test_the_demo_episode_is_in_the_current_format() -> None:
         ('{"patient": {}}', "has no format_version: not an osmodose episode file; the file was not changed"),
         ('{"format_version": "2"}', "format_version '2' is not a whole number; the file was not changed"),
         (
-            '{"format_version": 3}',
-            "format_version 3 is newer than this osmodose reads (up to 2): use a newer osmodose; "
+            '{"format_version": 4}',
+            "format_version 4 is newer than this osmodose reads (up to 3): use a newer osmodose; "
             "the file was not changed",
         ),
         ('{"format_version": 0}', "format_version 0 is not one osmodose knows; the file was not changed"),
