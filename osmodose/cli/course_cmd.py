@@ -9,13 +9,21 @@ from __future__ import annotations
 
 import argparse
 import json
+import sys
 from typing import TYPE_CHECKING
 
 from osmodose.cli.exit_codes import BY_STATUS, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.safe_text import escape_controls
 
 if TYPE_CHECKING:
     from osmodose.course.episode import Episode
+
+
+def note(text: str) -> None:
+    """Something worth saying that is not an error (a stale temporary file removed): one line on stderr."""
+    sys.stderr.write(f"osmodose: note: {escape_controls(text)}\n")
+
 
 HELP = "a course of therapy: serial labs, doses and pressures in an episode file"
 TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now"
@@ -111,7 +119,7 @@ def run_new(args: argparse.Namespace) -> int:
             "label": args.label,
         }
     )
-    save_episode(Episode(patient=patient), args.file, create=True)
+    save_episode(Episode(patient=patient), args.file, create=True, note=note)
     print(f"started episode {args.file}")
     return OK
 
@@ -135,7 +143,7 @@ def run_add_lab(args: argparse.Namespace) -> int:
         added.append(parse_lab(episode, fields))
         return episode.with_entry(added[0])
 
-    changed = update_episode(args.file, change)
+    changed = update_episode(args.file, change, note)
     return _added(args, "lab", added[0].time, len(changed.labs), "lab")
 
 
@@ -145,7 +153,7 @@ def run_add_dose(args: argparse.Namespace) -> int:
 
     fields = {"time": args.time, "agent": args.agent, "volume": args.volume, "duration": args.duration}
     entry = parse_dose(formulary_from_args(args), fields)
-    changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
+    changed = update_episode(args.file, lambda episode: episode.with_entry(entry), note)
     return _added(args, f"dose of {entry.agent_id}", entry.time, len(changed.doses), "dose")
 
 
@@ -154,7 +162,7 @@ def run_add_reading(args: argparse.Namespace) -> int:
     from osmodose.course.store import update_episode
 
     entry = parse_reading({"time": args.time, "map": args.map, "icp": args.icp})
-    changed = update_episode(args.file, lambda episode: episode.with_entry(entry))
+    changed = update_episode(args.file, lambda episode: episode.with_entry(entry), note)
     return _added(args, f"reading (CPP {entry.cpp_mmhg:g} mmHg)", entry.time, len(changed.readings), "reading")
 
 

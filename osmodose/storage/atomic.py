@@ -34,6 +34,7 @@ from osmodose.storage.durable import fsync_directory
 
 #: The temporary file of `NAME` is `.NAME.<8 hex>.tmp`, beside it.
 TEMP_SUFFIX = ".tmp"
+_TEMP_CHARS = frozenset("abcdefghijklmnopqrstuvwxyz0123456789_")
 _NOFOLLOW = getattr(os, "O_NOFOLLOW", 0)
 _BINARY = getattr(os, "O_BINARY", 0)
 
@@ -65,7 +66,8 @@ def stale_temporaries(path: Path | str) -> list[Path]:
         return []
     for name in names:
         middle = name[len(prefix) : -len(TEMP_SUFFIX)] if name.endswith(TEMP_SUFFIX) else ""
-        if name.startswith(prefix) and len(middle) == 8 and all(c in "0123456789abcdef" for c in middle):
+        # 8 hex digits (these names), or 8 of [a-z0-9_] (tempfile's, used by earlier versions)
+        if name.startswith(prefix) and len(middle) == 8 and all(c in _TEMP_CHARS for c in middle):
             found.append(folder / name)
     return sorted(found)
 
