@@ -81,11 +81,12 @@ def test_show_prints_the_timeline_table(worked: Path, capsys) -> None:
     course("show", worked)
     out = capsys.readouterr().out
     assert out.startswith("osmodose course  [REFUSE] REFUSE: a hard limit is crossed; no further dose without review\n")
-    assert "2026-12-01T08:30+00:00  dose     nacl-3 150 mL over 20 min  -> projected Na 119.4\n" in out
-    assert "2026-12-01T10:00+00:00  reading  MAP 80  ICP 25  CPP 55\n" in out
+    assert "time                    id  entry    details\n" in out
+    assert "2026-12-01T08:30+00:00  D1  dose     nacl-3 150 mL over 20 min  -> projected Na 119.4\n" in out
+    assert "2026-12-01T10:00+00:00  R1  reading  MAP 80  ICP 25  CPP 55\n" in out
     assert (
-        "2026-12-01T16:00+00:00  dose     mannitol-20 350 mL over 20 min  (70 g; 1.00 g/kg in 24 h)  (no projection)\n"
-        in out
+        "2026-12-01T16:00+00:00  D3  dose     mannitol-20 350 mL over 20 min  (70 g; 1.00 g/kg in 24 h)  "
+        "(no projection)\n" in out
     )
     assert "latest sodium: 131.0 mmol/L at 2026-12-02T06:00+00:00 (no dose since)\n" in out
 

@@ -30,8 +30,10 @@ from osmodose.course.report import (
 )
 from osmodose.course.series import CourseSeries, course_series
 from osmodose.course.store import read_episode, save_episode
+from osmodose.course.times import check_entry_time
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
+from osmodose.safe_text import escape_controls
 
 EntryKind = Literal["lab", "dose", "reading"]
 
@@ -86,8 +88,8 @@ class CourseState:
     sha256: str
     review: Review
     series: CourseSeries
-    rows: tuple[tuple[str, str, str], ...]
-    """(time, entry, details) rows of the timeline table."""
+    rows: tuple[tuple[str, str, str, str], ...]
+    """(time, entry, details, id) rows of the timeline table."""
 
 
 def open_course(path: Path | str, formulary: Formulary) -> CourseState:
@@ -114,6 +116,8 @@ class FormOutcome:
     error: OsmodoseError | None = None
     field: str | None = None
     """The form field to mark, when the error names one of the form's fields."""
+    notes: tuple[str, ...] = ()
+    """Worth saying, not errors (a stale temporary file removed by the save)."""
 
 
 def _error(error: OsmodoseError, specs: tuple[FieldSpec, ...]) -> FormOutcome:
@@ -136,10 +140,12 @@ def parse_entry(
 def add_entry(state: CourseState, kind: EntryKind, formulary: Formulary, values: Mapping[str, str]) -> FormOutcome:
     """Parse, save (only if the file still holds what was read), re-read; nothing is written on any error."""
     specs = ENTRY_FIELDS[kind]
+    notes: list[str] = []
     try:
         entry = parse_entry(kind, state.episode, formulary, values)
-        save_episode(state.episode.with_entry(entry), state.path, expect_sha256=state.sha256)
-        return FormOutcome(state=open_course(state.path, formulary))
+        check_entry_time(state.episode, entry.time)
+        save_episode(state.episode.with_entry(entry), state.path, expect_sha256=state.sha256, note=notes.append)
+        return FormOutcome(state=open_course(state.path, formulary), notes=tuple(notes))
     except OsmodoseError as error:
         return _error(error, specs)
 
@@ -163,7 +169,9 @@ def head_text(state: CourseState) -> str:
     """Which file, how many entries, and the patient line of `course show`."""
     ep = state.episode
     counts = f"{len(ep.labs)} labs, {len(ep.doses)} doses, {len(ep.readings)} readings"
-    return f"episode: {state.path}  ({counts})\n{patient_line(state.review)}"
+    if ep.removed:
+        counts += f", {len(ep.removed)} removed"
+    return escape_controls(f"episode: {state.path}  ({counts})\n{patient_line(state.review)}", keep_lines=True)
 
 
 def finding_rows(state: CourseState) -> list[tuple[str, str]]:

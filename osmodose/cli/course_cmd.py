@@ -10,7 +10,8 @@ from __future__ import annotations
 import argparse
 import json
 import sys
-from typing import TYPE_CHECKING
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
 
 from osmodose.cli.exit_codes import BY_STATUS, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
@@ -27,6 +28,15 @@ def note(text: str) -> None:
 
 HELP = "a course of therapy: serial labs, doses and pressures in an episode file"
 TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now"
+MAX_AGE_HELP = "how far back a time may be; bare number = days (default 30)"
+LAB_OPTIONS = (
+    ("--sodium", "serum sodium; bare number = mmol/L"),
+    ("--potassium", "serum potassium; bare number = mmol/L"),
+    ("--glucose", "serum glucose; bare number = mmol/L (126mg/dL accepted)"),
+    ("--urea", "serum urea; bare number = mmol/L"),
+    ("--bun", "blood urea nitrogen instead of urea; bare number = mg/dL"),
+    ("--osmolality", "measured serum osmolality; bare number = mOsm/kg"),
+)
 
 
 def _sub(
@@ -55,21 +65,17 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         ("--height", "height; bare number = cm (needed for --tbw-method watson)", False),
         ("--tbw-method", "fraction or watson (default: the formulary's)", False),
         ("--label", "free text to tell episodes apart (bed, initials)", False),
+        ("--start", "when the episode began (" + TIME_HELP + "); no entry may be earlier", False),
+        ("--max-age", MAX_AGE_HELP, False),
     ):
         _opt(new, option, text, required)
     new.set_defaults(handler=run_new)
 
     lab = _sub(sub, "add-lab", "add serum labs drawn at one time", formulary=False)
     _opt(lab, "--time", TIME_HELP, True)
-    for option, text, required in (
-        ("--sodium", "serum sodium; bare number = mmol/L", True),
-        ("--potassium", "serum potassium; bare number = mmol/L", False),
-        ("--glucose", "serum glucose; bare number = mmol/L (126mg/dL accepted)", False),
-        ("--urea", "serum urea; bare number = mmol/L", False),
-        ("--bun", "blood urea nitrogen instead of urea; bare number = mg/dL", False),
-        ("--osmolality", "measured serum osmolality; bare number = mOsm/kg", False),
-    ):
-        _opt(lab, option, text, required)
+    for option, text in LAB_OPTIONS:
+        _opt(lab, option, text, option == "--sodium")
+    _opt(lab, "--max-age", MAX_AGE_HELP)
     lab.set_defaults(handler=run_add_lab)
 
     dose = _sub(sub, "add-dose", "add a dose given (the agent must be in the formulary)")
@@ -77,13 +83,38 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     _opt(dose, "--agent", "agent id from the formulary", True)
     _opt(dose, "--volume", "volume given; bare number = mL", True)
     _opt(dose, "--duration", "infusion time; bare number = minutes")
+    _opt(dose, "--max-age", MAX_AGE_HELP)
     dose.set_defaults(handler=run_add_dose)
 
     reading = _sub(sub, "add-reading", "add a bedside reading: MAP and ICP (CPP = MAP - ICP)", formulary=False)
     _opt(reading, "--time", TIME_HELP, True)
     _opt(reading, "--map", "mean arterial pressure; bare number = mmHg", True)
     _opt(reading, "--icp", "intracranial pressure; bare number = mmHg", True)
+    _opt(reading, "--max-age", MAX_AGE_HELP)
     reading.set_defaults(handler=run_add_reading)
+
+    amend = _sub(sub, "amend", "correct an entry's values, keeping the old ones, who, when and why in the file")
+    amend.add_argument("entry", metavar="ENTRY-ID", help="the entry's id as course show lists it (L3, D1, R2)")
+    _opt(amend, "--time", TIME_HELP)
+    for option, text in (
+        *LAB_OPTIONS,
+        ("--agent", "agent id from the formulary (a dose)"),
+        ("--volume", "volume given; bare number = mL (a dose)"),
+        ("--duration", "infusion time; bare number = minutes (a dose)"),
+        ("--map", "mean arterial pressure; bare number = mmHg (a reading)"),
+        ("--icp", "intracranial pressure; bare number = mmHg (a reading)"),
+    ):
+        _opt(amend, option, text + "; none clears an optional value")
+    _opt(amend, "--reason", "why the entry is corrected (at least 8 characters)", True)
+    _opt(amend, "--initials", "the initials of who corrects it", True)
+    _opt(amend, "--max-age", MAX_AGE_HELP)
+    amend.set_defaults(handler=run_amend)
+
+    remove = _sub(sub, "remove", "take an entry out of the course, keeping it, who, when and why in the file", False)
+    remove.add_argument("entry", metavar="ENTRY-ID", help="the entry's id as course show lists it (L3, D1, R2)")
+    _opt(remove, "--reason", "why the entry is removed (at least 8 characters)", True)
+    _opt(remove, "--initials", "the initials of who removes it", True)
+    remove.set_defaults(handler=run_remove)
 
     show = _sub(sub, "show", "the timeline table and the findings across the course")
     show.add_argument("--json", action="store_true", help="print one JSON object instead of the table")
@@ -101,14 +132,16 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
     plot = _sub(sub, "plot", "draw sodium (measured and projected) and ICP/CPP to a PNG or SVG file")
     plot.add_argument("--out", metavar="FILE", required=True, help="output file name ending in .png or .svg")
+    plot.add_argument("--force", action="store_true", help="replace FILE if it exists")
     plot.set_defaults(handler=run_plot)
 
 
 def run_new(args: argparse.Namespace) -> int:
-    from osmodose.course.entries import parse_patient
-    from osmodose.course.episode import Episode
+    from osmodose.course.entries import parse_patient, parse_time
     from osmodose.course.store import save_episode
+    from osmodose.course.times import new_episode, parse_max_age
 
+    max_age = parse_max_age(args.max_age)
     patient = parse_patient(
         {
             "weight": args.weight,
@@ -119,17 +152,38 @@ def run_new(args: argparse.Namespace) -> int:
             "label": args.label,
         }
     )
-    save_episode(Episode(patient=patient), args.file, create=True, note=note)
+    started = parse_time(args.start, "start") if args.start else None
+    save_episode(new_episode(patient, started, max_age), args.file, create=True, note=note)
     print(f"started episode {args.file}")
     return OK
 
 
-def _added(args: argparse.Namespace, what: str, time: object, count: int, kind: str) -> int:
+def _added(args: argparse.Namespace, what: str, entry: object, changed: Episode, kind: str) -> int:
     from osmodose.course.findings import when
+    from osmodose.course.times import display_offset
 
+    count = len(getattr(changed, kind + "s"))
     counted = f"{count} {kind}" + ("" if count == 1 else "s")
-    print(f"added {what} at {when(time)} to {args.file} ({counted} in all)")  # type: ignore[arg-type]
+    time = entry.time.astimezone(display_offset(changed))  # type: ignore[attr-defined]
+    print(escape_controls(f"added {what} {entry.id} at {when(time)} to {args.file} ({counted} in all)"))  # type: ignore[attr-defined]
     return OK
+
+
+def _adding(entry_of: Callable[[Episode], Any], max_age: object, added: list[Any]) -> Callable[[Episode], Episode]:
+    """The change that adds an entry: made from the file as it is under the lock, its time checked."""
+    from osmodose.course.times import check_entry_time, parse_max_age
+
+    span = parse_max_age(max_age)
+
+    def change(episode: Episode) -> Episode:
+        entry = entry_of(episode)
+        check_entry_time(episode, entry.time, "time", span)
+        changed = episode.with_entry(entry)
+        before = {e.id for e in (*episode.labs, *episode.doses, *episode.readings)}
+        added.extend(e for e in (*changed.labs, *changed.doses, *changed.readings) if e.id not in before)
+        return changed
+
+    return change
 
 
 def run_add_lab(args: argparse.Namespace) -> int:
@@ -137,14 +191,9 @@ def run_add_lab(args: argparse.Namespace) -> int:
     from osmodose.course.store import update_episode
 
     fields = {name: getattr(args, name) for name in ("time", *LAB_FIELDS)}
-    added = []
-
-    def change(episode: Episode) -> Episode:
-        added.append(parse_lab(episode, fields))
-        return episode.with_entry(added[0])
-
-    changed = update_episode(args.file, change, note)
-    return _added(args, "lab", added[0].time, len(changed.labs), "lab")
+    added: list[Any] = []
+    changed = update_episode(args.file, _adding(lambda ep: parse_lab(ep, fields), args.max_age, added), note)
+    return _added(args, "lab", added[0], changed, "lab")
 
 
 def run_add_dose(args: argparse.Namespace) -> int:
@@ -153,8 +202,9 @@ def run_add_dose(args: argparse.Namespace) -> int:
 
     fields = {"time": args.time, "agent": args.agent, "volume": args.volume, "duration": args.duration}
     entry = parse_dose(formulary_from_args(args), fields)
-    changed = update_episode(args.file, lambda episode: episode.with_entry(entry), note)
-    return _added(args, f"dose of {entry.agent_id}", entry.time, len(changed.doses), "dose")
+    added: list[Any] = []
+    changed = update_episode(args.file, _adding(lambda _ep: entry, args.max_age, added), note)
+    return _added(args, f"dose of {entry.agent_id}", added[0], changed, "dose")
 
 
 def run_add_reading(args: argparse.Namespace) -> int:
@@ -162,8 +212,47 @@ def run_add_reading(args: argparse.Namespace) -> int:
     from osmodose.course.store import update_episode
 
     entry = parse_reading({"time": args.time, "map": args.map, "icp": args.icp})
-    changed = update_episode(args.file, lambda episode: episode.with_entry(entry), note)
-    return _added(args, f"reading (CPP {entry.cpp_mmhg:g} mmHg)", entry.time, len(changed.readings), "reading")
+    added: list[Any] = []
+    changed = update_episode(args.file, _adding(lambda _ep: entry, args.max_age, added), note)
+    return _added(args, f"reading (CPP {entry.cpp_mmhg:g} mmHg)", added[0], changed, "reading")
+
+
+AMEND_FIELDS = ("time", "sodium", "potassium", "glucose", "urea", "bun", "osmolality", "agent", "volume", "duration",
+                "map", "icp")  # fmt: skip
+
+
+def run_amend(args: argparse.Namespace) -> int:
+    from osmodose.course.corrections import amend_entry, find_entry
+    from osmodose.course.store import load_episode, update_episode
+    from osmodose.course.times import parse_max_age
+
+    changes = {name: getattr(args, name) for name in AMEND_FIELDS}
+    max_age = parse_max_age(args.max_age)
+    kind, _entry = find_entry(load_episode(args.file), args.entry)
+    formulary = formulary_from_args(args) if kind == "dose" else None
+
+    def change(episode: Episode) -> Episode:
+        return amend_entry(episode, args.entry, changes, args.initials, args.reason, formulary, max_age=max_age)
+
+    update_episode(args.file, change, note)
+    print(escape_controls(f"amended {kind} {args.entry.strip().upper()} in {args.file}; the old values are kept in it"))
+    return OK
+
+
+def run_remove(args: argparse.Namespace) -> int:
+    from osmodose.course.corrections import find_entry, remove_entry
+    from osmodose.course.store import update_episode
+
+    found: list[str] = []
+
+    def change(episode: Episode) -> Episode:
+        found.append(find_entry(episode, args.entry)[0])
+        return remove_entry(episode, args.entry, args.initials, args.reason)
+
+    update_episode(args.file, change, note)
+    entry_id = args.entry.strip().upper()
+    print(escape_controls(f"removed {found[0]} {entry_id} from the course in {args.file}; it is kept there as removed"))
+    return OK
 
 
 def run_show(args: argparse.Namespace) -> int:
@@ -183,8 +272,9 @@ def run_plan(args: argparse.Namespace) -> int:
     from osmodose.course.plan import plan_dose
     from osmodose.course.report import plan_json, render_plan_text
     from osmodose.course.store import load_episode
+    from osmodose.course.times import in_display_offset
 
-    episode = load_episode(args.file)
+    episode = in_display_offset(load_episode(args.file))
     fields = {name: getattr(args, name) for name in ("agent", "volume", "dose", "duration", "line", "time")}
     plan = plan_dose(episode, formulary_from_args(args), fields)
     if args.json:
@@ -203,6 +293,7 @@ def run_plot(args: argparse.Namespace) -> int:
     episode = load_episode(args.file)
     series = course_series(episode, formulary_from_args(args))
     label = episode.patient.label
-    write_plot(series, args.out, title=f"course of therapy: {label}" if label else "course of therapy")
-    print(f"wrote {args.out}")
+    title = f"course of therapy: {label}" if label else "course of therapy"
+    write_plot(series, args.out, title=title, overwrite=args.force)
+    print(escape_controls(f"wrote {args.out}"))
     return OK

@@ -15,12 +15,13 @@ import numpy as np
 
 from osmodose.check.report import STATUS_MARK, STATUS_WORDS, render_text
 from osmodose.check.results import CAUTION, FormularyRef
-from osmodose.course.episode import Episode
+from osmodose.course.episode import DoseEntry, EntryBase, Episode, LabEntry, ReadingEntry
 from osmodose.course.findings import CourseFinding, course_findings, when
 from osmodose.course.plan import Plan
 from osmodose.course.projection import ProjectedPath, Projection, episode_tbw_l, project_now, projected_path, tbw_notes
 from osmodose.course.projection import tbw_method as method_of
 from osmodose.course.timeline import Timeline, build_timeline
+from osmodose.course.times import in_display_offset
 from osmodose.formulary.model import Formulary
 
 #: A review looks back over doses already given, so its words differ from a check's.
@@ -52,7 +53,8 @@ class Review:
 
 
 def review(episode: Episode, formulary: Formulary) -> Review:
-    """Timeline, projection to the last entry, and findings of an episode."""
+    """Timeline, projection to the last entry, and findings of an episode, every time in the episode's offset."""
+    episode = in_display_offset(episode)
     timeline = build_timeline(episode, formulary)
     tbw_l = episode_tbw_l(episode, formulary)
     entries = [e.time for e in (*episode.labs, *episode.doses, *episode.readings)]
@@ -78,10 +80,42 @@ def _f(value: float, digits: int = 1) -> str:
     return "n/a" if np.isnan(value) else f"{value:.{digits}f}"
 
 
-def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
-    """(time, entry, details) rows in time order, as the table and an app list show them."""
+def corrections_text(entry: EntryBase) -> str:
+    """How an entry was corrected, for the timeline: each amendment with the values it replaced, and a removal."""
+    parts = []
+    for c in entry.corrections:
+        what = ", ".join(f"{key} was {_shown_value(value)}" for key, value in c.previous.items())
+        parts.append(f"{c.action} by {c.initials} at {when(c.at)}" + (f" ({what})" if what else "") + f": {c.reason}")
+    return "[" + "; ".join(parts) + "]" if parts else ""
+
+
+def _shown_value(value: object) -> str:
+    return "none" if value is None else (f"{value:g}" if isinstance(value, float) else str(value))
+
+
+def _entry_text(entry: EntryBase) -> str:
+    """A removed entry's values as stored (nothing is computed from it any more)."""
+    if isinstance(entry, LabEntry):
+        names = (("Na", entry.sodium_mmol_l), ("K", entry.potassium_mmol_l), ("glucose", entry.glucose_mmol_l),
+                 ("urea", entry.urea_mmol_l), ("osm", entry.osmolality_mosm_kg))  # fmt: skip
+        return "  ".join(f"{name} {value:g}" for name, value in names if value is not None)
+    if isinstance(entry, DoseEntry):
+        return f"{entry.agent_id} {entry.volume_ml:g} mL" + (
+            f" over {entry.duration_min:g} min" if entry.duration_min else ""
+        )
+    if isinstance(entry, ReadingEntry):
+        return f"MAP {entry.map_mmhg:g}  ICP {entry.icp_mmhg:g}"
+    return ""
+
+
+def timeline_rows(result: Review) -> list[tuple[str, str, str, str]]:
+    """(time, entry, details, id) rows in time order, as the table and an app list show them.
+
+    An amended entry's details end with its corrections; a removed entry is
+    listed as removed, with its old values, and takes no part in any figure.
+    """
     tl, ep = result.timeline, result.episode
-    rows: list[tuple[float, int, str, str, str]] = []
+    rows: list[tuple[float, int, str, str, str, str]] = []
     labs = tl.labs
     for j, lab in enumerate(ep.labs):
         text = f"Na {_f(labs.sodium[j])}"
@@ -97,7 +131,7 @@ def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
         if j:  # the rise is shown whether or not the rise limits apply to it (see course.sodium_rules)
             rise = labs.sodium_window.rise[j]
             text += "  24 h rise " + ("n/a" if np.isnan(rise) else f"{rise:+.1f}")
-        rows.append((float(labs.t[j]), 0, when(lab.time), "lab", text))
+        rows.append((float(labs.t[j]), 0, when(lab.time), lab.id or "", "lab", _marked(text, lab)))
     doses = tl.doses
     for j, dose in enumerate(ep.doses):
         text = f"{dose.agent_id} {dose.volume_ml:g} mL"
@@ -108,13 +142,21 @@ def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
         if result.path is not None and not np.isnan(result.path.dose_sodium[j]):
             projected = result.path.dose_sodium[j]
             text += f"  -> projected Na {projected:.1f}" if doses.agent.projects_sodium[j] else "  (no projection)"
-        rows.append((float(doses.t[j]), 1, when(dose.time), "dose", text))
+        rows.append((float(doses.t[j]), 1, when(dose.time), dose.id or "", "dose", _marked(text, dose)))
     r = tl.readings
     for j, reading in enumerate(ep.readings):
         text = f"MAP {r.map[j]:.0f}  ICP {r.icp[j]:.0f}  CPP {r.cpp[j]:.0f}"
-        rows.append((float(r.t[j]), 2, when(reading.time), "reading", text))
+        rows.append((float(r.t[j]), 2, when(reading.time), reading.id or "", "reading", _marked(text, reading)))
+    for gone in ep.removed:
+        entry = gone.entry
+        text = f"REMOVED {corrections_text(entry)} was: {_entry_text(entry)}"
+        rows.append((entry.time.timestamp(), 3, when(entry.time), entry.id or "", gone.kind, text))
     rows.sort(key=lambda row: (row[0], row[1]))
-    return [(time, kind, text) for _, _, time, kind, text in rows]
+    return [(time, kind, text, entry_id) for _, _, time, entry_id, kind, text in rows]
+
+
+def _marked(text: str, entry: EntryBase) -> str:
+    return f"{text}  AMENDED {corrections_text(entry)}" if entry.corrections else text
 
 
 def patient_line(result: Review) -> str:
@@ -153,14 +195,15 @@ def _findings_lines(findings: list[CourseFinding], title: str = "course checks")
 def render_review_text(result: Review, path: Path | str) -> str:
     rows = timeline_rows(result)
     width = max([len(r[0]) for r in rows] + [4])
+    id_width = max([len(r[3]) for r in rows] + [2])
     lines = [
         f"osmodose course  {STATUS_MARK[result.status]} {COURSE_STATUS_WORDS[result.status]}",
         f"episode: {path}",
         _formulary_line(result.formulary),
         patient_line(result),
         "",
-        f"{'time':<{width}}  {'entry':<7}  details",
-        *[f"{time:<{width}}  {kind:<7}  {text}" for time, kind, text in rows],
+        f"{'time':<{width}}  {'id':<{id_width}}  {'entry':<7}  details",
+        *[f"{time:<{width}}  {entry_id:<{id_width}}  {kind:<7}  {text}" for time, kind, text, entry_id in rows],
     ]
     if not rows:
         lines.append("(no entries yet)")
@@ -215,6 +258,7 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
         for j, dose in enumerate(ep.doses)
     ]
     readings = [{**r.model_dump(mode="json"), "cpp_mmhg": r.cpp_mmhg} for r in ep.readings]
+    removed = [r.model_dump(mode="json") for r in ep.removed]
     return {
         "status": result.status,
         "episode": str(path),
@@ -225,6 +269,7 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
         "labs": labs,
         "doses": doses,
         "readings": readings,
+        "removed": removed,
         "projection": _projection_json(result.projection, tl),
         "findings": [x.model_dump(mode="json") for x in result.findings],
         "notes": result.notes,
@@ -237,7 +282,7 @@ def render_plan_text(plan: Plan, path: Path | str) -> str:
     lines = [
         f"osmodose course plan  {STATUS_MARK[plan.status]} {STATUS_WORDS[plan.status]}",
         f"episode: {path}",
-        f"planned at: {when(plan.at)}",
+        f"planned at: {when(plan.at.astimezone(lab.time.tzinfo))}",
         f"latest lab: sodium {lab.sodium_mmol_l:.1f} mmol/L at {when(lab.time)}",
     ]
     n = len(plan.projection.dose_rows)
@@ -258,7 +303,7 @@ def plan_json(plan: Plan, path: Path | str) -> dict[str, Any]:
     return {
         "status": plan.status,
         "episode": str(path),
-        "planned_at": when(plan.at),
+        "planned_at": when(plan.at.astimezone(plan.lab.time.tzinfo)),
         "latest_lab": plan.lab.model_dump(mode="json"),
         "doses_since_latest_lab": len(plan.projection.dose_rows),
         "projected_sodium_before_mmol_l": plan.projection.sodium_now,

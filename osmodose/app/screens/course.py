@@ -41,8 +41,9 @@ from osmodose.app.widgets.formulary_bar import formulary_line
 from osmodose.check.results import CAUTION
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
+from osmodose.safe_text import escape_controls
 
-TIMELINE_COLUMNS = ("time", "entry", "details")
+TIMELINE_COLUMNS = ("time", "id", "entry", "details")
 _STYLE = {"ok": "bold $text-success", "warn": "bold $text-warning", "refuse": "bold $text-error"}
 STATES = ("ok", "warn", "refuse")
 
@@ -129,12 +130,13 @@ class CourseScreen(Screen[None]):
         table.clear(columns=True)
         widths = [len(row[0]) for row in state.rows] or [len(TIMELINE_COLUMNS[0])]
         time_width, entry_width = max(widths), len("reading")
+        id_width = max([len(row[3]) for row in state.rows] + [2])
         # cell padding 1 each side, and the vertical scrollbar
-        details = max(30, self.size.width - time_width - entry_width - 3 * 2 - 2)
-        for label, width in zip(TIMELINE_COLUMNS, (time_width, entry_width, details), strict=True):
+        details = max(30, self.size.width - time_width - id_width - entry_width - 4 * 2 - 2)
+        for label, width in zip(TIMELINE_COLUMNS, (time_width, id_width, entry_width, details), strict=True):
             table.add_column(label, width=width)
-        for row in state.rows:
-            table.add_row(*row, height=None)
+        for time, kind, details, entry_id in state.rows:
+            table.add_row(time, entry_id, kind, details, height=None)
         table.move_cursor(row=len(state.rows) - 1)
         if self.app.focused is None or isinstance(self.app.focused, Input):
             table.focus()
@@ -192,7 +194,10 @@ class CourseScreen(Screen[None]):
 
     def _add(self, kind: EntryKind, values: Mapping[str, str]) -> FormOutcome:
         assert self.state is not None
-        return add_entry(self.state, kind, self.formulary, values)
+        outcome = add_entry(self.state, kind, self.formulary, values)
+        for text in outcome.notes:
+            self.notify(escape_controls(text), severity="warning")
+        return outcome
 
     def action_plan(self) -> None:
         if self.state is None:
