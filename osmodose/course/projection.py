@@ -163,9 +163,11 @@ def projected_path(timeline: Timeline, tbw_l: float) -> ProjectedPath:
     t_points: list[float] = []
     na_points: list[float] = []
     dose_sodium = np.full(len(doses.t), np.nan)
+    # doses are in time order: the ones from each lab up to the next are a slice (no scan of every dose per lab)
+    starts = np.searchsorted(doses.t, labs.t, side="left")
+    ends = np.append(starts[1:], len(doses.t))
     for i in range(len(labs.t)):
-        t_next = labs.t[i + 1] if i + 1 < len(labs.t) else np.inf
-        rows = np.flatnonzero((doses.t >= labs.t[i]) & (doses.t < t_next))
+        rows = np.arange(starts[i], max(starts[i], ends[i]))
         after = project_through(float(labs.sodium[i]), doses, rows, tbw_l)
         dose_sodium[rows] = after
         t_points += [float(labs.t[i]), *doses.t_end[rows].tolist(), math.nan]

@@ -102,6 +102,10 @@ def in_display_offset(episode: Episode) -> Episode:
     offset = display_offset(episode)
     if offset is None:
         return episode
+    entries = [*episode.labs, *episode.doses, *episode.readings, *(r.entry for r in episode.removed)]
+    wanted = offset.utcoffset(None)
+    if all(e.time.utcoffset() == wanted and all(c.at.utcoffset() == wanted for c in e.corrections) for e in entries):
+        return episode  # the usual case: every time already in the episode's offset
     data = episode.model_dump()
 
     def move(value: object) -> object:
