@@ -25,6 +25,7 @@ from osmodose.formulary.schema import formulary_schema
 from osmodose.formulary.summary import AGENT_COLUMNS, LIMIT_COLUMNS, agent_cells, agent_rows, limit_cells, limit_rows
 from osmodose.formulary.template import formulary_template
 from osmodose.formulary.validate import validate_formulary
+from osmodose.storage.atomic import DestinationIsALink, atomic_write
 
 #: The agents table is printed as two tables keyed by id, to fit a terminal.
 _FIGURE_COLUMNS = ("id", "concentration", "Na mmol/L", "Na mmol/mL", "mOsm/L", "g/mL", "route")
@@ -170,10 +171,12 @@ def run_new(args: argparse.Namespace) -> int:
         sys.stdout.write(text)
         return OK
     out = Path(args.out)
-    if out.exists() and not args.force:
-        raise FormularyError(out, "already exists: choose another file or add --force to overwrite it")
     try:
-        out.write_text(text, encoding="utf-8")
+        atomic_write(out, text, overwrite=args.force)
+    except FileExistsError:
+        raise FormularyError(out, "already exists: choose another file or add --force to overwrite it") from None
+    except DestinationIsALink:
+        raise FormularyError(out, "is a symbolic link: osmodose never writes through or over one") from None
     except OSError as error:
         raise FormularyError(out, f"cannot be written: {error.strerror or type(error).__name__}") from None
     print(f"wrote {out}: fill it in, then run osmodose formulary validate {out}")
