@@ -11,6 +11,7 @@ from osmodose.check.run import run_check
 from osmodose.cli.exit_codes import BY_STATUS
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
+from osmodose.safe_text import escape_controls
 
 HELP = "compute osmolality, total body water, a dose and its sodium projection, and check the limits"
 
@@ -30,5 +31,5 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(result.to_json(), indent=2))
     else:
-        print(render_text(result), end="")
+        print(escape_controls(render_text(result), keep_lines=True), end="")  # names and values from input
     return BY_STATUS[result.status]

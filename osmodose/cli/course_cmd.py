@@ -154,7 +154,7 @@ def run_new(args: argparse.Namespace) -> int:
     )
     started = parse_time(args.start, "start") if args.start else None
     save_episode(new_episode(patient, started, max_age), args.file, create=True, note=note)
-    print(f"started episode {args.file}")
+    print(escape_controls(f"started episode {args.file}"))
     return OK
 
 
@@ -264,7 +264,7 @@ def run_show(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(review_json(result, args.file), indent=2))
     else:
-        print(render_review_text(result, args.file), end="")
+        print(escape_controls(render_review_text(result, args.file), keep_lines=True), end="")
     return BY_STATUS[result.status]
 
 
@@ -280,7 +280,7 @@ def run_plan(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(plan_json(plan, args.file), indent=2))
     else:
-        print(render_plan_text(plan, args.file), end="")
+        print(escape_controls(render_plan_text(plan, args.file), keep_lines=True), end="")
     return BY_STATUS[plan.status]
 
 

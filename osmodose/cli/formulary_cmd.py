@@ -25,6 +25,7 @@ from osmodose.formulary.schema import formulary_schema
 from osmodose.formulary.summary import AGENT_COLUMNS, LIMIT_COLUMNS, agent_cells, agent_rows, limit_cells, limit_rows
 from osmodose.formulary.template import formulary_template
 from osmodose.formulary.validate import validate_formulary
+from osmodose.safe_text import escape_controls
 from osmodose.storage.atomic import DestinationIsALink, atomic_write
 
 #: The agents table is printed as two tables keyed by id, to fit a terminal.
@@ -107,7 +108,7 @@ def run_validate(args: argparse.Namespace) -> int:
         print(json.dumps(verdict.to_json(), indent=2))
     else:
         for line in [*verdict.lines(), verdict.summary()]:
-            print(line)
+            _echo(line)
     return OK if verdict.valid else INVALID
 
 
@@ -125,21 +126,21 @@ def run_show(args: argparse.Namespace) -> int:
         }
         print(json.dumps(document, indent=2))
         return OK
-    print(f'formulary "{formulary.name}" version "{formulary.version}"')
-    print(f"file {formulary.path}")
-    print(f"sha256 {formulary.sha256}")
-    print()
+    _echo(f'formulary "{formulary.name}" version "{formulary.version}"')
+    _echo(f"file {formulary.path}")
+    _echo(f"sha256 {formulary.sha256}")
+    _echo()
     cells = [agent_cells(row) for row in agents]
-    print(f"agents ({len(agents)}): composition derived from the concentration")
+    _echo(f"agents ({len(agents)}): composition derived from the concentration")
     _print_table(AGENT_COLUMNS, cells, _FIGURE_COLUMNS)
-    print()
-    print("agents: label, stock and order limits")
+    _echo()
+    _echo("agents: label, stock and order limits")
     _print_table(AGENT_COLUMNS, cells, _STOCK_COLUMNS)
-    print()
-    print("limits in force")
+    _echo()
+    _echo("limits in force")
     _print_table(LIMIT_COLUMNS, [limit_cells(row) for row in limits], LIMIT_COLUMNS)
-    print()
-    print(CAUTION)
+    _echo()
+    _echo(CAUTION)
     return OK
 
 
@@ -156,11 +157,11 @@ def run_diff(args: argparse.Namespace) -> int:
         }
         print(json.dumps(document, indent=2))
     else:
-        print(f'--- {old.path} ("{old.name}" version "{old.version}")')
-        print(f'+++ {new.path} ("{new.name}" version "{new.version}")')
+        _echo(f'--- {old.path} ("{old.name}" version "{old.version}")')
+        _echo(f'+++ {new.path} ("{new.name}" version "{new.version}")')
         for change in changes:
-            print(change.text)
-        print(summary_line(changes, same_bytes))
+            _echo(change.text)
+        _echo(summary_line(changes, same_bytes))
     return INVALID if changes else OK
 
 
@@ -179,7 +180,7 @@ def run_new(args: argparse.Namespace) -> int:
         raise FormularyError(out, "is a symbolic link: osmodose never writes through or over one") from None
     except OSError as error:
         raise FormularyError(out, f"cannot be written: {error.strerror or type(error).__name__}") from None
-    print(f"wrote {out}: fill it in, then run osmodose formulary validate {out}")
+    _echo(f"wrote {out}: fill it in, then run osmodose formulary validate {out}")
     return OK
 
 
@@ -189,10 +190,15 @@ def run_schema(args: argparse.Namespace) -> int:
     return OK
 
 
+def _echo(text: object = "") -> None:
+    """Print text that may hold a formulary's own words (names, labels, values): control characters escaped."""
+    print(escape_controls(text, keep_lines=True))
+
+
 def _print_table(headings: Sequence[str], rows: Sequence[Sequence[str]], chosen: Sequence[str]) -> None:
     """Print the `chosen` columns, left-aligned, two spaces apart."""
     picks = [headings.index(name) for name in chosen]
-    table = [[cells[i] for i in picks] for cells in (headings, *rows)]
+    table = [[escape_controls(cells[i]) for i in picks] for cells in (headings, *rows)]
     widths = [max(len(line[i]) for line in table) for i in range(len(picks))]
     for line in table:
-        print("  ".join(cell.ljust(width) for cell, width in zip(line, widths, strict=True)).rstrip())
+        _echo("  ".join(cell.ljust(width) for cell, width in zip(line, widths, strict=True)).rstrip())

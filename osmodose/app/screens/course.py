@@ -119,10 +119,10 @@ class CourseScreen(Screen[None]):
             self.query_one(legend_id, PlotLegend).show(panel)
         rows = finding_rows(state)
         self.query_one("#course-findings", Static).update(
-            "\n".join(f"[{_STYLE[severity]}]{escape(line)}[/]" for severity, line in rows)
+            "\n".join(f"[{_STYLE[severity]}]{escape(escape_controls(line))}[/]" for severity, line in rows)
         )
         notes = [*notes_lines(state), f"formulary: {formulary_line(self.formulary)} (F2 shows it)"]
-        self.query_one("#course-notes", Static).update("\n".join(notes))
+        self.query_one("#course-notes", Static).update(escape_controls("\n".join(notes), keep_lines=True))
 
     def _fill_table(self, state: CourseState) -> None:
         """One row per entry, the details wrapped in the width left (nothing hidden off to the right)."""
@@ -136,7 +136,7 @@ class CourseScreen(Screen[None]):
         for label, width in zip(TIMELINE_COLUMNS, (time_width, id_width, entry_width, details), strict=True):
             table.add_column(label, width=width)
         for time, kind, details, entry_id in state.rows:
-            table.add_row(time, entry_id, kind, details, height=None)
+            table.add_row(time, entry_id, kind, escape_controls(details), height=None)
         table.move_cursor(row=len(state.rows) - 1)
         if self.app.focused is None or isinstance(self.app.focused, Input):
             table.focus()

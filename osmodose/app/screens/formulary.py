@@ -12,6 +12,7 @@ from textual.widgets import DataTable, Footer, Static
 
 from osmodose.formulary.model import Formulary
 from osmodose.formulary.summary import agent_rows, limit_rows
+from osmodose.safe_text import escape_controls
 
 AGENT_COLUMNS = (
     "id",
@@ -40,7 +41,8 @@ class FormularyScreen(Screen[None]):
     def compose(self) -> ComposeResult:
         f = self.formulary
         with VerticalScroll(id="formulary-body"):
-            yield Static(f"{f.name}  v{f.version}\nsha256 {f.sha256}\n{f.path}", id="formulary-id", markup=False)
+            shown = escape_controls(f"{f.name}  v{f.version}\nsha256 {f.sha256}\n{f.path}", keep_lines=True)
+            yield Static(shown, id="formulary-id", markup=False)
             yield Static("agents", classes="help-title")
             yield DataTable(id="agents-table", cursor_type="row", zebra_stripes=True)
             yield Static("limits", classes="help-title")
@@ -52,8 +54,8 @@ class FormularyScreen(Screen[None]):
         agents.add_columns(*AGENT_COLUMNS)
         for a in agent_rows(self.formulary):
             agents.add_row(
-                a.id,
-                a.label,
+                escape_controls(a.id),
+                escape_controls(a.label),
                 a.solute,
                 a.concentration,
                 f"{a.sodium_mmol_l:g}",

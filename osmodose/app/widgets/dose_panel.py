@@ -7,6 +7,7 @@ from textual.widgets import Static
 
 from osmodose.app.view import DOSE_FIGURES, SYMBOL, Outcome, dose_texts, stock_rows
 from osmodose.app.widgets.figures import NOT_VALID, FigurePanel
+from osmodose.safe_text import escape_controls
 
 
 class DosePanel(FigurePanel):
@@ -33,7 +34,7 @@ class DosePanel(FigurePanel):
         else:
             dose = result.dose
             line = f", {result.line} line" if result.line else ""
-            self.order_text = f"{dose.agent_label}\nasked: {dose.requested}{line}"
+            self.order_text = escape_controls(f"{dose.agent_label}\nasked: {dose.requested}{line}", keep_lines=True)
             self.stock = stock_rows(result)
             self.border_title = f"dose {SYMBOL[result.status]} {result.status.upper()}"
             self.show(dose_texts(result))

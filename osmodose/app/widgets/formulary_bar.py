@@ -5,6 +5,7 @@ from __future__ import annotations
 from textual.widgets import Static
 
 from osmodose.formulary.model import Formulary
+from osmodose.safe_text import escape_controls
 
 #: Enough of the SHA-256 to tell two files apart at a glance; the full hash is
 #: on the formulary screen and in every saved summary.
@@ -12,7 +13,7 @@ SHORT_SHA = 8
 
 
 def formulary_line(formulary: Formulary) -> str:
-    return f"{formulary.name}  v{formulary.version}  sha256 {formulary.sha256[:SHORT_SHA]}"
+    return escape_controls(f"{formulary.name}  v{formulary.version}  sha256 {formulary.sha256[:SHORT_SHA]}")
 
 
 class FormularyBar(Static):
