@@ -317,3 +317,15 @@ def test_the_record_number_is_printed_only_once_saved_and_a_full_stdout_says_it_
         "but it could not be printed (No space left on device): do not verify it again; osmodose log show 1 prints it\n"
     )
     assert len(log.read_bytes().splitlines()) == 1
+
+
+def test_a_line_with_a_right_hash_but_no_record_is_damage_and_stops_the_append(tmp_path: Path, capsys) -> None:
+    body = b'{"sequence":1,"previous_sha256":"' + b"0" * 64 + b'","record":' + b"[" * 5000 + b"]" * 5000 + b"}"
+    log = tmp_path / "log.jsonl"
+    log.write_bytes(b'{"sha256":"' + hashlib.sha256(body).hexdigest().encode() + b'","entry":' + body + b"}\n")
+    before = log.read_bytes()
+    assert main(verify_args(log, *RELEASED_ORDER)) == 2
+    assert "its last record is damaged or altered" in capsys.readouterr().err
+    assert log.read_bytes() == before
+    code, out = verify_log(log, capsys)
+    assert code == 1 and out[1] == "first problem: line 1 is not a readable record (damaged or edited)"

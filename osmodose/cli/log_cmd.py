@@ -126,11 +126,11 @@ def run_verify(args: argparse.Namespace) -> int:
 
     def judge(item):  # type: ignore[no-untyped-def]
         progress.step()
-        if isinstance(item, ChainLink) and item.entry is not None and item.entry.appended_to_broken_log:
+        if isinstance(item, ChainLink) and item.entry.appended_to_broken_log:
             broken_appends.append(f"record {item.entry.sequence}: {item.entry.appended_to_broken_log}")
         return rechecker(item)
 
-    report = walk_log(path, checker, expect, full=True, each=judge)
+    report = walk_log(path, checker, expect, each=judge)
     progress.done()
     aside = Path(f"{report.path}.incomplete")
     if aside.exists():
@@ -215,7 +215,7 @@ def run_list(args: argparse.Namespace) -> int:
 
     def one(item: ChainLink | LogProblem) -> list[LogProblem]:
         nonlocal empty
-        if isinstance(item, ChainLink) and item.entry is not None:
+        if isinstance(item, ChainLink):
             empty = False
             entry = item.entry
             record, order = entry.record, entry.record.order
@@ -228,7 +228,7 @@ def run_list(args: argparse.Namespace) -> int:
             )
         return []
 
-    report = walk_log(path, checker, full=True, each=one)
+    report = walk_log(path, checker, each=one)
     if empty:
         print(f"log {report.path}: no records")
     for problem in report.problems:
@@ -244,7 +244,7 @@ def run_show(args: argparse.Namespace) -> int:
 
     path, _key, checker = _paths(args)
     found, last = find_record(path, args.number)
-    if found is None or found.entry is None:
+    if found is None:
         known = f"1 to {last}" if last else "none: the log is empty"
         raise LogError(path, f"has no record {args.number} (records: {known})")
     entry = found.entry

@@ -43,10 +43,6 @@ from osmodose.verify.record import VerificationRecord
 GENESIS_SHA256 = "0" * 64
 PREFIX = b'{"sha256":"'
 _LINE = re.compile(rb'^\{"sha256":"([0-9a-f]{64})"(?:,"signature":"([0-9a-f]{128})")?,"entry":(\{.*\})\}$', re.DOTALL)
-#: The head of an entry as this program writes it: enough to follow the chain without reading the record.
-_HEAD = re.compile(
-    rb'^\{"sequence":(\d{1,15}),"previous_sha256":"([0-9a-f]{64})"(?:,"signed_by":(?:"([0-9a-f]{16})"|null))?'
-)
 #: Windows translates newlines in files opened without O_BINARY; the hashes are of exact bytes.
 BINARY = getattr(os, "O_BINARY", 0)
 
@@ -67,7 +63,7 @@ class LogEntry(BaseModel):
 
 @dataclass(frozen=True)
 class ChainLink:
-    """What the chain needs of a line: its place, its hashes, its signature; `entry` when fully read."""
+    """A line read back: its place, its hashes, its signature, and the entry."""
 
     line: int
     sha256: str
@@ -77,7 +73,7 @@ class ChainLink:
     signature: str | None
     signed_by: str | None
     body: bytes
-    entry: LogEntry | None = None
+    entry: LogEntry
 
 
 @dataclass(frozen=True)
@@ -110,43 +106,33 @@ def encode_line(entry: LogEntry, signature_of: Callable[[bytes], str] | None = N
     return digest, b'{"sha256":"' + digest.encode("ascii") + b'"' + signed + b',"entry":' + body + b"}\n"
 
 
-def decode_link(number: int, raw: bytes, full: bool = False) -> ChainLink | LogProblem:
-    """The chain fields of one line (without its newline); with `full`, the whole entry validated too.
+def decode_link(number: int, raw: bytes) -> ChainLink | LogProblem:
+    """One line (without its newline) read in full: its hashes, its signature, and the entry validated.
 
-    Without `full` the record is not read: the chain is followed from the
-    entry's head when it has the layout this program writes, which keeps a
-    walk over a long log to a hash per line.
+    A line whose hashes are right but whose entry is no record (built to
+    pass a chain check) is as damaged as a line cut in half.
     """
     match = _LINE.match(raw)
     if match is None:
         return LogProblem(number, "damaged", f"line {number} is not a complete record (damaged or cut)")
     stored, signature, body = match.group(1).decode("ascii"), match.group(2), match.group(3)
-    hash_ok = hashlib.sha256(body).hexdigest() == stored
-    head = _HEAD.match(body)
-    entry: LogEntry | None = None
-    if full or head is None:
-        try:
-            entry = LogEntry.model_validate_json(body)
-        except ValidationError:
-            return LogProblem(number, "damaged", f"line {number} is not a readable record (damaged or edited)")
-        sequence, previous, signed_by = entry.sequence, entry.previous_sha256, entry.signed_by
-    else:
-        sequence, previous = int(head.group(1)), head.group(2).decode("ascii")
-        signed_by = head.group(3).decode("ascii") if head.group(3) else None
+    try:
+        entry = LogEntry.model_validate_json(body)
+    except ValidationError:
+        return LogProblem(number, "damaged", f"line {number} is not a readable record (damaged or edited)")
     return ChainLink(
         line=number,
         sha256=stored,
-        sequence=sequence,
-        previous_sha256=previous,
-        hash_ok=hash_ok,
+        sequence=entry.sequence,
+        previous_sha256=entry.previous_sha256,
+        hash_ok=hashlib.sha256(body).hexdigest() == stored,
         signature=signature.decode("ascii") if signature else None,
-        signed_by=signed_by,
+        signed_by=entry.signed_by,
         body=body,
         entry=entry,
     )
 
 
 def stored_entry(link: ChainLink) -> StoredEntry:
-    """A fully read link as a StoredEntry (the link must have been decoded with `full`)."""
-    assert link.entry is not None
+    """A link as a StoredEntry (the in-memory reader's form)."""
     return StoredEntry(link.line, link.sha256, link.entry, link.hash_ok, link.signature)

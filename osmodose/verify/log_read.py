@@ -68,7 +68,7 @@ def _lines(handle: BinaryIO) -> Iterator[_Line]:
             return
 
 
-def _items(handle: BinaryIO, full: bool) -> Iterator[tuple[_Line, ChainLink | LogProblem]]:
+def _items(handle: BinaryIO) -> Iterator[tuple[_Line, ChainLink | LogProblem]]:
     for line in _lines(handle):
         if not line.complete:
             yield (
@@ -88,7 +88,7 @@ def _items(handle: BinaryIO, full: bool) -> Iterator[tuple[_Line, ChainLink | Lo
                 ),
             )
         else:
-            yield line, decode_link(line.number, line.raw, full)
+            yield line, decode_link(line.number, line.raw)
 
 
 class ChainWalker:
@@ -209,7 +209,7 @@ def find_record(path: Path | str, sequence: int) -> tuple[ChainLink | None, int]
     last = 0
     try:
         with open_log(path) as handle:
-            for _line, item in _items(handle, full=True):
+            for _line, item in _items(handle):
                 if isinstance(item, ChainLink):
                     if item.sequence == sequence:
                         return item, last
@@ -256,12 +256,11 @@ def open_log(path: Path) -> BinaryIO:
 def walk(
     handle: BinaryIO,
     walker: ChainWalker,
-    full: bool = False,
     each: Callable[[_Line, ChainLink | LogProblem], None] | None = None,
 ) -> int:
     """Feed every line of `handle` to `walker`; returns the offset just after the last complete line."""
     complete_end = 0
-    for line, item in _items(handle, full):
+    for line, item in _items(handle):
         walker.feed(item)
         if line.complete:
             complete_end = line.end
@@ -274,7 +273,6 @@ def walk_log(
     path: Path | str,
     checker: Checker | None = None,
     expect: str | None = None,
-    full: bool = False,
     each: Callable[[ChainLink | LogProblem], list[LogProblem]] | None = None,
 ) -> ChainReport:
     """Walk the whole log at `path` in one pass; `each` may judge every line further (and add problems)."""
@@ -288,7 +286,7 @@ def walk_log(
 
     try:
         with open_log(path) as handle:
-            walk(handle, walker, full, judge)
+            walk(handle, walker, judge)
     except OSError as error:
         raise LogError(path, f"cannot be read: {os_reason(error)}") from None
     walker.problems.extend(extra)
@@ -316,7 +314,7 @@ def read_log(path: Path | str) -> LogReadout:
     readout = LogReadout(path)
     try:
         with open_log(path) as handle:
-            for line, item in _items(handle, full=True):
+            for line, item in _items(handle):
                 readout.lines = line.number
                 if isinstance(item, LogProblem):
                     readout.problems.append(item)

@@ -160,7 +160,7 @@ class Rechecker:
         return self._by_sha.get(sha)
 
     def __call__(self, item: ChainLink | LogProblem) -> list[LogProblem]:
-        if not isinstance(item, ChainLink) or item.entry is None or not item.hash_ok:
+        if not isinstance(item, ChainLink) or not item.hash_ok:
             return []  # an altered record is reported as such; judging its content would add only noise
         record = item.entry.record
         where = f"record {item.entry.sequence} (line {item.line})"
