@@ -106,7 +106,7 @@ def _results(
         return
     try:
         with atomic_writer(out_path, overwrite=force, text=True, newline="") as handle:
-            yield handle
+            yield handle  # type: ignore[misc]  # a text handle (text=True)
     except FileExistsError:
         raise InputError("out", written, "already exists: choose another file or add --force to overwrite it") from None
     except DestinationIsALink:

@@ -20,7 +20,7 @@ import importlib
 import os
 import sys
 from collections.abc import Sequence
-from typing import NoReturn
+from typing import Any, NoReturn
 
 from osmodose import __version__
 from osmodose.cli.exit_codes import BAD_INPUT, BROKEN_PIPE
@@ -76,7 +76,7 @@ class _SubParsers(argparse._SubParsersAction):
         self,
         parser: argparse.ArgumentParser,
         namespace: argparse.Namespace,
-        values: object,
+        values: str | Sequence[Any] | None,
         option_string: str | None = None,
     ) -> None:
         before = dict(_given(namespace))

@@ -59,7 +59,7 @@ def _rename(entry: object, keys: dict[str, str], where: str) -> Data:
         raise MigrationError(f"{where}: is not an object")
     renamed: Data = {}
     for key, value in entry.items():
-        new = keys.get(key, key)
+        new = keys.get(str(key), str(key))
         if new in renamed:
             raise MigrationError(f"{where}: has both {key} and the key it becomes, {new}")
         renamed[new] = value

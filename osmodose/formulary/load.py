@@ -98,8 +98,7 @@ def read_formulary(path: Path | str) -> ReadResult:
     except UnicodeDecodeError:
         return ReadResult(path, None, [FormularyError(path, "is not UTF-8 text")])
     if (found := guard(text)) is not None:
-        problem, line = found
-        return ReadResult(path, None, [FormularyError(path, problem, None, line)], text=text)
+        return ReadResult(path, None, [FormularyError(path, found[0], None, found[1])], text=text)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:

@@ -73,7 +73,7 @@ def _depth_of(value: Any, limit: int) -> int:
     while stack:
         item, depth = stack.pop()
         if isinstance(item, dict):
-            children = item.values()
+            children: list[Any] = list(item.values())
         elif isinstance(item, list):
             children = item
         else:

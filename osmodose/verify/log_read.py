@@ -226,7 +226,7 @@ class ChainReport:
     path: Path
     records: int
     problems: list[LogProblem]
-    head: ChainLink | StoredEntry | None
+    head: ChainLink | None
     signed: int = 0
     unsigned: int = 0
     checker: Checker | None = None
@@ -333,7 +333,7 @@ def verify_chain(readout: LogReadout, expect_sha256: str | None = None, checker:
     for item in items:
         walker.feed(item)
     walker.finish()
-    head = readout.entries[-1] if readout.entries else None
+    head = readout.links[-1] if readout.links else None
     return ChainReport(
         readout.path, len(readout.entries), walker.problems, head, walker.signed, walker.unsigned, checker
     )

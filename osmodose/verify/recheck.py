@@ -25,7 +25,7 @@ from typing import Any
 from osmodose import __version__
 from osmodose.errors import OsmodoseError
 from osmodose.formulary import Formulary, demo_formulary_path, load_formulary
-from osmodose.verify.decision import Acceptance, Decision, decide
+from osmodose.verify.decision import Acceptance, AcceptedWarning, Decision, RefusedAcceptance, decide
 from osmodose.verify.log import ChainLink, LogProblem
 from osmodose.verify.record import VerificationRecord, verify_order
 
@@ -34,7 +34,8 @@ _SHOWN = 60
 
 def acceptances_of(decision: Decision) -> list[Acceptance]:
     """The acceptances a decision was made with (granted ones, then those refused)."""
-    return [Acceptance(code=a.code, reason=a.reason) for a in (*decision.accepted, *decision.not_accepted)]
+    given: list[AcceptedWarning | RefusedAcceptance] = [*decision.accepted, *decision.not_accepted]
+    return [Acceptance(code=a.code, reason=a.reason) for a in given]
 
 
 def _summary(decision: Decision) -> tuple[object, ...]:

@@ -135,8 +135,8 @@ class CourseScreen(Screen[None]):
         details = max(30, self.size.width - time_width - id_width - entry_width - 4 * 2 - 2)
         for label, width in zip(TIMELINE_COLUMNS, (time_width, id_width, entry_width, details), strict=True):
             table.add_column(label, width=width)
-        for time, kind, details, entry_id in state.rows:
-            table.add_row(time, entry_id, kind, escape_controls(details), height=None)
+        for when, kind, text, entry_id in state.rows:
+            table.add_row(when, entry_id, kind, escape_controls(text), height=None)
         table.move_cursor(row=len(state.rows) - 1)
         if self.app.focused is None or isinstance(self.app.focused, Input):
             table.focus()
