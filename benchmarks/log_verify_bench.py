@@ -10,7 +10,9 @@ child process) of:
   reads the file line by line, hashing each line (SHA-256) — what any
   chain check must at least do;
 * `log verify --no-recompute`: chain, signatures, decisions re-derived;
-* `log verify`: the same, plus each check recomputed from its stored inputs.
+* `log verify`: the same, plus each check recomputed from its stored inputs;
+* for comparison, `read_log`, which holds every record in memory as
+  `log verify` did before it streamed.
 
 Usage: python benchmarks/log_verify_bench.py [N] [RUNS]
 """
@@ -32,6 +34,12 @@ from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
 from osmodose.verify.signing import init_key  # noqa: E402
 from tests.log_build import write_signed_log  # noqa: E402
 from tests.verify_helpers import verify  # noqa: E402
+
+IN_MEMORY = """
+import sys
+from osmodose.verify import read_log, verify_chain
+verify_chain(read_log(sys.argv[1]))
+"""
 
 FLOOR = """
 import hashlib, sys
@@ -87,6 +95,9 @@ def main() -> None:
         for label, extra in (("log verify --no-recompute", ["--no-recompute"]), ("log verify", [])):
             result = measure([sys.executable, "-m", "osmodose", "log", "verify", "--log", str(log), *extra], env, runs)
             rows.append((label, result))
+        rows.append(
+            ("in memory (read_log), for comparison", measure([sys.executable, "-c", IN_MEMORY, str(log)], env, runs))
+        )
         print(f"{'':36} {'wall s':>8} {'x floor':>8} {'peak MB':>8} {'exit':>5}")
         for label, (wall, peak, status) in rows:
             print(f"{label:36} {wall:8.2f} {wall / floor[0]:8.1f} {peak:8.0f} {status:5}")
