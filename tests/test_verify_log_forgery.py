@@ -329,3 +329,23 @@ def test_a_line_with_a_right_hash_but_no_record_is_damage_and_stops_the_append(t
     assert log.read_bytes() == before
     code, out = verify_log(log, capsys)
     assert code == 1 and out[1] == "first problem: line 1 is not a readable record (damaged or edited)"
+
+
+@pytest.mark.parametrize(
+    ("env", "platform", "expected"),
+    [
+        ({}, "linux", "/home/u/.config/osmodose/log-signing.key"),
+        ({"XDG_CONFIG_HOME": "/srv/config"}, "linux", "/srv/config/osmodose/log-signing.key"),
+        ({"XDG_CONFIG_HOME": "config"}, "linux", "/home/u/.config/osmodose/log-signing.key"),  # relative: ignored
+        ({"OSMODOSE_LOG_KEY": "/keys/unit.key"}, "linux", "/keys/unit.key"),
+        ({}, "darwin", "/home/u/Library/Preferences/osmodose/log-signing.key"),
+        ({"APPDATA": "/c/AppData/Roaming"}, "win32", "/c/AppData/Roaming/osmodose/log-signing.key"),
+    ],
+)
+def test_the_key_lives_in_the_configuration_folder_not_the_logs(env, platform: str, expected: str) -> None:  # type: ignore[no-untyped-def]
+    from osmodose.verify.paths import default_log_path
+    from osmodose.verify.signing import default_key_path
+
+    key = default_key_path(env, platform, Path("/home/u"))
+    assert key == Path(expected)
+    assert key.parent != default_log_path(env, platform, Path("/home/u")).parent

@@ -20,7 +20,6 @@ from __future__ import annotations
 import hashlib
 import os
 import stat
-import sys
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -32,6 +31,7 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey,
 from osmodose.errors import SigningKeyError
 from osmodose.storage.atomic import atomic_write
 from osmodose.storage.bounded import FileRefused, os_reason, read_bounded
+from osmodose.verify.paths import user_file
 
 KEY_ENV_VAR = "OSMODOSE_LOG_KEY"
 KEY_FILE_NAME = "log-signing.key"
@@ -44,19 +44,7 @@ def default_key_path(
     env: Mapping[str, str] | None = None, platform: str | None = None, home: Path | None = None
 ) -> Path:
     """$OSMODOSE_LOG_KEY, else the per-user configuration folder (never the log's state folder)."""
-    env = os.environ if env is None else env
-    platform = sys.platform if platform is None else platform
-    home = Path.home() if home is None else home
-    if env.get(KEY_ENV_VAR, "").strip():
-        return Path(env[KEY_ENV_VAR]).expanduser()
-    if platform.startswith("win"):
-        base = Path(env["APPDATA"]) if env.get("APPDATA") else home / "AppData" / "Roaming"
-    elif platform == "darwin":
-        base = home / "Library" / "Preferences"
-    else:
-        config = env.get("XDG_CONFIG_HOME", "").strip()
-        base = Path(config) if config and Path(config).is_absolute() else home / ".config"
-    return base / "osmodose" / KEY_FILE_NAME
+    return user_file("config", KEY_ENV_VAR, KEY_FILE_NAME, env, platform, home)
 
 
 def key_path(option: str | None, env: Mapping[str, str] | None = None) -> Path:
