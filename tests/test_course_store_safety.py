@@ -24,7 +24,8 @@ ENTRIES_EACH = 50
 
 
 def _app_writer(path: str, writer: int, acknowledged: multiprocessing.Queue) -> None:  # type: ignore[type-arg]
-    """Adds labs as the app's course screen does: read the file, add one entry, save only if unchanged since.
+    """Adds labs as the app's course screen saves them (course_view.add_entry without the redraw): read the file,
+    parse the typed lab, save only if the file is unchanged since it was read.
 
     A save refused because another writer changed the file meanwhile is read
     again and retried, as the screen asks its user to do; every save that
@@ -32,20 +33,21 @@ def _app_writer(path: str, writer: int, acknowledged: multiprocessing.Queue) -> 
     """
     from datetime import timedelta
 
-    from osmodose.app.course_view import add_entry, open_course
-    from osmodose.formulary import demo_formulary_path, load_formulary
+    from osmodose.course.entries import parse_lab
+    from osmodose.course.store import CHANGED_MEANWHILE
 
-    formulary = load_formulary(demo_formulary_path())
     for k in range(ENTRIES_EACH):
         minute = writer * ENTRIES_EACH + k + 1
         values = {"time": (T0 + timedelta(minutes=minute)).isoformat(), "sodium": str(120 + minute % 30)}
         while True:
-            state = open_course(path, formulary)
-            outcome = add_entry(state, "lab", formulary, values)
-            if outcome.state is not None:
-                acknowledged.put(minute)
-                break
-            assert "changed on disk since it was read" in str(outcome.error), outcome.error
+            episode, digest = read_episode(path)
+            try:
+                save_episode(episode.with_entry(parse_lab(episode, values)), path, expect_sha256=digest)
+            except EpisodeFileError as error:
+                assert CHANGED_MEANWHILE in str(error), error
+                continue
+            acknowledged.put(minute)
+            break
 
 
 def test_four_concurrent_writers_through_the_apps_path_lose_no_entry(tmp_path: Path) -> None:

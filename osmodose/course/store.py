@@ -165,7 +165,9 @@ def episode_lock(path: Path | str) -> Iterator[None]:
 
 
 def _remove_stale(path: Path, note: Note | None) -> None:
-    """Temporary copies left by a killed writer (only ever called under the lock, when none can be at work)."""
+    """Temporary copies left by a killed writer (only under the lock, when no other writer can be at work)."""
+    if fcntl is None:  # pragma: no cover - Windows: no lock, so another writer's copy may be in progress
+        return
     for stale in stale_temporaries(path):
         with contextlib.suppress(FileNotFoundError):
             os.unlink(stale)
