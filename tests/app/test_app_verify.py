@@ -176,3 +176,20 @@ async def test_the_verification_keys_are_in_its_footer() -> None:
         await pilot.pause()
         keys = {(k.key, k.description) for k in app.screen.query(FooterKey)}
         assert {("ctrl+s", "save"), ("escape", "back"), ("f3", "verify"), ("f1", "help")} <= keys
+
+
+@sync
+async def test_a_key_kept_in_the_logs_folder_shows_not_saved(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    log = tmp_path / "state" / "verifications.jsonl"
+    key = tmp_path / "state" / "log-signing.key"
+    monkeypatch.setenv("OSMODOSE_LOG", str(log))
+    monkeypatch.setenv("OSMODOSE_LOG_KEY", str(key))
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB", typed=False)
+        screen = verify_screen(app)
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        saved = str(screen.query_one("#verify-saved", Static).render())
+        assert saved.startswith(f"✖ NOT SAVED: signing key {key}: is inside the log's folder")
+    assert not log.exists() and not key.exists()

@@ -42,7 +42,7 @@ from osmodose.app.widgets.findings import ChecksPanel
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.check.results import CAUTION
-from osmodose.errors import LogError
+from osmodose.errors import LogError, SigningKeyError
 from osmodose.formulary.model import Formulary
 from osmodose.verify import append_record, log_path
 
@@ -213,7 +213,7 @@ class VerifyScreen(Screen[None]):
             path = log_path(None)
             try:
                 saved, digest = append_record(path, state.record)
-            except LogError as error:
+            except (LogError, SigningKeyError) as error:  # a broken chain, or a key it cannot use: not saved
                 self.note = SaveNote(entry.key(), not_saved_text(error), False)
             else:
                 self.note = SaveNote(entry.key(), saved_text(saved.sequence, digest, path), True)
