@@ -279,3 +279,19 @@ def resource_label(resource: str | None, loinc: str | None = None, field: str | 
     """`Observation/na-2 (LOINC 2951-2, sodium)`: how a line about one resource names it."""
     inside = ", ".join(part for part in (f"LOINC {loinc}" if loinc else None, field) if part)
     return f"{resource}" + (f" ({inside})" if inside else "")
+
+
+class SigningKeyError(OsmodoseError):
+    """The unit's key for signing verification records cannot be made, read or used.
+
+    Names the key file; never prints the key.
+    """
+
+    def __init__(self, path: Path | str, problem: str) -> None:
+        self.path = Path(path)
+        self.problem = problem
+        super().__init__(f"signing key {self.path}: {problem}")
+
+
+class OutputError(OsmodoseError):
+    """What a command made could not be written out (a full disk, a closed pipe); the message says what was kept."""

@@ -88,21 +88,22 @@ def test_show_prints_the_timeline_table(worked: Path, capsys) -> None:
     course("show", worked)
     out = capsys.readouterr().out
     assert out.startswith("osmodose course  REFUSE: a hard limit is crossed; no further dose without review\n")
+    assert "time                    id  entry    details\n" in out
     assert (
-        "2026-12-01T08:30+00:00  dose     nacl-3 150 mL over 20 min  -> projected Na 119.4  "
+        "2026-12-01T08:30+00:00  D1  dose     nacl-3 150 mL over 20 min  -> projected Na 119.4  "
         "apparent TBW 19.5 L (46 %)  ICP n/a -> 25\n" in out
     )
     assert "apparent total body water: 19.5 L, 46 % of the estimated 42.0 L" in out
     # Past a limit, a value says so in words beside it: ICP 25 > 22, CPP 55 < 60 (Carney 2017).
-    assert "2026-12-01T10:00+00:00  reading  MAP 80  ICP 25 HIGH  CPP 55 LOW\n" in out
+    assert "2026-12-01T10:00+00:00  R1  reading  MAP 80  ICP 25 HIGH  CPP 55 LOW\n" in out
     assert (
-        "2026-12-01T16:00+00:00  dose     mannitol-20 350 mL over 20 min  70.0 g  in 24 h 1.00 g/kg  (no projection)\n"
-        in out
+        "2026-12-01T16:00+00:00  D3  dose     mannitol-20 350 mL over 20 min  70.0 g  in 24 h 1.00 g/kg  "
+        "(no projection)\n" in out
     )
     # 24 h rise 13 from 118 (the rise limits apply below 135): above the refuse limit of 10; gap 17 after
     # mannitol is above the warn limit of 10.
     assert (
-        f"{DAY2}T06:00+00:00  lab      Na 131.0  glucose 6.0  urea 5.0  osm 290.0  calc 273.0  gap 17.0 HIGH  "
+        f"{DAY2}T06:00+00:00  L3  lab      Na 131.0  glucose 6.0  urea 5.0  osm 290.0  calc 273.0  gap 17.0 HIGH  "
         "24 h rise +13.0 TOO HIGH\n" in out
     )
     assert "HIGH/LOW: past a warn limit; TOO HIGH/TOO LOW: past a refuse limit (the formulary's limits)\n" in out

@@ -35,8 +35,9 @@ def test_an_episode_survives_a_save_and_a_load(tmp_path: Path) -> None:
     save_episode(ep, path, create=True)
     assert load_episode(path) == ep
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == FORMAT_VERSION == 4
+    assert data["format_version"] == FORMAT_VERSION == 5
     assert "cpp_mmhg" not in data["readings"][0]  # computed, never stored
+    assert [data["labs"][0]["id"], data["doses"][0]["id"], data["readings"][0]["id"]] == ["L1", "D1", "R1"]
 
 
 def test_entries_are_kept_in_time_order(tmp_path: Path) -> None:
@@ -46,7 +47,7 @@ def test_entries_are_kept_in_time_order(tmp_path: Path) -> None:
 
 def test_the_shipped_version_1_file_loads_through_the_migration() -> None:
     ep = load_episode(V1_EXAMPLE)
-    assert ep.format_version == 4
+    assert ep.format_version == 5
     # Version 1 wrote UTC without an offset: 22:00 is 22:00 UTC.
     assert ep.labs[0].time == datetime(2026, 11, 30, 22, 0, tzinfo=UTC)
     assert ep.labs[0].sodium_mmol_l == 121.0
@@ -57,7 +58,7 @@ def test_the_shipped_version_1_file_loads_through_the_migration() -> None:
     assert ep.patient.height_cm == 168.0
 
 
-def test_a_version_1_file_is_rewritten_in_the_current_version_when_a_command_changes_it(tmp_path: Path) -> None:
+def test_a_version_1_file_is_rewritten_in_the_current_format_when_a_command_changes_it(tmp_path: Path) -> None:
     path = tmp_path / "old.json"
     shutil.copy(V1_EXAMPLE, path)
     assert (
@@ -65,27 +66,36 @@ def test_a_version_1_file_is_rewritten_in_the_current_version_when_a_command_cha
         == 0
     )
     data = json.loads(path.read_text(encoding="utf-8"))
-    assert data["format_version"] == 4
+    assert data["format_version"] == 5
     assert data["labs"][0]["time"] == "2026-11-30T22:00:00Z"
-    assert len(data["readings"]) == 1
+    assert [x["id"] for x in data["labs"]] == ["L1", "L2"]
+    assert [x["id"] for x in data["readings"]] == ["R1"]
     assert data["outputs"] == []
 
 
 def test_a_version_3_file_loads_with_no_urine_outputs(tmp_path: Path) -> None:
-    # Version 3 (before urine outputs) had labs, doses and readings only: nothing moves, outputs start empty.
+    # Version 3 (before urine outputs and entry ids) had labs, doses and readings only: nothing moves, outputs
+    # start empty, and each entry is given the id of its place.
     path = tmp_path / "v3.json"
     data = json.loads(episode(labs=[lab(0, 130)], doses=[dose(1, "nacl-3", 150, 20)]).to_json_text())
     del data["outputs"]
+    for entry in [*data["labs"], *data["doses"]]:
+        del entry["id"]
     path.write_text(json.dumps({**data, "format_version": 3}), encoding="utf-8")
     ep = load_episode(path)
-    assert (ep.format_version, ep.outputs, ep.labs[0].sodium_mmol_l, ep.doses[0].volume_ml) == (4, (), 130.0, 150.0)
+    assert (ep.format_version, ep.outputs, ep.labs[0].sodium_mmol_l, ep.doses[0].volume_ml) == (5, (), 130.0, 150.0)
+    assert (ep.labs[0].id, ep.doses[0].id) == ("L1", "D1")
 
 
 def test_a_version_2_file_loads_unchanged_in_the_current_version(tmp_path: Path) -> None:
-    # Versions 3 and 4 only add optional keys (the FHIR source of an imported entry; urine outputs): nothing moves.
+    # Versions 3 to 5 only add keys (the FHIR source of an imported entry; urine outputs; entry ids given in
+    # order): nothing moves.
     path = tmp_path / "v2.json"
     data = json.loads(DEMO_EPISODE.read_text(encoding="utf-8"))
     del data["outputs"]
+    for kind in ("labs", "doses", "readings"):
+        for entry in data[kind]:
+            del entry["id"]
     path.write_text(json.dumps({**data, "format_version": 2}), encoding="utf-8")
     assert load_episode(path) == load_episode(DEMO_EPISODE).model_copy(update={"outputs": ()})
 
@@ -108,8 +118,8 @@ def test_the_demo_episode_is_in_the_current_format() -> None:
         ('{"patient": {}}', "has no format_version: not an osmodose episode file; the file was not changed"),
         ('{"format_version": "2"}', "format_version '2' is not a whole number; the file was not changed"),
         (
-            '{"format_version": 5}',
-            "format_version 5 is newer than this osmodose reads (up to 4): use a newer osmodose; "
+            '{"format_version": 6}',
+            "format_version 6 is newer than this osmodose reads (up to 5): use a newer osmodose; "
             "the file was not changed",
         ),
         ('{"format_version": 0}', "format_version 0 is not one osmodose knows; the file was not changed"),

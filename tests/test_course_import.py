@@ -202,5 +202,5 @@ def test_the_import_json_of_course_show_keeps_working(tmp_path: Path) -> None:
     code, out, _ = run("course", "show", str(episode_path), "--json", "--formulary", formulary)
     assert code in (0, 3, 4)
     shown = json.loads(out)
-    assert shown["format_version"] == 4  # urine outputs came after the FHIR sources (3)
+    assert shown["format_version"] == 5  # after the FHIR sources (3), urine outputs (4) and entry ids (5)
     assert shown["doses"][0]["source"] == "MedicationAdministration/ma-1"

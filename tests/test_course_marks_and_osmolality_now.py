@@ -85,7 +85,7 @@ def test_the_app_course_state_carries_the_marked_cells(demo: Formulary, tmp_path
     path = tmp_path / "ep.json"
     save_episode(_issue_episode(), path, create=True)
     state = open_course(path, demo)
-    assert [row.text for row in state.table] == [text for _, _, text in state.rows]
+    assert [row.text for row in state.table] == [text for _, _, text, _ in state.rows]
     assert any(cell.mark == "TOO HIGH" for row in state.table for cell in row.cells)
     assert legend_text(state) == LEGEND
 

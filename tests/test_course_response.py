@@ -75,8 +75,8 @@ def test_add_output_from_the_command_line(tmp_path: Path, capsys: pytest.Capture
     assert capsys.readouterr().out.endswith("(1 output in all)\n")
     stored = json.loads(path.read_text(encoding="utf-8"))["outputs"]
     assert stored == [
-        {"time": "2026-12-01T10:00:00Z", "volume_ml": 1200.0, "sodium_mmol_l": 40.0, "potassium_mmol_l": None,
-         "over_min": 240.0}
+        {"id": "U1", "time": "2026-12-01T10:00:00Z", "corrections": [], "volume_ml": 1200.0, "sodium_mmol_l": 40.0,
+         "potassium_mmol_l": None, "over_min": 240.0}
     ]  # fmt: skip
 
 
@@ -282,8 +282,8 @@ def test_review_json_carries_outputs_and_the_apparent_tbw(demo: Formulary) -> No
     ep = episode(labs=[lab(0, 120), lab(6, 128)], doses=[dose(1, "nacl-3", 500, 30)]).with_entry(output(5, 800))
     shown = review_json(review(ep, demo), "ep.json")
     assert shown["outputs"] == [
-        {"time": "2026-12-01T13:00:00Z", "volume_ml": 800.0, "sodium_mmol_l": None, "potassium_mmol_l": None,
-         "over_min": None}
+        {"id": "U1", "time": "2026-12-01T13:00:00Z", "corrections": [], "volume_ml": 800.0, "sodium_mmol_l": None,
+         "potassium_mmol_l": None, "over_min": None}
     ]  # fmt: skip
     assert shown["apparent_tbw_l"] == 24.1  # 24.0625, to 0.1 L as declared
     assert shown["doses"][0]["apparent_tbw_l"] == 24.1

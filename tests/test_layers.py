@@ -15,6 +15,7 @@ PACKAGE = Path(__file__).resolve().parent.parent / "osmodose"
 LAYER = {
     "errors": 0,
     "caution": 0,
+    "safe_text": 0,
     "science": 1,
     "storage": 1,
     "formulary": 2,

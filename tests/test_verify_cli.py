@@ -9,6 +9,7 @@ import pytest
 
 from osmodose.cli.main import main
 from osmodose.verify.paths import default_log_path
+from osmodose.verify.signing import key_path, load_checker
 from tests.conftest import run_cli
 
 PATIENT = ["--weight", "70", "--age", "45", "--sex", "male", "--sodium", "141", "--glucose", "6", "--urea", "5"]
@@ -140,7 +141,8 @@ def test_log_verify_list_and_show(tmp_path, capsys) -> None:
     assert main(["log", "show", "2", "--log", str(log)]) == 0
     shown = capsys.readouterr().out.splitlines()
     assert shown[0] == f"record 2 of log {log}"
-    assert shown[3].startswith("osmodose verification  REFUSED: ")
+    assert shown[2].startswith("signed by the unit's key ") and shown[2].endswith(": signature checked")
+    assert shown[4].startswith("osmodose verification  REFUSED: ")
     assert main(["log", "show", "2", "--json", "--log", str(log)]) == 0
     assert json.loads(capsys.readouterr().out)["record"]["order"]["volume_ml"] == 3500.0
 
@@ -152,9 +154,10 @@ def test_log_verify_names_an_edited_record_with_exit_one(tmp_path, capsys) -> No
     log.write_bytes(log.read_bytes().replace(b'"volume_ml":500.0', b'"volume_ml":50.0'))
     capsys.readouterr()
     assert main(["log", "verify", "--log", str(log)]) == 1
-    assert capsys.readouterr().out.splitlines() == [
+    assert capsys.readouterr().out.splitlines()[:3] == [
         f"log {log}: chain NOT intact (3 readable records)",
         "first problem: record 2 (line 2) was altered: it no longer matches its SHA-256",
+        "signatures: 2 checked with the unit's key " + load_checker(key_path(None)).key_id + f" ({key_path(None)})",
     ]
     assert main(["log", "show", "2", "--log", str(log)]) == 1
     assert "ALTERED: this record no longer matches its SHA-256" in capsys.readouterr().out

@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 from osmodose.errors import LogError
 from osmodose.verify import append_record, read_log, verify_chain
 from osmodose.verify.log import GENESIS_SHA256
+from osmodose.verify.signing import key_path, load_checker
 from tests.verify_helpers import verify
 
 VOLUMES = ("250", "500", "350", "750", "1000")
@@ -56,10 +57,14 @@ def test_each_line_hash_is_of_the_stored_entry_bytes(tmp_path, records) -> None:
     path = tmp_path / "log.jsonl"
     write_log(path, records[:1])
     line = lines_of(path)[0]
-    match = re.match(rb'^\{"sha256":"([0-9a-f]{64})","entry":(.*)\}$', line)
+    match = re.match(rb'^\{"sha256":"([0-9a-f]{64})","signature":"([0-9a-f]{128})","entry":(.*)\}$', line)
     assert match is not None
-    assert hashlib.sha256(match.group(2)).hexdigest() == match.group(1).decode()
+    assert hashlib.sha256(match.group(3)).hexdigest() == match.group(1).decode()
     assert json.loads(line)["entry"]["sequence"] == 1
+    # The signature is Ed25519 over the same bytes (RFC 8032), by the unit's key.
+    checker = load_checker(key_path(None))
+    assert checker is not None and checker.check(match.group(3), match.group(2).decode())
+    assert json.loads(line)["entry"]["signed_by"] == checker.key_id
 
 
 def test_edited_record_is_named(tmp_path, records) -> None:
@@ -81,10 +86,11 @@ def test_edited_and_rehashed_record_is_named_by_the_next_link(tmp_path, records)
     path = tmp_path / "log.jsonl"
     write_log(path, records)
     lines = lines_of(path)
-    match = re.match(rb'^\{"sha256":"([0-9a-f]{64})","entry":(.*)\}$', lines[2])
+    match = re.match(rb'^\{"sha256":"([0-9a-f]{64})",("signature":"[0-9a-f]{128}",)"entry":(.*)\}$', lines[2])
     assert match is not None
-    body = match.group(2).replace(b'"initials":"AB"', b'"initials":"ZZ"', 1)
-    lines[2] = b'{"sha256":"' + hashlib.sha256(body).hexdigest().encode() + b'","entry":' + body + b"}"
+    body = match.group(3).replace(b'"initials":"AB"', b'"initials":"ZZ"', 1)
+    rehashed = hashlib.sha256(body).hexdigest().encode()
+    lines[2] = b'{"sha256":"' + rehashed + b'",' + match.group(2) + b'"entry":' + body + b"}"
     put_lines(path, lines)
     report = verify_chain(read_log(path))
     assert report.first_problem is not None
@@ -180,8 +186,9 @@ def test_append_refuses_to_continue_an_altered_chain(tmp_path, records) -> None:
     with pytest.raises(LogError) as caught:
         append_record(path, records[2])
     assert str(caught.value) == (
-        f"log {path}: its last record is damaged or altered, so the chain cannot be continued "
-        "(run osmodose log verify; this verification was not saved)"
+        f"log {path}: its chain is broken: record 2 (line 2) was altered: it no longer matches its SHA-256 "
+        "(this verification was not saved; osmodose log verify lists every problem; "
+        "--append-to-broken-log appends anyway, and the record says so)"
     )
     assert path.read_bytes() == before
 
@@ -241,19 +248,16 @@ def test_a_file_whose_last_line_is_no_record_is_not_appended_to(tmp_path, record
     assert path.read_bytes() == b"line one\nline two\n"
 
 
-def test_tail_is_found_across_read_chunks(tmp_path, records, monkeypatch) -> None:
-    # With 64-byte chunks each record (several kB) spans many reads backwards.
-    import osmodose.verify.log as log_module
+def test_a_line_longer_than_any_record_is_damage_read_past_in_pieces(tmp_path, records, monkeypatch) -> None:
+    from osmodose.verify import log_read
 
-    monkeypatch.setattr(log_module, "_CHUNK", 64)
+    monkeypatch.setattr(log_read, "MAX_LINE_BYTES", 64)
+    monkeypatch.setattr(log_read, "_PIECE", 16)
     path = tmp_path / "log.jsonl"
-    write_log(path, records)
-    with path.open("ab") as handle:
-        handle.write(b'{"sha256":"9')
-    append_record(path, records[0])
+    path.write_bytes(b"x" * 1000 + b"\n" + b"y" * 10 + b"\n")
     readout = read_log(path)
-    assert [e.entry.sequence for e in readout.entries] == [1, 2, 3, 4, 5, 6]
-    assert verify_chain(readout).intact
+    assert [(p.line, p.kind) for p in readout.problems] == [(1, "damaged"), (2, "damaged")]
+    assert readout.problems[0].message == "line 1 is far longer than any record: damaged or not a log"
 
 
 def test_repeated_record_is_named(tmp_path, records) -> None:

@@ -35,8 +35,10 @@ from osmodose.course.report import (
 from osmodose.course.report_response import apparent_lines, icp_lines
 from osmodose.course.series import CourseSeries, course_series
 from osmodose.course.store import read_episode, save_episode
+from osmodose.course.times import check_entry_time
 from osmodose.errors import InputError, OsmodoseError
 from osmodose.formulary.model import Formulary
+from osmodose.safe_text import escape_controls
 
 EntryKind = Literal["lab", "dose", "reading", "output"]
 
@@ -89,8 +91,8 @@ class CourseState:
     sha256: str
     review: Review
     series: CourseSeries
-    rows: tuple[tuple[str, str, str], ...]
-    """(time, entry, details) rows of the timeline table; a value past a limit carries its word (324.0 TOO HIGH)."""
+    rows: tuple[tuple[str, str, str, str], ...]
+    """(time, entry, details, id) rows of the timeline table; a value past a limit carries its word (324.0 TOO HIGH)."""
     table: tuple[TimelineRow, ...] = ()
     """The same rows as cells, each with its mark and severity, for a screen that colours them too."""
 
@@ -107,7 +109,7 @@ def open_course(path: Path | str, formulary: Formulary) -> CourseState:
         sha256=digest,
         review=result,
         series=course_series(episode, formulary),
-        rows=tuple((row.time, row.kind, row.text) for row in table),
+        rows=tuple((row.time, row.kind, row.text, row.entry_id) for row in table),
         table=table,
     )
 
@@ -121,6 +123,8 @@ class FormOutcome:
     error: OsmodoseError | None = None
     field: str | None = None
     """The form field to mark, when the error names one of the form's fields."""
+    notes: tuple[str, ...] = ()
+    """Worth saying, not errors (a stale temporary file removed by the save)."""
 
 
 def _error(error: OsmodoseError, specs: tuple[FieldSpec, ...]) -> FormOutcome:
@@ -148,10 +152,12 @@ def parse_entry(
 def add_entry(state: CourseState, kind: EntryKind, formulary: Formulary, values: Mapping[str, str]) -> FormOutcome:
     """Parse, save (only if the file still holds what was read), re-read; nothing is written on any error."""
     specs = ENTRY_FIELDS[kind]
+    notes: list[str] = []
     try:
         entry = parse_entry(kind, state.episode, formulary, values)
-        save_episode(state.episode.with_entry(entry), state.path, expect_sha256=state.sha256)
-        return FormOutcome(state=open_course(state.path, formulary))
+        check_entry_time(state.episode, entry.time)
+        save_episode(state.episode.with_entry(entry), state.path, expect_sha256=state.sha256, note=notes.append)
+        return FormOutcome(state=open_course(state.path, formulary), notes=tuple(notes))
     except OsmodoseError as error:
         return _error(error, specs)
 
@@ -177,7 +183,9 @@ def head_text(state: CourseState) -> str:
     counts = f"{len(ep.labs)} labs, {len(ep.doses)} doses, {len(ep.readings)} readings"
     if ep.outputs:
         counts += f", {len(ep.outputs)} urine outputs"
-    return f"episode: {state.path}  ({counts})\n{patient_line(state.review)}"
+    if ep.removed:
+        counts += f", {len(ep.removed)} removed"
+    return escape_controls(f"episode: {state.path}  ({counts})\n{patient_line(state.review)}", keep_lines=True)
 
 
 def legend_text(state: CourseState) -> str:
@@ -207,7 +215,7 @@ def row_marks(state: CourseState) -> list[tuple[str, str]]:
             key = (when(finding.time), finding.unit == "mmHg")
             by_row.setdefault(key, []).append((finding.severity, finding.code))
     marks = []
-    for time, kind, _ in state.rows:
+    for time, kind, _, _ in state.rows:
         found = by_row.pop((time, kind == "reading"), [])  # the first row of that time and kind takes it
         worst = "refuse" if any(sev == "refuse" for sev, _ in found) else ("warn" if found else "")
         marks.append((worst, "  ".join(f"{SYMBOL[sev]} {sev.upper()} {code}" for sev, code in found)))

@@ -59,6 +59,12 @@ BACK: list[BindingType] = [Binding("escape", "app.pop_screen", "back")]
 FORM: list[BindingType] = [Binding("ctrl+s", "submit", "save"), Binding("escape", "cancel", "cancel")]
 #: The box asking where to save (enter saves).
 SAVE: list[BindingType] = [Binding("escape", "cancel", "cancel")]
+#: Asked before a file is replaced: only y replaces it.
+CONFIRM: list[BindingType] = [
+    Binding("y", "answer(True)", "replace"),
+    Binding("n", "answer(False)", "keep"),
+    Binding("escape", "answer(False)", "keep"),
+]
 
 #: (where, keys) in the order the help screen lists them.
 BY_SCREEN: tuple[tuple[str, list[BindingType]], ...] = (
@@ -69,6 +75,7 @@ BY_SCREEN: tuple[tuple[str, list[BindingType]], ...] = (
     ("help and formulary screens", BACK),
     ("a form over the course screen", FORM),
     ("the box asking where to save", SAVE),
+    ("asked before replacing a file", CONFIRM),
 )
 
 #: Keys a widget answers to, not bound by a screen: (where, key, what it does).

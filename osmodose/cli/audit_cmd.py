@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import os
-import secrets
 import sys
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -15,6 +14,7 @@ from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import AUDIT_EPILOG, INVALID, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.errors import InputError
+from osmodose.storage.atomic import DestinationIsALink, atomic_writer
 
 HELP = "audit a file of past orders against the formulary's limits, row by row, on whole columns"
 
@@ -58,7 +58,7 @@ def run(args: argparse.Namespace) -> int:
     sinks: list = [summary, bad]
     long_file = path.stat().st_size > 1_000_000
     progress = Progress(sys.stderr) if args.progress or (long_file and sys.stderr.isatty()) else None
-    with _results(out_path, args.out, to_stdout=not args.summary) as handle:
+    with _results(out_path, args.out, to_stdout=not args.summary, force=args.force) as handle:
         if handle is not None:
             as_json = out_path.suffix.lower() == ".json" if out_path is not None else args.json
             sinks.append(JsonResults(handle, formulary) if as_json else CsvResults(handle, with_order_id))
@@ -85,29 +85,27 @@ def _check_out(out_path: Path, orders: Path, written: str, force: bool) -> None:
 
 
 @contextmanager
-def _results(out_path: Path | None, written: str | None, to_stdout: bool) -> Iterator[TextIO | None]:
+def _results(
+    out_path: Path | None, written: str | None, to_stdout: bool, force: bool = False
+) -> Iterator[TextIO | None]:
     """Where the result rows go: --out, stdout, or nowhere (a summary alone).
 
-    --out is written to a new file beside it, renamed into place only when the
-    whole audit succeeds: an orders file that turns out unreadable partway
-    leaves no half-written results (and an older results file untouched).  The
-    new file is opened with mode "x", so it gets the usual permissions of a new
-    file and can never be another file already there.
+    --out is written through `storage.atomic_writer`: to a new file beside
+    it, renamed into place only when the whole audit succeeds, so an orders
+    file that turns out unreadable partway (or a full disk) leaves no
+    half-written results and an older results file untouched; without
+    --force it never replaces a file (not even one that appeared meanwhile),
+    and it never writes through a symbolic link.
     """
     if out_path is None:
         yield sys.stdout if to_stdout else None
         return
-    partial = out_path.with_name(f".{out_path.name}.{secrets.token_hex(4)}.partial")
     try:
-        handle = open(partial, "x", encoding="utf-8", newline="")  # noqa: SIM115
+        with atomic_writer(out_path, overwrite=force, text=True, newline="") as handle:
+            yield handle  # type: ignore[misc]  # a text handle (text=True)
+    except FileExistsError:
+        raise InputError("out", written, "already exists: choose another file or add --force to overwrite it") from None
+    except DestinationIsALink:
+        raise InputError("out", written, "is a symbolic link: osmodose never writes through or over one") from None
     except OSError as error:
         raise InputError("out", written, f"cannot be written ({error.strerror})") from None
-    try:
-        with handle:
-            yield handle
-        try:
-            os.replace(partial, out_path)
-        except OSError as error:
-            raise InputError("out", written, f"cannot be written ({error.strerror})") from None
-    finally:
-        partial.unlink(missing_ok=True)

@@ -23,6 +23,8 @@ from osmodose.formulary.schema import formulary_schema
 from osmodose.formulary.summary import render_show, show_json
 from osmodose.formulary.template import formulary_template
 from osmodose.formulary.validate import validate_formulary
+from osmodose.safe_text import escape_controls
+from osmodose.storage.atomic import DestinationIsALink, atomic_write
 
 HELP = "check, inspect, compare and start a unit's formulary file"
 
@@ -123,13 +125,15 @@ def run_new(args: argparse.Namespace) -> int:
         sys.stdout.write(text)
         return OK
     out = Path(args.out)
-    if out.exists() and not args.force:
-        raise FormularyError(out, "already exists: choose another file or add --force to overwrite it")
     try:
-        out.write_text(text, encoding="utf-8")
+        atomic_write(out, text, overwrite=args.force)
+    except FileExistsError:
+        raise FormularyError(out, "already exists: choose another file or add --force to overwrite it") from None
+    except DestinationIsALink:
+        raise FormularyError(out, "is a symbolic link: osmodose never writes through or over one") from None
     except OSError as error:
         raise FormularyError(out, f"cannot be written: {error.strerror or type(error).__name__}") from None
-    print(f"wrote {out}: fill it in, then run osmodose formulary validate {out}")
+    print(escape_controls(f"wrote {out}: fill it in, then run osmodose formulary validate {out}"))
     return OK
 
 

@@ -4,7 +4,13 @@ Subcommand modules are listed in `SUBCOMMANDS`; each has `register(subparsers)`
 and sets a `handler`.  Registration must stay cheap (no textual, no plotting
 import): `osmodose check` is timed against bare pint start-up, so heavy
 imports belong inside handlers.  Every OsmodoseError becomes one line on
-stderr and exit status 2; no traceback reaches a user.
+stderr and exit status 2; no traceback reaches a user.  So does output that
+cannot be written (a full disk, a closed standard output): the output is
+flushed before the command counts as done.
+
+Options are never abbreviated (`--target` is not `--target-rise`), and an
+option given twice with different values is an input error: the last one
+silently winning once meant a weight of 7 kg instead of 70.
 """
 
 from __future__ import annotations
@@ -14,11 +20,12 @@ import importlib
 import os
 import sys
 from collections.abc import Sequence
-from typing import NoReturn
+from typing import Any, NoReturn
 
 from osmodose import __version__
 from osmodose.cli.exit_codes import APP_EPILOG, BAD_INPUT, BROKEN_PIPE
 from osmodose.errors import OsmodoseError
+from osmodose.safe_text import escape_controls
 
 SUBCOMMANDS: tuple[str, ...] = (
     "osmodose.cli.check_cmd",
@@ -30,11 +37,68 @@ SUBCOMMANDS: tuple[str, ...] = (
 )
 
 
+#: Where the options given on the command line are remembered (dest -> (option, value)).
+_GIVEN = "_options_given"
+
+
+def _given(namespace: argparse.Namespace) -> dict[str, tuple[str, object]]:
+    return namespace.__dict__.setdefault(_GIVEN, {})
+
+
+class _StoreOnce(argparse._StoreAction):
+    """`store`, except that a second, different value for the same option is an input error."""
+
+    def __call__(
+        self,
+        parser: argparse.ArgumentParser,
+        namespace: argparse.Namespace,
+        values: object,
+        option_string: str | None = None,
+    ) -> None:
+        given = _given(namespace)
+        if option_string is not None:
+            _refuse_conflict(parser, given.get(self.dest), (option_string, values))
+            given[self.dest] = (option_string, values)
+        setattr(namespace, self.dest, values)
+
+
+def _refuse_conflict(
+    parser: argparse.ArgumentParser, before: tuple[str, object] | None, now: tuple[str, object]
+) -> None:
+    if before is not None and before[1] != now[1]:
+        parser.error(f"{now[0]}: given twice with different values ({before[1]} and {now[1]}): give it once")
+
+
+class _SubParsers(argparse._SubParsersAction):
+    """Subcommands; an option given before the subcommand and again after it must agree too."""
+
+    def __call__(
+        self,
+        parser: argparse.ArgumentParser,
+        namespace: argparse.Namespace,
+        values: str | Sequence[Any] | None,
+        option_string: str | None = None,
+    ) -> None:
+        before = dict(_given(namespace))
+        super().__call__(parser, namespace, values, option_string)
+        after = _given(namespace)
+        for dest, now in after.items():
+            _refuse_conflict(parser, before.get(dest), now)
+        setattr(namespace, _GIVEN, {**before, **after})
+
+
 class _Parser(argparse.ArgumentParser):
-    """argparse with a one-line error and exit status 2."""
+    """argparse with a one-line error, exit status 2, no abbreviations and no silently repeated options."""
+
+    def __init__(self, *args: object, **kwargs: object) -> None:
+        kwargs["allow_abbrev"] = False
+        super().__init__(*args, **kwargs)  # type: ignore[arg-type]
+        self.register("action", None, _StoreOnce)
+        self.register("action", "store", _StoreOnce)
+        self.register("action", "parsers", _SubParsers)
 
     def error(self, message: str) -> NoReturn:
-        sys.stderr.write(f"{self.prog}: {message} (see {self.prog} --help)\n")
+        sys.stderr.write(escape_controls(f"{self.prog}: {message} (see {self.prog} --help)") + "\n")
         raise SystemExit(BAD_INPUT)
 
 
@@ -63,15 +127,21 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: Sequence[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
+    if sys.stdout is None:  # started with standard output closed (`>&-`): nothing could be reported
+        sys.stderr.write("osmodose: standard output is closed: nothing was done\n")
+        return BAD_INPUT
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
         handler = getattr(args, "handler", None)
         if handler is None:
             return _run_app(args)
-        return int(handler(args))
+        status = int(handler(args))
+        sys.stdout.flush()  # a full disk is reported now, not by the interpreter at exit
+        return status
     except OsmodoseError as error:
-        sys.stderr.write(f"osmodose: {error}\n")
+        sys.stderr.write(f"osmodose: {escape_controls(error)}\n")
+        _drop_stdout()
         return BAD_INPUT
     except KeyboardInterrupt:
         sys.stderr.write("osmodose: interrupted\n")
@@ -79,9 +149,25 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:
         # The reader stopped early (`osmodose formulary show | head`): not an error to
         # report, and Python must not complain again when it flushes stdout at exit.
+        _drop_stdout()
+        return BROKEN_PIPE
+    except OSError as error:
+        # Output that cannot be written (`> /dev/full`, a closed descriptor): one line, exit 2.
+        reason = error.strerror or type(error).__name__
+        text = f"{error.filename}: {reason}" if error.filename else f"the output cannot be written: {reason}"
+        sys.stderr.write(f"osmodose: {escape_controls(text)}\n")
+        _drop_stdout()
+        return BAD_INPUT
+
+
+def _drop_stdout() -> None:
+    """Send whatever is still buffered for stdout to nowhere, so the exit-time flush cannot fail again."""
+    try:
         devnull = os.open(os.devnull, os.O_WRONLY)
         os.dup2(devnull, sys.stdout.fileno())
-        return BROKEN_PIPE
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError):
+        pass
 
 
 def _run_app(args: argparse.Namespace) -> int:

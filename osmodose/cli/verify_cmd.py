@@ -4,17 +4,25 @@ Exit status answers "may this be given as written?": 0 released (with or
 without accepted warnings), 3 held (a warning not accepted yet), 4 refused,
 2 bad input or a log that cannot be appended to (then nothing is shown as
 verified: a verification is only reported once its record is on disk).
+
+A log whose chain is broken is not appended to (exit 2, naming the first
+problem) unless --append-to-broken-log is given, and then the new record
+says so.  Output that cannot be written after the record was saved (a full
+disk, a closed pipe) is reported with the record's number, so a retry does
+not verify the same order twice.
 """
 
 from __future__ import annotations
 
 import argparse
+import sys
 
 from osmodose.case.fields import WRITTEN_ORDER_KEYS, keys
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, VERIFY_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, add_field_options, case_fields
+from osmodose.errors import OutputError
 
 HELP = "re-check an order as written, decide on it, and append an initialled record to the verification log"
 
@@ -53,6 +61,18 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         default=None,
         help="the log to append to (default: $OSMODOSE_LOG, else ~/.local/state/osmodose/verifications.jsonl)",
     )
+    verifier.add_argument(
+        "--key",
+        metavar="PATH",
+        default=None,
+        help="the unit's signing key (default: $OSMODOSE_LOG_KEY, else ~/.config/osmodose/log-signing.key; "
+        "made on first use)",
+    )
+    verifier.add_argument(
+        "--append-to-broken-log",
+        action="store_true",
+        help="append even though the log's chain is broken (the record notes the first problem)",
+    )
     parser.add_argument(
         "--json",
         action="store_true",
@@ -65,6 +85,7 @@ def run(args: argparse.Namespace) -> int:
     from osmodose.case.inputs import parse_check_request  # noqa: PLC0415 (kept out of start-up)
     from osmodose.cli.labs_args import with_labs  # noqa: PLC0415 (kept out of start-up)
     from osmodose.verify import append_record, log_path, parse_acceptance, parse_order, verify_order  # noqa: PLC0415 (kept out of start-up)
+    from osmodose.verify.signing import key_path, signer_for_log  # noqa: PLC0415 (kept out of start-up)
 
     formulary = formulary_from_args(args)
     typed = case_fields(args, keys("patient", "condition", "labs", "urine"))
@@ -74,6 +95,17 @@ def run(args: argparse.Namespace) -> int:
     acceptances = [parse_acceptance(text) for text in args.accept]
     record = verify_order(request, order, formulary, acceptances, args.initials)
     path = log_path(args.log)
-    entry, digest = append_record(path, record)
-    emit(lambda: entry.to_json(digest, log=str(path)), lambda: entry.render_saved(digest, path), args.json)
+    signer, made = signer_for_log(key_path(args.key), path)
+    entry, digest = append_record(path, record, signer, append_to_broken_log=args.append_to_broken_log)
+    try:
+        emit(lambda: entry.to_json(digest, log=str(path)), lambda: entry.render_saved(digest, path), args.json)
+        if made:
+            sys.stderr.write(f"osmodose: made the unit's signing key {signer.path} (key id {signer.key_id})\n")
+        sys.stdout.flush()
+    except OSError as error:
+        raise OutputError(
+            f"the verification was saved as record {entry.sequence} in {path} (sha256 {digest}), but it could not "
+            f"be printed ({error.strerror or type(error).__name__}): do not verify it again; "
+            f"osmodose log show {entry.sequence} prints it"
+        ) from None
     return BY_STATUS[record.status]

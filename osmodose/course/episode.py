@@ -10,6 +10,12 @@ offset, never without one, so a file means the same in any time zone.
 Unknown keys are rejected (a misspelt key must not silently drop a value) and
 every value is checked against the same plausibility ranges as typed input, so
 a hand-edited file cannot slip a slipped decimal point past the findings.
+
+Every entry has a stable id (`L1`, `D1`, `R1`, `U1`: kind and number, never
+reused) and its trail of corrections (`EntryBase`): an amended entry keeps
+each value it replaced, with who, when and why; a removed entry moves to
+`removed`, where nothing is computed from it, with the same trail.  The
+corrections themselves are made by `course.corrections`.
 """
 
 from __future__ import annotations
@@ -18,7 +24,16 @@ from collections.abc import Callable
 from datetime import datetime
 from typing import TYPE_CHECKING, Annotated, Any, Literal, Protocol, TypeVar
 
-from pydantic import AfterValidator, AwareDatetime, BaseModel, ConfigDict, Field, create_model
+from pydantic import (
+    AfterValidator,
+    AwareDatetime,
+    BaseModel,
+    ConfigDict,
+    Field,
+    ValidationInfo,
+    create_model,
+    model_validator,
+)
 
 from osmodose.case.fields import FIELDS, LAB_FIELDS
 from osmodose.case.inputs import Labs, LabValues
@@ -26,7 +41,7 @@ from osmodose.science.choices import Sex, TbwMethod
 from osmodose.science.formulas import cerebral_perfusion_pressure
 
 #: The format this osmodose writes.  Bump it with a migration in `migrations`.
-FORMAT_VERSION: Literal[4] = 4
+FORMAT_VERSION: Literal[5] = 5
 
 _FILE = ConfigDict(extra="forbid", frozen=True, use_attribute_docstrings=True)
 
@@ -79,13 +94,44 @@ class EpisodePatient(BaseModel):
     """Total-body-water method; null takes the formulary's default."""
 
 
-class _LabEntryBase(LabValues):
-    """One set of serum labs drawn at one time; the lab keys are made from the field table."""
+class Correction(BaseModel):
+    """One change to an entry after it was saved: what, who, when, why, and the values it replaced."""
 
     model_config = _FILE
 
+    action: Literal["amended", "removed"]
+    """What was done to the entry."""
+    at: AwareDatetime
+    """When the correction was made, with its UTC offset."""
+    initials: str = Field(min_length=1)
+    """Initials of who made it."""
+    reason: str = Field(min_length=1)
+    """Why, in their words."""
+    previous: dict[str, Any] = Field(default_factory=dict)
+    """Each field the amendment changed, with the value it had before (as stored)."""
+
+
+class EntryBase(BaseModel):
+    """What every entry has: its id, its time, and its corrections."""
+
+    model_config = _FILE
+
+    id: str | None = Field(default=None, pattern=r"^[LDRU][1-9][0-9]{0,8}$")
+    """Stable id within the episode: L, D, R or U (lab, dose, reading, urine output) and a number never reused."""
     time: AwareDatetime
-    """When the sample was drawn, with its UTC offset."""
+    """When the sample was drawn, the infusion started, the pressures were read or the urine collection ended."""
+    corrections: tuple[Correction, ...] = ()
+    """Every amendment (and the removal) of this entry, oldest first."""
+
+    @property
+    def removed(self) -> bool:
+        return any(c.action == "removed" for c in self.corrections)
+
+
+class _LabEntryBase(EntryBase, LabValues):
+    """One set of serum labs drawn at one time; the lab keys are made from the field table."""
+
+    model_config = _FILE
 
     def labs(self) -> Labs:
         """These labs as a check's request takes them."""
@@ -129,13 +175,11 @@ else:
     LabEntry = create_model("LabEntry", __base__=_LabEntryBase, __doc__=_LabEntryBase.__doc__, **_lab_entry_fields())
 
 
-class DoseEntry(BaseModel):
+class DoseEntry(EntryBase):
     """One dose given: which stock solution, how much, when and over how long."""
 
     model_config = _FILE
 
-    time: AwareDatetime
-    """When the infusion started, with its UTC offset."""
     agent_id: str = Field(min_length=1)
     """Id of the agent in the unit's formulary."""
     volume_ml: Volume
@@ -146,13 +190,11 @@ class DoseEntry(BaseModel):
     """The FHIR MedicationAdministration it was imported from (MedicationAdministration/id); none if typed."""
 
 
-class ReadingEntry(BaseModel):
+class ReadingEntry(EntryBase):
     """One bedside pressure reading; CPP is computed, never stored."""
 
     model_config = _FILE
 
-    time: AwareDatetime
-    """When the pressures were read, with its UTC offset."""
     map_mmhg: Map
     """Mean arterial pressure, mmHg."""
     icp_mmhg: Icp
@@ -166,13 +208,11 @@ class ReadingEntry(BaseModel):
         return float(cerebral_perfusion_pressure(self.map_mmhg, self.icp_mmhg))
 
 
-class OutputEntry(BaseModel):
+class OutputEntry(EntryBase):
     """Urine passed: its volume and, when measured, its sodium and potassium, over a period ending at `time`."""
 
     model_config = _FILE
 
-    time: AwareDatetime
-    """When the collection ended (the output was measured), with its UTC offset."""
     volume_ml: UrineVolume
     """Urine volume over the period, mL."""
     sodium_mmol_l: UrineSodium | None = None
@@ -196,6 +236,66 @@ def _by_time(entries: tuple[E, ...]) -> tuple[E, ...]:
 
 
 Entry = LabEntry | DoseEntry | ReadingEntry | OutputEntry
+#: Each kind of entry: its list in the episode, its class, and the letter of its ids.
+KINDS: dict[str, tuple[str, type[EntryBase], str]] = {
+    "lab": ("labs", LabEntry, "L"),
+    "dose": ("doses", DoseEntry, "D"),
+    "reading": ("readings", ReadingEntry, "R"),
+    "output": ("outputs", OutputEntry, "U"),
+}
+
+
+class RemovedEntry(BaseModel):
+    """An entry taken out of the course: kept whole, with the correction that removed it last in its trail."""
+
+    model_config = _FILE
+
+    kind: Literal["lab", "dose", "reading", "output"]
+    """Which list it was removed from."""
+    entry: Entry
+    """The entry as it was, with its corrections."""
+
+    @model_validator(mode="after")
+    def _kind_matches(self) -> RemovedEntry:
+        if not isinstance(self.entry, KINDS[self.kind][1]):
+            raise ValueError(f"entry is not a {self.kind}")
+        return self
+
+
+def _entry_id(entry: object) -> object:
+    if isinstance(entry, EntryBase):
+        return entry.id
+    return entry.get("id") if isinstance(entry, dict) else None
+
+
+def _with_ids(data: Any, info: ValidationInfo) -> Any:
+    """Give each entry built in memory without an id the next free one of its kind; in a file, a missing id is
+    an error (the store validates files with `context={"from_file": True}`)."""
+    if not isinstance(data, dict):
+        return data
+    from_file = bool(info.context and info.context.get("from_file"))
+    data = dict(data)
+    removed = [r.entry if isinstance(r, RemovedEntry) else r.get("entry") for r in data.get("removed") or ()
+               if isinstance(r, (RemovedEntry, dict))]  # fmt: skip
+    for field, _cls, letter in KINDS.values():
+        if not isinstance(data.get(field), (list, tuple)):
+            continue
+        entries = list(data[field])
+        taken = [str(i) for i in map(_entry_id, [*entries, *removed]) if isinstance(i, str) and i[:1] == letter]
+        following = max((int(i[1:]) for i in taken if i[1:].isdigit()), default=0) + 1
+        for index, entry in enumerate(entries):
+            if _entry_id(entry) is not None or not isinstance(entry, (EntryBase, dict)):
+                continue
+            if from_file:
+                raise ValueError(f"{field}[{index + 1}].id is missing")
+            new_id = f"{letter}{following}"
+            following += 1
+            if isinstance(entry, EntryBase):
+                entries[index] = entry.model_copy(update={"id": new_id})
+            else:
+                entries[index] = {**entry, "id": new_id}
+        data[field] = entries
+    return data
 
 
 class Episode(BaseModel):
@@ -203,10 +303,12 @@ class Episode(BaseModel):
 
     model_config = _FILE
 
-    format_version: Literal[4] = FORMAT_VERSION
+    format_version: Literal[5] = FORMAT_VERSION
     """Format of this file; older versions are migrated when read."""
     patient: EpisodePatient
     """The patient."""
+    started: AwareDatetime | None = None
+    """When the episode began, if known: no entry may be timed before it."""
     labs: Annotated[tuple[LabEntry, ...], AfterValidator(_by_time)] = ()
     """Serum labs, oldest first."""
     doses: Annotated[tuple[DoseEntry, ...], AfterValidator(_by_time)] = ()
@@ -215,11 +317,25 @@ class Episode(BaseModel):
     """Bedside pressure readings, oldest first."""
     outputs: Annotated[tuple[OutputEntry, ...], AfterValidator(_by_time)] = ()
     """Urine outputs, oldest first (by the end of their collection)."""
+    removed: tuple[RemovedEntry, ...] = ()
+    """Entries taken out of the course, with who removed them, when and why; never computed with."""
+
+    _ids = model_validator(mode="before")(_with_ids)
+
+    @model_validator(mode="after")
+    def _ids_unique(self) -> Episode:
+        seen: set[str] = set()
+        for entry in (*self.entries(), *(r.entry for r in self.removed)):
+            if entry.id in seen:
+                raise ValueError(f"entry id {entry.id} is used twice")
+            seen.add(entry.id or "")
+        return self
 
     def with_entry(self, entry: Entry) -> Episode:
-        """A copy with one more entry, in time order (the file is never edited in place)."""
+        """A copy with one more entry, in time order, given the next id of its kind (the file is never edited
+        in place)."""
         field = {LabEntry: "labs", DoseEntry: "doses", ReadingEntry: "readings", OutputEntry: "outputs"}[type(entry)]
-        entries = (*getattr(self, field), entry)
+        entries = (*getattr(self, field), entry.model_copy(update={"id": None}))
         return Episode.model_validate({**self.model_dump(), field: [e.model_dump() for e in entries]})
 
     def entries(self) -> list[Entry]:

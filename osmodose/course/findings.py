@@ -28,9 +28,9 @@ from osmodose.course.timeline import (
     SECONDS_PER_HOUR,
     LabColumns,
     Timeline,
+    gap_rise_across_mannitol,
     latest_measured_osmolality,
     latest_time,
-    mannitol_between,
 )
 from osmodose.formulary.model import Limits
 
@@ -166,10 +166,7 @@ def _osmolar_gap(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     t, gap = labs.t[has_gap], labs.gap[has_gap]
     rise_limit = limits.osmolar_gap_rise_warn
     if rise_limit is not None and len(has_gap) > 1:
-        across = mannitol_between(doses, t[None, :], t[:, None])  # row j later, column i earlier
-        rise = np.where(across, gap[:, None] - gap[None, :], -np.inf)
-        j, i = np.unravel_index(int(np.argmax(rise)), rise.shape)
-        value = float(rise[j, i])
+        value, j, i = gap_rise_across_mannitol(t, gap, doses)  # sliding: no labs x labs matrix
         if severity_of(value, rise_limit, None) is not None:
             message = (
                 f"osmolar gap rose {value:.1f} mOsm/kg across mannitol (from {gap[i]:.1f} at "

@@ -54,11 +54,16 @@ class TimelineRow:
     time: str
     kind: str
     cells: tuple[Cell, ...]
+    entry_id: str = ""
+    """The entry's stable id (`L1`, `D2`): what `course amend` and `course remove` name it by."""
+    corrections: str = ""
+    """How the entry was amended, with the values it replaced ("" when never corrected)."""
 
     @property
     def text(self) -> str:
-        """The details as the table prints them: cells two spaces apart, marks in words."""
-        return "  ".join(cell.text for cell in self.cells)
+        """The details as the table prints them: cells two spaces apart, marks in words, then any amendment."""
+        details = "  ".join(cell.text for cell in self.cells)
+        return f"{details}  AMENDED {self.corrections}" if self.corrections else details
 
     @property
     def severity(self) -> str | None:

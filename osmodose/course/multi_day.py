@@ -36,13 +36,6 @@ from osmodose.formulary.model import Limits
 LATER_DAY_H = 24.0
 
 
-def _nadir_times(t: np.ndarray, sodium: np.ndarray, t_to: np.ndarray) -> np.ndarray:
-    """Per end time: when the lowest sodium of the 48 h up to it was drawn (the correction's start)."""
-    inside = (t[None, :] >= (t_to - LOOKBACK_H * SECONDS_PER_HOUR)[:, None]) & (t[None, :] <= t_to[:, None])
-    lowest = np.argmin(np.where(inside, sodium[None, :], np.inf), axis=1)
-    return t[lowest] if len(t) else np.zeros(0)
-
-
 def multi_day_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     """The worst measured rise over 48 h, and in a later 24 h, past its limit (where the rise limits apply)."""
     labs = timeline.labs
@@ -52,7 +45,9 @@ def multi_day_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding
     applies, _, _ = rise_limits_in_force(limits, back.lowest_sodium, back.high_risk)
     window = labs.sodium_window
     two_days = window_change(labs.t, labs.sodium, LOOKBACK_H)
-    later = labs.t[window.low_index] >= _nadir_times(labs.t, labs.sodium, labs.t) + LATER_DAY_H * SECONDS_PER_HOUR
+    # the correction's start: when the lowest sodium of the 48 h up to each lab was drawn (sliding: linear memory)
+    nadir_t = labs.t[two_days.low_index]
+    later = labs.t[window.low_index] >= nadir_t + LATER_DAY_H * SECONDS_PER_HOUR
     out = []
     for code, change, start, judged, limit, within in (
         ("sodium-rise-48h", two_days.rise, two_days.low_index, applies, limits.sodium_rise_48h_refuse, "48 h"),

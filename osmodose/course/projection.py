@@ -223,9 +223,12 @@ def projected_path(timeline: Timeline, tbw_l: float) -> ProjectedPath:
     na_points: list[float] = []
     dose_sodium = np.full(len(doses.t), np.nan)
     last = max([float(np.max(x)) for x in (doses.t_end, timeline.outputs.t) if len(x)], default=-np.inf)
+    # doses are in time order: the ones from each lab up to the next are a slice (no scan of every dose per lab)
+    starts = np.searchsorted(doses.t, labs.t, side="left")
+    ends = np.append(starts[1:], len(doses.t))
     for i in range(len(labs.t)):
         t_next = labs.t[i + 1] if i + 1 < len(labs.t) else np.inf
-        rows = np.flatnonzero((doses.t >= labs.t[i]) & (doses.t < t_next))
+        rows = np.arange(starts[i], max(starts[i], ends[i]))
         losses = losses_between(timeline.outputs, float(labs.t[i]), float(min(t_next, max(last, labs.t[i]))))
         after, _, points = project_steps(float(labs.sodium[i]), doses, rows, tbw_l, losses)
         dose_sodium[rows] = after

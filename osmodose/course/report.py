@@ -13,10 +13,11 @@ from typing import Any
 
 import numpy as np
 
+from osmodose.case.fields import LAB_FIELDS
 from osmodose.check.report import STATUS_WORDS, finding_line, formulary_lines, plain, render_text
 from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.course.apparent_tbw import ApparentTbw, apparent_tbw, apparent_tbw_findings
-from osmodose.course.episode import Episode
+from osmodose.course.episode import DoseEntry, EntryBase, Episode, LabEntry, OutputEntry, ReadingEntry
 from osmodose.course.findings import CourseFinding, course_findings, when
 from osmodose.course.icp_response import IcpResponse, icp_responses
 from osmodose.course.marks import LEGEND, Cell, TimelineRow, mark, timeline_marks
@@ -35,6 +36,7 @@ from osmodose.course.report_response import (
     rescue_lines,
 )
 from osmodose.course.timeline import Timeline, build_timeline
+from osmodose.course.times import in_display_offset
 from osmodose.formulary.model import Formulary
 from osmodose.science import precision as p
 from osmodose.science.precision import round_document
@@ -72,7 +74,8 @@ class Review:
 
 
 def review(episode: Episode, formulary: Formulary) -> Review:
-    """Timeline, projection to the last entry, and findings of an episode."""
+    """Timeline, projection to the last entry, and findings of an episode, every time in the episode's offset."""
+    episode = in_display_offset(episode)
     timeline = build_timeline(episode, formulary)
     tbw_l = episode_tbw_l(episode, formulary)
     last = episode.last()
@@ -132,7 +135,7 @@ def timeline_table(result: Review) -> list[TimelineRow]:
             if marks.fall[j]:
                 fall = labs.sodium_window.fall[j]
                 cells.append(Cell("24 h fall", _f("sodium_fall_24h_mmol_l", fall), *mark(marks.fall[j])))
-        rows.append((float(labs.t[j]), 0, TimelineRow(when(lab.time), "lab", tuple(cells))))
+        rows.append((float(labs.t[j]), 0, _row(lab, "lab", cells)))
     doses = tl.doses
     icp = {response.dose_row: response for response in result.icp}
     for j, dose in enumerate(ep.doses):
@@ -153,7 +156,7 @@ def timeline_table(result: Review) -> list[TimelineRow]:
         details = dose_details(j, result.apparent, icp).strip()
         if details:
             cells.append(Cell("", details))
-        rows.append((float(doses.t[j]), 1, TimelineRow(when(dose.time), "dose", tuple(cells))))
+        rows.append((float(doses.t[j]), 1, _row(dose, "dose", cells)))
     r = tl.readings
     for j, reading in enumerate(ep.readings):
         cells = [
@@ -161,15 +164,58 @@ def timeline_table(result: Review) -> list[TimelineRow]:
             Cell("ICP", _f("icp_mmhg", r.icp[j]), *mark(marks.icp[j])),
             Cell("CPP", _f("cpp_mmhg", r.cpp[j]), *mark(marks.cpp[j], "below")),
         ]
-        rows.append((float(r.t[j]), 2, TimelineRow(when(reading.time), "reading", tuple(cells))))
-    rows += [(t, 3, TimelineRow(time, "urine", (Cell("", text),))) for t, time, text in output_rows(ep, tl)]
+        rows.append((float(r.t[j]), 2, _row(reading, "reading", cells)))
+    for (t, _time, text), output in zip(output_rows(ep, tl), ep.outputs, strict=True):
+        rows.append((t, 3, _row(output, "urine", [Cell("", text)])))
+    for gone in ep.removed:
+        entry = gone.entry
+        cells = [Cell("REMOVED", f"{corrections_text(entry)} was: {_entry_text(entry)}")]
+        rows.append((entry.time.timestamp(), 4, TimelineRow(when(entry.time), gone.kind, tuple(cells), entry.id or "")))
     rows.sort(key=lambda row: (row[0], row[1]))
     return [row for _, _, row in rows]
 
 
-def timeline_rows(result: Review) -> list[tuple[str, str, str]]:
-    """(time, entry, details) rows in time order, as the table and an app list show them (marks in words)."""
-    return [(row.time, row.kind, row.text) for row in timeline_table(result)]
+def _row(entry: EntryBase, kind: str, cells: list[Cell]) -> TimelineRow:
+    """A timeline row of a live entry: its id, and its amendments when it has any."""
+    return TimelineRow(when(entry.time), kind, tuple(cells), entry.id or "", corrections_text(entry))
+
+
+def corrections_text(entry: EntryBase) -> str:
+    """How an entry was corrected, for the timeline: each amendment with the values it replaced, and a removal."""
+    parts = []
+    for c in entry.corrections:
+        what = ", ".join(f"{key} was {_shown_value(value)}" for key, value in c.previous.items())
+        parts.append(f"{c.action} by {c.initials} at {when(c.at)}" + (f" ({what})" if what else "") + f": {c.reason}")
+    return "[" + "; ".join(parts) + "]" if parts else ""
+
+
+def _shown_value(value: object) -> str:
+    return "none" if value is None else (f"{value:g}" if isinstance(value, float) else str(value))
+
+
+def _entry_text(entry: EntryBase) -> str:
+    """A removed entry's values as stored (nothing is computed from it any more)."""
+    if isinstance(entry, LabEntry):
+        names = [(f.key, entry.value(f.key)) for f in LAB_FIELDS]
+        return "  ".join(f"{name} {value:g}" for name, value in names if value is not None)
+    if isinstance(entry, DoseEntry):
+        return f"{entry.agent_id} {entry.volume_ml:g} mL" + (
+            f" over {entry.duration_min:g} min" if entry.duration_min else ""
+        )
+    if isinstance(entry, ReadingEntry):
+        return f"MAP {entry.map_mmhg:g}  ICP {entry.icp_mmhg:g}"
+    if isinstance(entry, OutputEntry):
+        return f"urine {entry.volume_ml:g} mL"
+    return ""
+
+
+def timeline_rows(result: Review) -> list[tuple[str, str, str, str]]:
+    """(time, entry, details, id) rows in time order, as the table and an app list show them (marks in words).
+
+    An amended entry's details end with its corrections; a removed entry is
+    listed as removed, with its old values, and takes no part in any figure.
+    """
+    return [(row.time, row.kind, row.text, row.entry_id) for row in timeline_table(result)]
 
 
 def patient_line(result: Review) -> str:
@@ -211,16 +257,17 @@ def _findings_lines(findings: list[CourseFinding], title: str = "course checks")
 def render_review_text(result: Review, path: Path | str) -> str:
     """What `course show` prints: status, files, patient, the marked timeline, projection, findings, caution."""
     table = timeline_table(result)
-    rows = [(row.time, row.kind, row.text) for row in table]
+    rows = [(row.time, row.kind, row.text, row.entry_id) for row in table]
     width = max([len(r[0]) for r in rows] + [4])
+    id_width = max([len(r[3]) for r in rows] + [2])
     lines = [
         f"osmodose course  {COURSE_STATUS_WORDS[result.status]}",
         f"episode: {path}",
         *_formulary_lines(result.formulary),
         patient_line(result),
         "",
-        f"{'time':<{width}}  {'entry':<7}  details",
-        *[f"{time:<{width}}  {kind:<7}  {text}" for time, kind, text in rows],
+        f"{'time':<{width}}  {'id':<{id_width}}  {'entry':<7}  details",
+        *[f"{time:<{width}}  {entry_id:<{id_width}}  {kind:<7}  {text}" for time, kind, text, entry_id in rows],
     ]
     if not rows:
         lines.append("(no entries yet)")
@@ -282,6 +329,7 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
     ]
     outputs = [output.model_dump(mode="json") for output in ep.outputs]
     readings = [{**r.model_dump(mode="json"), "cpp_mmhg": r.cpp_mmhg} for r in ep.readings]
+    removed = [r.model_dump(mode="json") for r in ep.removed]
     document: dict[str, Any] = {
         "status": result.status,
         "episode": str(path),
@@ -293,6 +341,7 @@ def review_json(result: Review, path: Path | str) -> dict[str, Any]:
         "doses": doses,
         "readings": readings,
         "outputs": outputs,
+        "removed": removed,
         "projection": _projection_json(result.projection, tl),
         "apparent_tbw_l": result.apparent.combined_l if result.apparent is not None else None,
         "apparent_tbw": apparent_json(result.apparent, tl),
@@ -309,7 +358,7 @@ def render_plan_text(plan: Plan, path: Path | str) -> str:
     lines = [
         f"osmodose course plan  {STATUS_WORDS[plan.status]}",
         f"episode: {path}",
-        f"planned at: {when(plan.at)}",
+        f"planned at: {when(plan.at.astimezone(lab.time.tzinfo))}",
         f"latest lab: sodium {lab.sodium_mmol_l:.1f} mmol/L at {when(lab.time)}",
     ]
     n = len(plan.projection.dose_rows)
@@ -333,7 +382,7 @@ def plan_json(plan: Plan, path: Path | str) -> dict[str, Any]:
     document: dict[str, Any] = {
         "status": plan.status,
         "episode": str(path),
-        "planned_at": when(plan.at),
+        "planned_at": when(plan.at.astimezone(plan.lab.time.tzinfo)),
         "latest_lab": plan.lab.model_dump(mode="json"),
         "doses_since_latest_lab": len(plan.projection.dose_rows),
         "projected_sodium_before_mmol_l": plan.projection.sodium_now,

@@ -19,6 +19,7 @@ from osmodose.course.episode import Episode
 from osmodose.course.icp_response import icp_responses
 from osmodose.course.projection import episode_tbw_l, projected_path
 from osmodose.course.timeline import SECONDS_PER_HOUR, build_timeline
+from osmodose.course.times import in_display_offset
 from osmodose.formulary.model import Formulary
 from osmodose.science.precision import figure_text
 
@@ -74,7 +75,8 @@ class CourseSeries:
 
 
 def course_series(episode: Episode, formulary: Formulary) -> CourseSeries:
-    """The plot series of an episode under a formulary's limits."""
+    """The plot series of an episode under a formulary's limits, its times in the episode's offset."""
+    episode = in_display_offset(episode)
     timeline = build_timeline(episode, formulary)
     origin = episode.start()
     t0 = origin.timestamp() if origin is not None else 0.0

@@ -5,7 +5,8 @@ the figure shown beside a lab is the one the findings judged.  Times are POSIX
 seconds (UTC), so entries written with different offsets compare correctly.
 
 "Within 24 h" is inclusive: two labs exactly 24 h apart are in one window
-(the safer reading for an overcorrection limit).  A dose that starts at the
+(the safer reading for an overcorrection limit).  Windows slide over the
+sorted times (`windows`): memory stays linear in the number of entries.  A dose that starts at the
 same minute as a lab is taken as given after the sample was drawn.
 """
 
@@ -20,6 +21,7 @@ from osmodose.case.fields import LAB_FIELDS
 from osmodose.check.engine import AgentColumns, Cases, compute
 from osmodose.check.judging import high_risk, judged_osmolality
 from osmodose.course.episode import Episode
+from osmodose.course.windows import largest_rise_across, sliding_extreme, window_any, window_bounds, window_sums
 from osmodose.formulary.model import Formulary
 from osmodose.science import formulas as f
 
@@ -55,17 +57,14 @@ class WindowChange:
 
 
 def window_change(t: np.ndarray, x: np.ndarray, hours: float = WINDOW_H) -> WindowChange:
-    """Rise and fall into each sample over any window of `hours` ending at it (pairwise, vectorised)."""
-    dt = t[:, None] - t[None, :]  # row j (later), column i (earlier)
-    inside = (dt >= 0) & (dt <= hours * SECONDS_PER_HOUR)
-    low = np.where(inside, x[None, :], np.inf)
-    high = np.where(inside, x[None, :], -np.inf)
+    """Rise and fall into each sample over any window of `hours` ending at it (sliding windows: linear memory)."""
     if not len(x):
         empty = np.zeros(0, dtype=int)
         return WindowChange(rise=x, low_index=empty, fall=x, high_index=empty)
-    earlier = np.any(inside & ~np.eye(len(x), dtype=bool), axis=1)
-    low_index = np.argmin(low, axis=1)
-    high_index = np.argmax(high, axis=1)
+    lo, hi = window_bounds(t, t - hours * SECONDS_PER_HOUR, t)
+    earlier = (hi - lo) > 1  # another sample in the window (one at the same time counts)
+    low_index = sliding_extreme(x, lo, hi)
+    high_index = sliding_extreme(x, lo, hi, largest=True)
     return WindowChange(
         rise=np.where(earlier, x - x[low_index], np.nan),
         low_index=low_index,
@@ -85,12 +84,13 @@ class Lookback:
 def lookback(
     t: np.ndarray, sodium: np.ndarray, potassium: np.ndarray, t_from: np.ndarray, t_to: np.ndarray
 ) -> Lookback:
-    """The labs drawn in each window [t_from, t_to] (inclusive), vectorised over windows."""
-    inside = (t[None, :] >= np.asarray(t_from)[:, None]) & (t[None, :] <= np.asarray(t_to)[:, None])
+    """The labs drawn in each window [t_from, t_to] (inclusive), over windows of sorted times (linear memory)."""
+    lo, hi = window_bounds(t, t_from, t_to)
     risky = high_risk(sodium, potassium)
+    lowest = sliding_extreme(sodium, lo, hi)
     return Lookback(
-        lowest_sodium=np.min(np.where(inside, sodium[None, :], np.inf), axis=1, initial=np.inf),
-        high_risk=np.any(inside & risky[None, :], axis=1),
+        lowest_sodium=np.where(lowest >= 0, sodium[np.maximum(lowest, 0)] if len(sodium) else np.inf, np.inf),
+        high_risk=window_any(risky, lo, hi),
     )
 
 
@@ -221,9 +221,8 @@ def dose_columns(episode: Episode, formulary: Formulary, weight_kg: float) -> Do
     volume = _column([d.volume_ml for d in doses])
     grams = np.asarray(f.amount_in_volume(volume, agent.solute_g_per_l), dtype=float)
     mannitol_g = np.where(agent.is_mannitol, np.nan_to_num(grams, nan=0.0), 0.0)
-    dt = t[:, None] - t[None, :]
-    inside = (dt >= 0) & (dt <= WINDOW_H * SECONDS_PER_HOUR)
-    cumulative = (inside * mannitol_g[None, :]).sum(axis=1) / weight_kg if len(doses) else np.zeros(0)
+    lo, hi = window_bounds(t, t - WINDOW_H * SECONDS_PER_HOUR, t)
+    cumulative = window_sums(mannitol_g, lo, hi) / weight_kg
     return DoseColumns(
         times=tuple(d.time for d in doses),
         agent_ids=tuple(d.agent_id for d in doses),
@@ -279,6 +278,11 @@ def build_timeline(episode: Episode, formulary: Formulary) -> Timeline:
 def latest_lab_at(labs: LabColumns, t: float) -> int:
     """Index of the latest lab drawn at or before `t`, or -1."""
     return int(np.searchsorted(labs.t, t, side="right")) - 1
+
+
+def gap_rise_across_mannitol(t: np.ndarray, gap: np.ndarray, doses: DoseColumns) -> tuple[float, int, int]:
+    """(rise, j, i): the largest gap[j] - gap[i] with a mannitol dose started in [t[i], t[j]); -inf when none."""
+    return largest_rise_across(t, gap, doses.t[doses.agent.is_mannitol])
 
 
 def mannitol_between(doses: DoseColumns, t_from: np.ndarray, t_to: np.ndarray) -> np.ndarray:

@@ -21,12 +21,14 @@ from osmodose.errors import FormularyError, FormularyProblems, InputError
 from osmodose.formulary.demo import is_demo
 from osmodose.formulary.file_errors import describe, key_path, salvage
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
+from osmodose.formulary.guard import MAX_DEPTH, guard, too_deep
 from osmodose.formulary.limits import LIMIT_SPECS, ORDERED_PAIRS, REVERSED_PAIRS, display_unit
 from osmodose.formulary.locate import key_lines, line_of
 from osmodose.formulary.model import Agent, DoseKind, DoseLimit, Formulary, Limits
 from osmodose.science.chemistry import SOLUTES, Solute, molar_mass
 from osmodose.science.ranges import DOSE_CEILING, MAX_RATE_RANGE, SOLUTE_STRENGTH
 from osmodose.science.units import is_per_mass, parse_quantity, ureg
+from osmodose.storage.bounded import FORMULARY_MAX_BYTES, FileRefused, read_bounded
 
 #: An explicit sodium or osmolarity may differ from the one derived from the
 #: concentration by this fraction (label rounding) before the file is rejected.
@@ -42,6 +44,7 @@ LABEL_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*%")
 _ID_NUMBER = re.compile(r"\d+(?:\.\d+)?")
 
 _TOML_POSITION = re.compile(r"\(at line (\d+), column \d+\)")
+BYTE_ORDER_MARK = "\ufeff"
 _DOSE_KINDS: dict[str, DoseKind] = {
     "[mass]": "g/kg",
     "[length] ** 3": "mL/kg",
@@ -97,15 +100,19 @@ def read_formulary(path: Path | str) -> ReadResult:
     """Read, validate and resolve `path`; never raises for a bad file."""
     path = Path(path)
     try:
-        raw = path.read_bytes()
+        raw = read_bounded(path, FORMULARY_MAX_BYTES)
+    except FileRefused as refused:
+        return ReadResult(path, None, [FormularyError(path, refused.problem)], readable=False)
     except OSError as error:
         reason = error.strerror or type(error).__name__
         return ReadResult(path, None, [FormularyError(path, f"cannot be read: {reason}")], readable=False)
     digest = hashlib.sha256(raw).hexdigest()
     try:
-        text = raw.decode("utf-8")
+        text = raw.decode("utf-8").removeprefix(BYTE_ORDER_MARK)  # a BOM some editors write: accepted
     except UnicodeDecodeError:
         return ReadResult(path, None, [FormularyError(path, "is not UTF-8 text")])
+    if (found := guard(text)) is not None:
+        return ReadResult(path, None, [FormularyError(path, found[0], None, found[1])], text=text)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
@@ -114,6 +121,12 @@ def read_formulary(path: Path | str) -> ReadResult:
         line = int(match.group(1)) if match else None
         problem = "is not valid TOML: " + _TOML_POSITION.sub("", message).strip()
         return ReadResult(path, None, [FormularyError(path, problem, None, line)], text=text)
+    except (RecursionError, ValueError):  # beyond what the scan catches; never a traceback
+        problem = "cannot be read as a formulary: nested or sized beyond any formulary (see docs/file-limits.md)"
+        return ReadResult(path, None, [FormularyError(path, problem)], text=text)
+    if too_deep(data):
+        problem = f"nests arrays or tables more than {MAX_DEPTH} deep: no formulary needs that"
+        return ReadResult(path, None, [FormularyError(path, problem)], text=text)
     collector = _Collector(path, text)
     model: FormularyFile | None = None
     try:

@@ -12,6 +12,8 @@ from __future__ import annotations
 
 import re
 
+from osmodose.formulary.guard import lines_of
+
 _ARRAY_HEADER = re.compile(r"^\s*\[\[\s*([A-Za-z0-9_.-]+)\s*\]\]")
 _TABLE_HEADER = re.compile(r"^\s*\[\s*([A-Za-z0-9_.-]+)\s*\]")
 _KEY = re.compile(r"^\s*([A-Za-z0-9_-]+|\"[^\"]*\")\s*=")
@@ -22,7 +24,7 @@ def key_lines(text: str) -> dict[str, int]:
     lines: dict[str, int] = {}
     counts: dict[str, int] = {}
     current = ""
-    for number, line in enumerate(text.splitlines(), start=1):
+    for number, line in enumerate(lines_of(text), start=1):  # LF only, as TOML: not U+2028, \f or \x85
         if match := _ARRAY_HEADER.match(line):
             name = match.group(1)
             counts[name] = counts.get(name, 0) + 1

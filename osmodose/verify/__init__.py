@@ -6,9 +6,10 @@ docs/verify.md.
 
 from __future__ import annotations
 
+from osmodose.verify.appending import append_record
 from osmodose.verify.decision import Acceptance, Decision, make_acceptance, parse_acceptance, parse_initials
 from osmodose.verify.discrepancies import Discrepancy
-from osmodose.verify.log import append_record, read_log, verify_chain
+from osmodose.verify.log_read import read_log, verify_chain, walk_log
 from osmodose.verify.order import Order, parse_order
 from osmodose.verify.paths import default_log_path, log_path
 from osmodose.verify.record import VerificationRecord, verify_order
@@ -29,4 +30,5 @@ __all__ = [
     "read_log",
     "verify_chain",
     "verify_order",
+    "walk_log",
 ]

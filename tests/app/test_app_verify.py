@@ -210,3 +210,20 @@ async def test_the_saved_records_sha256_is_copied_and_the_record_printed(
     text = printed.read_text(encoding="utf-8")
     assert text.startswith(f"✔ SAVED as record 1 in {log}\nsha256 {stored.sha256}\n")
     assert stored.entry.record.render_text() in text
+
+
+@sync
+async def test_a_key_kept_in_the_logs_folder_shows_not_saved(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    log = tmp_path / "state" / "verifications.jsonl"
+    key = tmp_path / "state" / "log-signing.key"
+    monkeypatch.setenv("OSMODOSE_LOG", str(log))
+    monkeypatch.setenv("OSMODOSE_LOG_KEY", str(key))
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB", typed=False)
+        screen = verify_screen(app)
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        saved = str(screen.query_one("#verify-saved", Static).render())
+        assert saved.startswith(f"✖ NOT SAVED: signing key {key}: is inside the log's folder")
+    assert not log.exists() and not key.exists()

@@ -43,6 +43,7 @@ def test_a_typed_urine_output_is_saved_and_enters_the_timeline(tmp_path: Path, d
         "2026-12-01T23:00+00:00",
         "urine",
         "urine 600 mL over 2 h  Na 50  K n/a (taken as 0)",
+        "U3",  # the demo has U1 and U2
     )
 
 

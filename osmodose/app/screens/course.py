@@ -46,8 +46,9 @@ from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
 from osmodose.errors import OsmodoseError
 from osmodose.formulary.model import Formulary
+from osmodose.safe_text import escape_controls
 
-TIMELINE_COLUMNS = ("time", "entry", "details")
+TIMELINE_COLUMNS = ("time", "id", "entry", "details")
 _STYLE = {"ok": "bold $text-success", "warn": "bold $text-warning", "refuse": "bold $text-error"}
 #: Rows of the timeline a finding is about (rich styles: table cells do not take the theme's variables).
 _ROW_STYLE = {"warn": "bold dark_orange", "refuse": "bold red"}
@@ -118,10 +119,10 @@ class CourseScreen(Screen[None]):
             self.query_one(legend_id, PlotLegend).show(panel)
         rows = finding_rows(state)
         self.query_one("#course-findings", Static).update(
-            "\n".join(f"[{_STYLE[severity]}]{escape(line)}[/]" for severity, line in rows)
+            "\n".join(f"[{_STYLE[severity]}]{escape(escape_controls(line))}[/]" for severity, line in rows)
         )
         notes = [*notes_lines(state), f"formulary: {formulary_line(self.formulary)} (F2 shows it)"]
-        self.query_one("#course-notes", Static).update("\n".join(notes))
+        self.query_one("#course-notes", Static).update(escape_controls("\n".join(notes), keep_lines=True))
 
     def _fill_table(self, state: CourseState) -> None:
         """One row per entry, the details wrapped in the width left (nothing hidden off to the right)."""
@@ -129,19 +130,22 @@ class CourseScreen(Screen[None]):
         table.clear(columns=True)
         widths = [len(row[0]) for row in state.rows] or [len(TIMELINE_COLUMNS[0])]
         time_width, entry_width = max(widths), len("reading")
+        id_width = max([len(row[3]) for row in state.rows] + [2])
         # cell padding 1 each side, and the vertical scrollbar
-        details = max(30, self.size.width - time_width - entry_width - 3 * 2 - 2)
-        for label, width in zip(TIMELINE_COLUMNS, (time_width, entry_width, details), strict=True):
+        details = max(30, self.size.width - time_width - id_width - entry_width - 4 * 2 - 2)
+        for label, width in zip(TIMELINE_COLUMNS, (time_width, id_width, entry_width, details), strict=True):
             table.add_column(label, width=width)
-        for (time, entry, text), (severity, mark) in zip(state.rows, row_marks(state), strict=True):
+        for (when, kind, raw, entry_id), (severity, mark) in zip(state.rows, row_marks(state), strict=True):
+            text = escape_controls(raw)
             if mark:  # word and colour: the finding's symbol, word and code under the values it is about
                 cells: tuple[str | Text, ...] = (
-                    Text(time, style=_ROW_STYLE[severity]),
-                    Text(entry, style=_ROW_STYLE[severity]),
+                    Text(when, style=_ROW_STYLE[severity]),
+                    Text(entry_id, style=_ROW_STYLE[severity]),
+                    Text(kind, style=_ROW_STYLE[severity]),
                     Text.assemble(text, "\n", (mark, _ROW_STYLE[severity])),
                 )
             else:
-                cells = (time, entry, text)
+                cells = (when, entry_id, kind, text)
             table.add_row(*cells, height=None)
         table.move_cursor(row=len(state.rows) - 1)
         if self.app.focused is None or isinstance(self.app.focused, Input):
@@ -200,7 +204,10 @@ class CourseScreen(Screen[None]):
 
     def _add(self, kind: EntryKind, values: Mapping[str, str]) -> FormOutcome:
         assert self.state is not None
-        return add_entry(self.state, kind, self.formulary, values)
+        outcome = add_entry(self.state, kind, self.formulary, values)
+        for text in outcome.notes:
+            self.notify(escape_controls(text), severity="warning")
+        return outcome
 
     def action_plan(self) -> None:
         if self.state is None:

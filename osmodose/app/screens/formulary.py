@@ -11,6 +11,7 @@ from typing import ClassVar
 
 from rich import box
 from rich.table import Table
+from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import VerticalScroll
@@ -21,6 +22,7 @@ from osmodose.app import keys
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.formulary.model import Formulary
 from osmodose.formulary.summary import AgentRow, LimitRow, agent_rows, limit_rows
+from osmodose.safe_text import escape_controls
 
 COMPOSITION_COLUMNS = ("id", "strength", "solute", "Na mmol/L", "mOsm/L", "route")
 STOCK_COLUMNS = ("id", "label", "kept as", "dose limits", "max rate")
@@ -41,12 +43,16 @@ def limit_cells(row: LimitRow) -> tuple[str, ...]:
 
 
 def wrapped_table(columns: tuple[str, ...], rows: list[tuple[str, ...]], ratios: tuple[int, ...]) -> Table:
-    """A table as wide as the screen whose cells wrap (long words fold): no column is ever cut."""
+    """A table as wide as the screen whose cells wrap (long words fold): no column is ever cut.
+
+    Cells are plain text with control characters shown escaped: a label from the
+    file is never read as markup or as a terminal command.
+    """
     table = Table(expand=True, box=box.SIMPLE_HEAD, pad_edge=False, header_style="bold")
     for name, ratio in zip(columns, ratios, strict=True):
         table.add_column(name, ratio=ratio, overflow="fold")
     for row in rows:
-        table.add_row(*row)
+        table.add_row(*(Text(escape_controls(cell)) for cell in row))
     return table
 
 
@@ -73,7 +79,8 @@ class FormularyScreen(Screen[None]):
         f = self.formulary
         yield FormularyBar(f, self.demo)
         with VerticalScroll(id="formulary-body"):
-            yield Static(f"{f.name}  v{f.version}\nsha256 {f.sha256}\n{f.path}", id="formulary-id", markup=False)
+            shown = escape_controls(f"{f.name}  v{f.version}\nsha256 {f.sha256}\n{f.path}", keep_lines=True)
+            yield Static(shown, id="formulary-id", markup=False)
             yield Static("agents: composition", classes="help-title", markup=False)
             yield Static(self.tables["agents-table"], id="agents-table")
             yield Static("agents: label, stock and order limits", classes="help-title", markup=False)

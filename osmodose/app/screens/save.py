@@ -1,4 +1,4 @@
-"""Ask where to save a plain-text summary (or a printable record), and write it there."""
+"""Ask where to save a plain-text summary (or a printable record); write it there, never over a file unasked."""
 
 from __future__ import annotations
 
@@ -12,22 +12,35 @@ from textual.screen import ModalScreen
 from textual.widgets import Input, Label, Static
 
 from osmodose.app import keys
+from osmodose.app.screens.confirm import ConfirmReplace
+from osmodose.safe_text import escape_controls
+from osmodose.storage.atomic import DestinationIsALink, atomic_write, write_problem
 
 DEFAULT_NAME = "osmodose-summary.txt"
 
 
 class SaveScreen(ModalScreen[str | None]):
-    """Returns the path written, or None when cancelled; a write error stays on screen."""
+    """Returns the path written, or None when cancelled; a write error stays on screen.
+
+    The file is written with `atomic_write`: an existing file (a verification
+    log, another summary) is replaced only after the user says yes in a
+    confirm dialog, and a symbolic link is never written through.
+    """
 
     BINDINGS: ClassVar[list[BindingType]] = keys.SAVE
 
     def __init__(
-        self, text: str, default_name: str = DEFAULT_NAME, what: str = "the summary (the same text as osmodose check)"
+        self,
+        text: str,
+        default_name: str = DEFAULT_NAME,
+        what: str = "the summary (the same text as osmodose check)",
+        noun: str = "summary",
     ) -> None:
         super().__init__(id="save-screen")
         self.text = text
         self.default_name = default_name
         self.what = what
+        self.noun = noun
 
     def compose(self) -> ComposeResult:
         with Vertical(id="save-box"):
@@ -38,12 +51,31 @@ class SaveScreen(ModalScreen[str | None]):
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
         path = Path(event.value.strip() or self.default_name).expanduser()
+        self._write(path, overwrite=False)
+
+    def _write(self, path: Path, overwrite: bool) -> None:
         try:
-            path.write_text(self.text, encoding="utf-8")
+            atomic_write(path, self.text, overwrite=overwrite)
+        except FileExistsError:
+            question = escape_controls(f"{path} already exists. Replace it with this {self.noun}? Its content is lost.")
+            self.app.push_screen(ConfirmReplace(question), lambda yes: self._answered(path, bool(yes)))
+            return
+        except DestinationIsALink:
+            self._say(f"cannot save to {path}: it is a symbolic link (osmodose never writes through or over one)")
+            return
         except OSError as error:
-            self.query_one("#save-message", Static).update(f"cannot save to {path}: {error.strerror or error}")
+            self._say(f"cannot save to {path}: {write_problem(error)}")
             return
         self.dismiss(str(path))
+
+    def _answered(self, path: Path, yes: bool) -> None:
+        if yes:
+            self._write(path, overwrite=True)
+        else:
+            self._say(f"not saved: {path} was kept as it is; give another name, or escape")
+
+    def _say(self, text: str) -> None:
+        self.query_one("#save-message", Static).update(escape_controls(text))
 
     def action_cancel(self) -> None:
         self.dismiss(None)

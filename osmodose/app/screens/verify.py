@@ -49,7 +49,7 @@ from osmodose.app.widgets.lines import LinesPanel, set_text
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
 from osmodose.check.judging import worst_status
-from osmodose.errors import LogError
+from osmodose.errors import LogError, SigningKeyError
 from osmodose.formulary.model import Formulary
 from osmodose.verify import append_record, log_path
 
@@ -206,7 +206,7 @@ class VerifyScreen(Screen[None]):
             path = log_path(None)
             try:
                 saved, digest = append_record(path, state.record)
-            except LogError as error:
+            except (LogError, SigningKeyError) as error:  # a broken chain, or a key it cannot use: not saved
                 self.note = SaveNote(entry.key(), not_saved_text(error), False)
             else:
                 self.note = SaveNote(entry.key(), saved_text(saved.sequence, digest, path), True, digest)
@@ -243,4 +243,4 @@ class VerifyScreen(Screen[None]):
             return
         note = self._saved_record()
         text = printable(record, note)
-        self.app.push_screen(SaveScreen(text, default_name=PRINT_NAME, what="the verification record"))
+        self.app.push_screen(SaveScreen(text, default_name=PRINT_NAME, what="the verification record", noun="record"))

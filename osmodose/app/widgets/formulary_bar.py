@@ -8,6 +8,7 @@ from textual.markup import escape
 from textual.widgets import Static
 
 from osmodose.app.widgets.lines import set_content
+from osmodose.safe_text import escape_controls
 
 if TYPE_CHECKING:
     from osmodose.formulary.model import Formulary
@@ -19,7 +20,7 @@ DEMO = " DEMO: invented unit, not for patients "
 
 
 def formulary_line(formulary: Formulary) -> str:
-    return f"{formulary.name}  v{formulary.version}  sha256 {formulary.sha256[:SHORT_SHA]}"
+    return escape_controls(f"{formulary.name}  v{formulary.version}  sha256 {formulary.sha256[:SHORT_SHA]}")
 
 
 class FormularyBar(Static):
