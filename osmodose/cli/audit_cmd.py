@@ -11,11 +11,12 @@ from contextlib import contextmanager
 from pathlib import Path
 from typing import TextIO
 
+from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import INVALID, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.errors import InputError
 
-HELP = "audit a file of past orders against the formulary's limits, row by row, on whole columns"
+HELP = help_of("audit")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

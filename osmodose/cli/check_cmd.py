@@ -8,11 +8,12 @@ import json
 from osmodose.case.inputs import parse_check_request
 from osmodose.check.report import render_text
 from osmodose.check.run import run_check
+from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import BY_STATUS
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
 
-HELP = "compute osmolality, total body water, a dose and its sodium projection, and check the limits"
+HELP = help_of("check")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

@@ -11,13 +11,14 @@ import argparse
 import json
 from typing import TYPE_CHECKING
 
+from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import BY_STATUS, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 
 if TYPE_CHECKING:
     from osmodose.course.episode import Episode
 
-HELP = "a course of therapy: serial labs, doses and pressures in an episode file"
+HELP = help_of("course")
 TIME_HELP = "ISO 8601 time, e.g. 2026-12-01T08:30+00:00; without an offset = this computer's local time; or now"
 
 

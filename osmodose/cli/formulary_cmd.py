@@ -17,6 +17,7 @@ from dataclasses import asdict
 from pathlib import Path
 
 from osmodose.check.results import CAUTION
+from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import INVALID, OK
 from osmodose.errors import FormularyError
 from osmodose.formulary import demo_formulary_path, load_formulary
@@ -30,7 +31,7 @@ from osmodose.formulary.validate import validate_formulary
 _FIGURE_COLUMNS = ("id", "concentration", "Na mmol/L", "Na mmol/mL", "mOsm/L", "g/mL", "route")
 _STOCK_COLUMNS = ("id", "label", "presentations", "dose limits", "max rate")
 
-HELP = "check, inspect, compare and start a unit's formulary file"
+HELP = help_of("formulary")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

@@ -12,9 +12,10 @@ import json
 import sys
 from pathlib import Path
 
+from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import INVALID, OK
 
-HELP = "read the verification log back: verify its chain, list its records, show one"
+HELP = help_of("log")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

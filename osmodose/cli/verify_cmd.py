@@ -11,11 +11,12 @@ from __future__ import annotations
 import argparse
 import json
 
+from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import OK, REFUSE, WARN
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, case_fields
 
-HELP = "re-check an order as written, decide on it, and append an initialled record to the verification log"
+HELP = help_of("verify")
 
 BY_OUTCOME = {
     "released": OK,
