@@ -275,7 +275,7 @@ def measure(orders: Path, n: int, check_sample: int) -> dict[str, float]:
     with tempfile.TemporaryDirectory() as folder:
         timings: dict[str, float] = {}
         start = time.perf_counter()
-        with open(Path(folder) / "results.csv", "w", newline="", encoding="utf-8") as out:
+        with open(Path(folder) / "results.csv", "wb") as out:
             run_audit(orders, formulary, [CsvResults(out, True), Summary(formulary, str(orders))], timings=timings)
         whole = time.perf_counter() - start
         peak_rss = _rss_mb()

@@ -3,17 +3,25 @@
 Figures are written in full precision (Python's shortest round-trip form), so
 a row reads back as exactly the figures `osmodose check --json` gives for it;
 a figure that cannot be computed is an empty CSV cell or JSON null.
+
+CSV lines are built by pyarrow on whole columns (numbers formatted, text
+quoted, columns joined) and written as bytes; each finding's message is made
+once per distinct (value, limit, severity) and joined to its rows by index.
+A text cell that starts with =, +, - or @ is written after a ' so that a
+spreadsheet never runs it as a formula.
 """
 
 from __future__ import annotations
 
 import json
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from math import isnan
 from pathlib import Path
-from typing import TextIO
+from typing import BinaryIO, TextIO
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
 from osmodose.check.results import CAUTION
@@ -24,115 +32,147 @@ FINDING_SEPARATOR = ";"
 MESSAGE_SEPARATOR = " | "
 
 
-def _numbers(values: np.ndarray) -> list[str]:
-    """Shortest round-trip text of each figure; "" where it cannot be computed.
+#: Where pyarrow's shortest form of a float is Python's repr once an integral value gets its ".0":
+#: outside it (and for infinities) repr is used, value by value.
+_SAME_AS_REPR = (1e-4, 1e10)
 
-    Each distinct value is formatted once (volumes, bag sizes and weights
-    repeat a lot): sorting is cheaper than formatting a float again.
-    """
-    distinct, index = np.unique(values, return_inverse=True)
-    text = np.asarray([repr(v) for v in distinct.tolist()], dtype=object)[index.reshape(-1)].tolist()
-    for i in np.flatnonzero(np.isnan(values)).tolist():
-        text[i] = ""
-    return text
+
+def float_text(values: np.ndarray) -> pa.Array:
+    """Shortest round-trip text of each figure, as Python's repr writes it; "" where it cannot be computed."""
+    values = np.asarray(values, dtype=float)
+    nan = np.isnan(values)
+    text = pc.cast(pa.array(values, mask=nan), pa.string())
+    size = np.abs(values)
+    with np.errstate(invalid="ignore"):
+        integral = values == np.floor(values)
+        alike = ((size >= _SAME_AS_REPR[0]) & (size < _SAME_AS_REPR[1])) | (size == 0)
+    text = pc.if_else(pa.array(integral & alike), pc.binary_join_element_wise(text, ".0", ""), text)
+    other = np.flatnonzero(~alike & ~nan)
+    if len(other):
+        mask = np.zeros(len(values), dtype=bool)
+        mask[other] = True
+        text = pc.replace_with_mask(text, pa.array(mask), pa.array([repr(v) for v in values[other].tolist()]))
+    return pc.fill_null(text, "")
 
 
 def formulary_ref(formulary: Formulary) -> dict[str, str]:
     return {"name": formulary.name, "version": formulary.version, "sha256": formulary.sha256, "path": formulary.path}
 
 
-#: A CSV field with one of these is quoted (the csv module's minimal quoting).
-_SPECIAL = (",", '"', "\n", "\r")
-
-
-def _quoted(values: list[str] | tuple[str, ...]) -> list[str] | tuple[str, ...]:
-    """A text column quoted as `csv.QUOTE_MINIMAL` would; most columns need nothing, checked at once."""
-    joined = "".join(values)
-    if not any(mark in joined for mark in _SPECIAL):
-        return values
-    return ['"' + v.replace('"', '""') + '"' if _special(v) else v for v in values]
-
-
-def _special(value: str) -> bool:
-    return "," in value or '"' in value or "\n" in value or "\r" in value
+def csv_text(values: pa.Array | Sequence[str]) -> pa.Array:
+    """A text column as CSV cells: formula-safe, then quoted as `csv.QUOTE_MINIMAL` would."""
+    array = values if isinstance(values, pa.Array) else pa.array(list(values), pa.string())
+    formula = pc.match_substring_regex(array, "^[=+\\-@]")
+    if pc.any(formula).as_py():
+        array = pc.if_else(formula, pc.binary_join_element_wise("'", array, ""), array)
+    special = pc.match_substring_regex(array, '[,"\\r\\n]')
+    if pc.any(special).as_py():
+        quoted = pc.binary_join_element_wise('"', pc.replace_substring(array, '"', '""'), '"', "")
+        array = pc.if_else(special, quoted, array)
+    return array
 
 
 class CsvResults:
     """Results as CSV: row, status, reason, agent, the figures, finding codes and their messages.
 
-    Lines are joined here rather than by the csv module (ten times faster for
-    a million rows); text columns are quoted exactly as its minimal quoting
+    Lines are joined by pyarrow on whole columns and written as UTF-8 bytes;
+    text columns are quoted exactly as the csv module's minimal quoting
     would, so any CSV reader reads them back unchanged.
     """
 
-    def __init__(self, stream: TextIO, with_order_id: bool) -> None:
+    def __init__(self, stream: BinaryIO, with_order_id: bool) -> None:
         self.stream = stream
         self.with_order_id = with_order_id
         head = ["row", *(["order-id"] if with_order_id else []), "status", "reason", "agent", "tbw_method"]
-        self._write([[name] for name in [*head, *(name for name, _ in FIGURES), "findings", "messages"]])
-
-    def _write(self, columns: list[list[str] | tuple[str, ...]]) -> None:
-        self.stream.write("\n".join(map(",".join, zip(*columns, strict=True))) + "\n")
+        names = [*head, *(name for name, _ in FIGURES), "findings", "messages"]
+        self.stream.write((",".join(names) + "\n").encode("utf-8"))
 
     def add(self, chunk: ChunkResult) -> None:
         n = len(chunk)
-        codes, messages = [""] * n, [""] * n
-        for i, items in _finding_texts(chunk).items():
-            items.sort(key=lambda item: not item[0])  # refusals first, as check lists them
-            codes[i] = FINDING_SEPARATOR.join(code for _, code, _ in items)
-            messages[i] = MESSAGE_SEPARATOR.join(message for _, _, message in items)
-        reasons = [""] * n
+        if not n:
+            return
+        codes, messages = finding_columns(chunk)
+        status_text = pa.array([STATUS_NAMES[s] for s in range(-1, 3)], pa.string())
+        reasons = np.zeros(n, dtype=np.int64)
+        reason_list = [""]
         for i, reason in chunk.reasons.items():
-            reasons[i] = reason
-        status = np.asarray([STATUS_NAMES[s] for s in range(-1, 3)])[chunk.status.astype(int) + 1].tolist()
-        method = np.where(chunk.status >= 0, chunk.tbw_method, "").tolist()
-        columns: list[list[str] | tuple[str, ...]] = [chunk.lines.astype(str).tolist()]
+            reasons[i] = len(reason_list)
+            reason_list.append(reason)
+        method = np.where(chunk.status >= 0, chunk.tbw_method, "")
+        columns: list[pa.Array] = [pc.cast(pa.array(chunk.lines), pa.string())]
         if self.with_order_id:
-            columns.append(_quoted(chunk.order_id or ("",) * n))
-        columns += [status, _quoted(reasons), _quoted([str(a) for a in chunk.agent_text.tolist()]), method]
-        columns += [_numbers(chunk.figures[name]) for name, _ in FIGURES]
-        columns += [codes, _quoted(messages)]
-        self._write(columns)
+            columns.append(csv_text(chunk.order_id if chunk.order_id is not None else [""] * n))
+        columns += [
+            status_text.take(pa.array(chunk.status.astype(np.int64) + 1)),
+            csv_text(pa.array(reason_list, pa.string()).take(pa.array(reasons))),
+            csv_text(pa.array(chunk.agent_text.tolist(), pa.string())),
+            pa.array(method.tolist(), pa.string()),
+        ]
+        columns += [float_text(chunk.figures[name]) for name, _ in FIGURES]
+        columns += [codes, csv_text(messages)]
+        lines = pc.binary_join_element_wise(pc.binary_join_element_wise(*columns, ","), "", "\n")
+        _write_strings(self.stream, lines)
 
     def close(self) -> None:
         self.stream.flush()
 
 
-def _finding_texts(chunk: ChunkResult) -> dict[int, list[tuple[bool, str, str]]]:
-    """Position -> (refused, "code:severity", message) per finding, in rule order (CSV needs no more)."""
-    found: dict[int, list[tuple[bool, str, str]]] = {}
-    for outcome in chunk.outcomes:
-        severity = outcome.severity
-        fired = np.flatnonzero(severity)
-        if not len(fired):
-            continue
-        # The rule's own message, made once per distinct (value, limit, severity): values repeat.
-        memo: dict[tuple[float, float, int], tuple[bool, str, str]] = {}
-        for k, value, limit, level in zip(
-            fired.tolist(),
-            outcome.value[fired].tolist(),
-            outcome.limit[fired].tolist(),
-            severity[fired].tolist(),
-            strict=True,
-        ):
-            item = memo.get((value, limit, level))
-            if item is None:
-                name = SEVERITY_NAMES[level]
-                item = (name == "refuse", f"{outcome.code}:{name}", outcome.describe(value, limit, name))
-                memo[(value, limit, level)] = item
-            found.setdefault(k, []).append(item)
-    return found
+def _write_strings(stream: BinaryIO, strings: pa.Array) -> None:
+    """The bytes of a string array's values, back to back, without copying them into Python strings."""
+    _, offsets, data = strings.buffers()
+    ends = np.frombuffer(offsets, dtype=np.int32)[strings.offset : strings.offset + len(strings) + 1]
+    stream.write(memoryview(data)[int(ends[0]) : int(ends[-1])])
+
+
+def finding_columns(chunk: ChunkResult) -> tuple[pa.Array, pa.Array]:
+    """Each row's "code:severity" list and message list, refusals first, then in rule order (as check lists them).
+
+    A rule's message is made once per distinct (value, limit, severity); rows
+    take theirs by index, and each row's list is joined by pyarrow.
+    """
+    n = len(chunk)
+    rows: list[np.ndarray] = []
+    codes: list[np.ndarray] = []
+    picks: list[np.ndarray] = []
+    texts: list[str] = []
+    code_texts: list[str] = []
+    for level in (2, 1):  # refusals first; within a severity, rules in their order
+        for outcome in chunk.outcomes:
+            fired = np.flatnonzero(outcome.severity == level)
+            if not len(fired):
+                continue
+            keys = np.stack([outcome.value[fired], outcome.limit[fired]], axis=1)
+            distinct, inverse = np.unique(keys, axis=0, return_inverse=True)
+            name = SEVERITY_NAMES[level]
+            picks.append(len(texts) + inverse.reshape(-1))
+            texts += [outcome.describe(value, limit, name) for value, limit in distinct.tolist()]
+            codes.append(np.full(len(fired), len(code_texts)))
+            code_texts.append(f"{outcome.code}:{name}")
+            rows.append(fired)
+    if not rows:
+        empty = pa.array([""] * n, pa.string())
+        return empty, empty
+    row = np.concatenate(rows)
+    order = np.argsort(row, kind="stable")
+    offsets = pa.array(np.concatenate([[0], np.cumsum(np.bincount(row, minlength=n))]).astype(np.int32))
+    message = pa.array(texts, pa.string()).take(pa.array(np.concatenate(picks)[order]))
+    code = pa.array(code_texts, pa.string()).take(pa.array(np.concatenate(codes)[order]))
+    return (
+        pc.binary_join(pa.ListArray.from_arrays(offsets, code), FINDING_SEPARATOR),
+        pc.binary_join(pa.ListArray.from_arrays(offsets, message), MESSAGE_SEPARATOR),
+    )
 
 
 def row_dicts(chunk: ChunkResult) -> Iterator[dict[str, object]]:
     """Each row as a JSON object: the names and values of `check --json`, flattened."""
     found = chunk.findings()
     figures = {name: chunk.figures[name].tolist() for name, _ in FIGURES}
+    order_id = None if chunk.order_id is None else chunk.order_id.to_pylist()
     for i in range(len(chunk)):
         status = STATUS_NAMES[int(chunk.status[i])]
         row: dict[str, object] = {"row": int(chunk.lines[i])}
-        if chunk.order_id is not None:
-            row["order_id"] = chunk.order_id[i]
+        if order_id is not None:
+            row["order_id"] = order_id[i]
         row["status"] = status
         row["reason"] = chunk.reasons.get(i)
         row["agent"] = str(chunk.agent_text[i]) or None

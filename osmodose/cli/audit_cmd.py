@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 import argparse
+import codecs
 import os
 import secrets
 import sys
 from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import TextIO
+from typing import IO, BinaryIO, TextIO, cast
 
 from osmodose.cli.commands import help_of
 from osmodose.cli.exit_codes import INVALID, OK
@@ -26,12 +27,17 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         description=HELP + ". Columns and units: see docs/audit.md. Exit status 0 when every row was audited, "
         "1 when some rows could not be (each is listed with its reason), 2 when the file cannot be read.",
     )
-    parser.add_argument("orders", metavar="ORDERS.csv", help="the orders file (CSV with a header row)")
+    parser.add_argument(
+        "orders", metavar="ORDERS.csv", help="the orders file: CSV with a header row, .parquet, or - for standard input"
+    )
     add_formulary_option(parser)
     parser.add_argument(
         "--out", metavar="FILE", help="write one result row per order to FILE (.csv or .json) instead of stdout"
     )
     parser.add_argument("--force", action="store_true", help="overwrite the --out file if it exists")
+    parser.add_argument(
+        "--encoding", metavar="NAME", help="the CSV file's text encoding when it is not UTF-8 (e.g. latin-1, cp1252)"
+    )
     parser.add_argument("--summary", action="store_true", help="print counts and dose-per-kg distributions")
     parser.add_argument("--json", action="store_true", help="JSON instead of CSV rows or the text summary")
     parser.add_argument(
@@ -47,22 +53,26 @@ def run(args: argparse.Namespace) -> int:
     from osmodose.audit.summary import Summary  # noqa: PLC0415
 
     formulary = formulary_from_args(args)
-    path = Path(args.orders)
-    with open_orders(path) as orders:  # a bad header stops here, before any output is made
+    encoding = _encoding(args.encoding)
+    with open_orders(args.orders, encoding) as orders:  # a bad header stops here, before any output is made
+        path = orders.path
         with_order_id = "order-id" in orders.header
-    out_path = Path(args.out) if args.out else None
-    if out_path is not None:
-        _check_out(out_path, path, args.out, args.force)
-    summary = Summary(formulary, str(path))
-    bad = BadRows(sys.stderr, path)
-    sinks: list = [summary, bad]
-    long_file = path.stat().st_size > 1_000_000
-    progress = Progress(sys.stderr) if args.progress or (long_file and sys.stderr.isatty()) else None
-    with _results(out_path, args.out, to_stdout=not args.summary) as handle:
-        if handle is not None:
-            as_json = out_path.suffix.lower() == ".json" if out_path is not None else args.json
-            sinks.append(JsonResults(handle, formulary) if as_json else CsvResults(handle, with_order_id))
-        run_audit(path, formulary, sinks, progress=progress)
+        out_path = Path(args.out) if args.out else None
+        if out_path is not None:
+            _check_out(out_path, None if args.orders == "-" else path, args.out, args.force)
+        summary = Summary(formulary, str(path))
+        bad = BadRows(sys.stderr, path)
+        sinks: list = [summary, bad]
+        long_file = args.orders != "-" and path.stat().st_size > 1_000_000
+        progress = Progress(sys.stderr) if args.progress or (long_file and sys.stderr.isatty()) else None
+        as_json = out_path.suffix.lower() == ".json" if out_path is not None else args.json
+        with _results(out_path, args.out, to_stdout=not args.summary, binary=not as_json) as handle:
+            if handle is not None:
+                if as_json:
+                    sinks.append(JsonResults(cast(TextIO, handle), formulary))
+                else:
+                    sinks.append(CsvResults(cast(BinaryIO, handle), with_order_id))
+            run_audit(orders, formulary, sinks, progress=progress)
     if args.summary:
         if args.json:
             import json  # noqa: PLC0415
@@ -79,18 +89,29 @@ def run(args: argparse.Namespace) -> int:
     return INVALID if bad.count else OK
 
 
-def _check_out(out_path: Path, orders: Path, written: str, force: bool) -> None:
+def _encoding(name: str | None) -> str | None:
+    """The codec of --encoding (None for UTF-8, which is checked as it is read)."""
+    if name is None:
+        return None
+    try:
+        codec = codecs.lookup(name).name
+    except LookupError:
+        raise InputError("encoding", name, "is not an encoding osmodose knows", "e.g. utf-8, latin-1, cp1252") from None
+    return None if codec == "utf-8" else codec
+
+
+def _check_out(out_path: Path, orders: Path | None, written: str, force: bool) -> None:
     """Refuse an --out that would destroy a file: the orders themselves, or any file without --force."""
     if out_path.suffix.lower() not in (".csv", ".json"):
         raise InputError("out", written, "has an extension osmodose cannot write", ".csv or .json")
-    if out_path.exists() and os.path.samefile(out_path, orders):
+    if orders is not None and out_path.exists() and os.path.samefile(out_path, orders):
         raise InputError("out", written, "is the orders file: the results would overwrite it", "another file")
     if out_path.exists() and not force:
         raise InputError("out", written, "already exists: choose another file or add --force to overwrite it")
 
 
 @contextmanager
-def _results(out_path: Path | None, written: str | None, to_stdout: bool) -> Iterator[TextIO | None]:
+def _results(out_path: Path | None, written: str | None, to_stdout: bool, binary: bool) -> Iterator[IO | None]:
     """Where the result rows go: --out, stdout, or nowhere (a summary alone).
 
     --out is written to a new file beside it, renamed into place only when the
@@ -100,11 +121,16 @@ def _results(out_path: Path | None, written: str | None, to_stdout: bool) -> Ite
     file and can never be another file already there.
     """
     if out_path is None:
-        yield sys.stdout if to_stdout else None
+        if to_stdout and binary:
+            sys.stdout.flush()
+            yield sys.stdout.buffer
+            sys.stdout.buffer.flush()
+        else:
+            yield sys.stdout if to_stdout else None
         return
     partial = out_path.with_name(f".{out_path.name}.{secrets.token_hex(4)}.partial")
     try:
-        handle = open(partial, "x", encoding="utf-8", newline="")  # noqa: SIM115
+        handle = open(partial, "xb") if binary else open(partial, "x", encoding="utf-8", newline="")  # noqa: SIM115
     except OSError as error:
         raise InputError("out", written, f"cannot be written ({error.strerror})") from None
     try:
