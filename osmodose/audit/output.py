@@ -13,8 +13,11 @@ spreadsheet never runs it as a formula.
 
 from __future__ import annotations
 
+import contextlib
 import json
+import math
 from collections.abc import Iterator, Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
 from math import isnan
 from pathlib import Path
 from typing import BinaryIO, TextIO
@@ -38,21 +41,23 @@ _SAME_AS_REPR = (1e-4, 1e10)
 
 
 def float_text(values: np.ndarray) -> pa.Array:
-    """Shortest round-trip text of each figure, as Python's repr writes it; "" where it cannot be computed."""
+    """Shortest round-trip text of each figure, as Python's repr writes it; null where it cannot be computed."""
     values = np.asarray(values, dtype=float)
     nan = np.isnan(values)
     text = pc.cast(pa.array(values, mask=nan), pa.string())
     size = np.abs(values)
     with np.errstate(invalid="ignore"):
-        integral = values == np.floor(values)
         alike = ((size >= _SAME_AS_REPR[0]) & (size < _SAME_AS_REPR[1])) | (size == 0)
-    text = pc.if_else(pa.array(integral & alike), pc.binary_join_element_wise(text, ".0", ""), text)
+        integral = alike & (values == np.floor(values))
+    if integral.any():
+        mask = pa.array(integral)
+        text = pc.replace_with_mask(text, mask, pc.binary_join_element_wise(text.filter(mask), ".0", ""))
     other = np.flatnonzero(~alike & ~nan)
     if len(other):
         mask = np.zeros(len(values), dtype=bool)
         mask[other] = True
         text = pc.replace_with_mask(text, pa.array(mask), pa.array([repr(v) for v in values[other].tolist()]))
-    return pc.fill_null(text, "")
+    return text
 
 
 def formulary_ref(formulary: Formulary) -> dict[str, str]:
@@ -77,17 +82,31 @@ class CsvResults:
 
     Lines are joined by pyarrow on whole columns and written as UTF-8 bytes;
     text columns are quoted exactly as the csv module's minimal quoting
-    would, so any CSV reader reads them back unchanged.
+    would, so any CSV reader reads them back unchanged.  A chunk is formatted
+    and written on a thread of its own while the next chunk is read and
+    checked (pyarrow's kernels release the interpreter lock); at most one
+    chunk waits, so memory stays that of two chunks.
     """
 
     def __init__(self, stream: BinaryIO, with_order_id: bool) -> None:
         self.stream = stream
         self.with_order_id = with_order_id
+        self._worker = ThreadPoolExecutor(max_workers=1, thread_name_prefix="audit-csv")
+        self._pending: Future[None] | None = None
         head = ["row", *(["order-id"] if with_order_id else []), "status", "reason", "agent", "tbw_method"]
         names = [*head, *(name for name, _ in FIGURES), "findings", "messages"]
         self.stream.write((",".join(names) + "\n").encode("utf-8"))
 
     def add(self, chunk: ChunkResult) -> None:
+        self._wait()
+        self._pending = self._worker.submit(self._write, chunk)
+
+    def _wait(self) -> None:
+        if self._pending is not None:
+            pending, self._pending = self._pending, None
+            pending.result()  # an error writing the previous chunk surfaces here
+
+    def _write(self, chunk: ChunkResult) -> None:
         n = len(chunk)
         if not n:
             return
@@ -109,12 +128,23 @@ class CsvResults:
             pa.array(method.tolist(), pa.string()),
         ]
         columns += [float_text(chunk.figures[name]) for name, _ in FIGURES]
-        columns += [codes, csv_text(messages)]
-        lines = pc.binary_join_element_wise(pc.binary_join_element_wise(*columns, ","), "", "\n")
+        # The line's end goes on its last cell: one join of the whole line, not two.
+        columns += [codes, pc.binary_join_element_wise(csv_text(messages), "", "\n")]
+        lines = pc.binary_join_element_wise(*columns, ",", null_handling="replace", null_replacement="")
         _write_strings(self.stream, lines)
 
     def close(self) -> None:
+        try:
+            self._wait()
+        finally:
+            self._worker.shutdown(wait=True)
         self.stream.flush()
+
+    def abandon(self) -> None:
+        """The audit stopped on an error: let the chunk being written finish, whatever became of it."""
+        with contextlib.suppress(Exception):
+            self._wait()
+        self._worker.shutdown(wait=True)
 
 
 def _write_strings(stream: BinaryIO, strings: pa.Array) -> None:
@@ -141,11 +171,17 @@ def finding_columns(chunk: ChunkResult) -> tuple[pa.Array, pa.Array]:
             fired = np.flatnonzero(outcome.severity == level)
             if not len(fired):
                 continue
-            keys = np.stack([outcome.value[fired], outcome.limit[fired]], axis=1)
-            distinct, inverse = np.unique(keys, axis=0, return_inverse=True)
             name = SEVERITY_NAMES[level]
-            picks.append(len(texts) + inverse.reshape(-1))
-            texts += [outcome.describe(value, limit, name) for value, limit in distinct.tolist()]
+            pick = np.empty(len(fired), dtype=np.int64)
+            limits = outcome.limit[fired]
+            values = outcome.value[fired]
+            # Limits take a few values (one per agent at most): distinct values within each.
+            for limit in np.unique(limits).tolist():
+                same = np.isnan(limits) if math.isnan(limit) else limits == limit
+                distinct, inverse = np.unique(values[same], return_inverse=True)
+                pick[same] = len(texts) + inverse.reshape(-1)
+                texts += [outcome.describe(value, limit, name) for value in distinct.tolist()]
+            picks.append(pick)
             codes.append(np.full(len(fired), len(code_texts)))
             code_texts.append(f"{outcome.code}:{name}")
             rows.append(fired)

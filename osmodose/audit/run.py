@@ -205,34 +205,43 @@ def run_audit(
     orders = path
     spent = {"read": 0.0, "convert": 0.0, "engine": 0.0, "sinks": 0.0}
     rows = 0
-    chunks = orders.chunks(chunk_rows)
-    while True:
-        start = time.perf_counter()
-        raw = next(chunks, None)
-        after_read = time.perf_counter()
-        spent["read"] += after_read - start
-        if raw is None:
-            break
-        converted = convert(orders.header, raw, formulary)
-        after_convert = time.perf_counter()
-        result = audit_chunk(converted, raw.lines, formulary)
-        if "order-id" in orders.header:
-            result = replace(result, order_id=pc.utf8_trim_whitespace(raw.cells["order-id"].array))
-        after_engine = time.perf_counter()
-        for sink in sinks:
-            sink.add(result)
-        spent["convert"] += after_convert - after_read
-        spent["engine"] += after_engine - after_convert
-        spent["sinks"] += time.perf_counter() - after_engine
-        rows += len(raw)
-        del raw, converted, result
-        if progress is not None:
-            progress.update(orders.fraction_read(), rows)
+    try:
+        chunks = orders.chunks(chunk_rows)
+        while True:
+            start = time.perf_counter()
+            raw = next(chunks, None)
+            after_read = time.perf_counter()
+            spent["read"] += after_read - start
+            if raw is None:
+                break
+            converted = convert(orders.header, raw, formulary)
+            after_convert = time.perf_counter()
+            result = audit_chunk(converted, raw.lines, formulary)
+            if "order-id" in orders.header:
+                result = replace(result, order_id=pc.utf8_trim_whitespace(raw.cells["order-id"].array))
+            after_engine = time.perf_counter()
+            for sink in sinks:
+                sink.add(result)
+            spent["convert"] += after_convert - after_read
+            spent["engine"] += after_engine - after_convert
+            spent["sinks"] += time.perf_counter() - after_engine
+            rows += len(raw)
+            del raw, converted, result
+            if progress is not None:
+                progress.update(orders.fraction_read(), rows)
+    except BaseException:
+        for sink in sinks:  # a sink writing on a thread of its own stops before the error goes on
+            abandon = getattr(sink, "abandon", None)
+            if abandon is not None:
+                abandon()
+        raise
     header = orders.header
     if progress is not None:
         progress.finish()
+    closing = time.perf_counter()
     for sink in sinks:
         sink.close()
+    spent["sinks"] += time.perf_counter() - closing
     if timings is not None:
         timings.update(spent)
     return header
