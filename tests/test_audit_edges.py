@@ -248,3 +248,22 @@ def test_a_parquet_export_gives_the_figures_of_the_same_csv(tmp_path: Path, caps
         a.pop("row"), b.pop("row")
         assert a == b
     assert err.startswith(f"osmodose: {tmp_path / 'orders.parquet'} row 3: weight: 4000 is outside")
+
+
+class _FullDisk(io.BytesIO):
+    """A stream that takes the header, then fails like a full disk."""
+
+    def write(self, data: object) -> int:
+        if self.tell() > 0:
+            raise OSError(28, "No space left on device")
+        return super().write(data)  # type: ignore[arg-type]
+
+
+def test_an_error_writing_results_on_the_writer_thread_reaches_the_caller(tmp_path: Path) -> None:
+    from osmodose.audit.output import CsvResults
+    from osmodose.audit.run import run_audit
+    from osmodose.formulary import demo_formulary_path, load_formulary
+
+    path = write(tmp_path, orders(*(f"A{i}" for i in range(10))))
+    with pytest.raises(OSError, match="No space left"):
+        run_audit(path, load_formulary(demo_formulary_path()), [CsvResults(_FullDisk(), True)], chunk_rows=2)

@@ -16,6 +16,7 @@ from __future__ import annotations
 import contextlib
 import json
 import math
+from collections import deque
 from collections.abc import Iterator, Sequence
 from concurrent.futures import Future, ThreadPoolExecutor
 from math import isnan
@@ -82,34 +83,44 @@ class CsvResults:
 
     Lines are joined by pyarrow on whole columns and written as UTF-8 bytes;
     text columns are quoted exactly as the csv module's minimal quoting
-    would, so any CSV reader reads them back unchanged.  A chunk is formatted
-    and written on a thread of its own while the next chunk is read and
-    checked (pyarrow's kernels release the interpreter lock); at most one
-    chunk waits, so memory stays that of two chunks.
+    would, so any CSV reader reads them back unchanged.  Chunks are formatted
+    on `WORKERS` threads while the next chunk is read and checked (pyarrow's
+    kernels release the interpreter lock), and written in their order; at
+    most `WORKERS` chunks wait, so memory stays that of a few chunks.
     """
+
+    WORKERS = 2
 
     def __init__(self, stream: BinaryIO, with_order_id: bool) -> None:
         self.stream = stream
         self.with_order_id = with_order_id
-        self._worker = ThreadPoolExecutor(max_workers=1, thread_name_prefix="audit-csv")
-        self._pending: Future[None] | None = None
+        self._worker = ThreadPoolExecutor(max_workers=self.WORKERS, thread_name_prefix="audit-csv")
+        self._pending: deque[Future[None]] = deque()
         head = ["row", *(["order-id"] if with_order_id else []), "status", "reason", "agent", "tbw_method"]
         names = [*head, *(name for name, _ in FIGURES), "findings", "messages"]
         self.stream.write((",".join(names) + "\n").encode("utf-8"))
 
     def add(self, chunk: ChunkResult) -> None:
-        self._wait()
-        self._pending = self._worker.submit(self._write, chunk)
+        while len(self._pending) >= self.WORKERS:
+            self._pending.popleft().result()  # an error writing an earlier chunk surfaces here
+        before = self._pending[-1] if self._pending else None
+        self._pending.append(self._worker.submit(self._write, chunk, before))
 
     def _wait(self) -> None:
-        if self._pending is not None:
-            pending, self._pending = self._pending, None
-            pending.result()  # an error writing the previous chunk surfaces here
+        while self._pending:
+            self._pending.popleft().result()
 
-    def _write(self, chunk: ChunkResult) -> None:
+    def _write(self, chunk: ChunkResult, before: Future[None] | None) -> None:
+        lines = self._lines(chunk)
+        if before is not None:
+            before.result()  # the chunk before this one is written first
+        if lines is not None:
+            _write_strings(self.stream, lines)
+
+    def _lines(self, chunk: ChunkResult) -> pa.Array | None:
         n = len(chunk)
         if not n:
-            return
+            return None
         codes, messages = finding_columns(chunk)
         status_text = pa.array([STATUS_NAMES[s] for s in range(-1, 3)], pa.string())
         reasons = np.zeros(n, dtype=np.int64)
@@ -130,8 +141,7 @@ class CsvResults:
         columns += [float_text(chunk.figures[name]) for name, _ in FIGURES]
         # The line's end goes on its last cell: one join of the whole line, not two.
         columns += [codes, pc.binary_join_element_wise(csv_text(messages), "", "\n")]
-        lines = pc.binary_join_element_wise(*columns, ",", null_handling="replace", null_replacement="")
-        _write_strings(self.stream, lines)
+        return pc.binary_join_element_wise(*columns, ",", null_handling="replace", null_replacement="")
 
     def close(self) -> None:
         try:
@@ -142,8 +152,9 @@ class CsvResults:
 
     def abandon(self) -> None:
         """The audit stopped on an error: let the chunk being written finish, whatever became of it."""
-        with contextlib.suppress(Exception):
-            self._wait()
+        while self._pending:
+            with contextlib.suppress(Exception):
+                self._pending.popleft().result()
         self._worker.shutdown(wait=True)
 
 
