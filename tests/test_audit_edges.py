@@ -267,3 +267,14 @@ def test_an_error_writing_results_on_the_writer_thread_reaches_the_caller(tmp_pa
     path = write(tmp_path, orders(*(f"A{i}" for i in range(10))))
     with pytest.raises(OSError, match="No space left"):
         run_audit(path, load_formulary(demo_formulary_path()), [CsvResults(_FullDisk(), True)], chunk_rows=2)
+
+
+@pytest.mark.parametrize("block", [7, 64, 1 << 20])
+def test_utf8_characters_cut_by_a_block_end_are_read_whole(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch, block: int
+) -> None:
+    monkeypatch.setattr(reader, "BLOCK_BYTES", block)
+    ids = [f"Müller-€-{i}" for i in range(30)]
+    code, out, err = run(capsys, str(write(tmp_path, orders(*ids))))
+    assert (code, err) == (0, "")
+    assert [r["order-id"] for r in rows_of(out)] == ids

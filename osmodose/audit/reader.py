@@ -139,30 +139,55 @@ def _check_utf8(path: Path, pending: bytes, data: bytes, first_line: int, final:
         if not final and error.reason == "unexpected end of data" and error.start >= len(whole) - 3:
             return
         line = first_line + whole.count(b"\n", 0, error.start)
-        byte = whole[error.start]
-        raise OrdersFileError(
-            path,
-            f"line {line} is not UTF-8 text (byte 0x{byte:02x}): give the file's encoding with --encoding, "
-            "e.g. --encoding latin-1",
-        ) from None
+        raise OrdersFileError(path, _utf8_problem(line, whole[error.start])) from None
 
 
 def _check_file_utf8(path: Path) -> None:
-    """A regular file is checked whole before any row is audited, so a bad byte stops the audit before any output."""
-    line, carry = 1, b""  # the line on which `carry` starts
+    """A regular file is checked whole before any row is audited, so a bad byte stops the audit before any output.
+
+    ASCII blocks (the usual export) cost next to nothing; lines are counted only to name a bad one.
+    """
+    offset, carry = 0, b""  # the file offset at which `carry` starts
     try:
         with open(path, "rb") as handle:
             while block := handle.read(BLOCK_BYTES):
                 whole = carry + block
-                carry = b""
-                if not whole.isascii():
-                    _check_utf8(path, b"", whole, line)
-                    carry = whole[-3:]
-                line += whole.count(b"\n", 0, len(whole) - len(carry))
+                if whole.isascii():
+                    offset, carry = offset + len(whole), b""
+                    continue
+                try:
+                    whole.decode("utf-8")
+                    offset, carry = offset + len(whole), b""
+                except UnicodeDecodeError as error:
+                    if error.reason == "unexpected end of data" and error.start >= len(whole) - 3:
+                        offset, carry = offset + error.start, whole[error.start :]
+                        continue
+                    _not_utf8(path, handle, offset + error.start, whole[error.start])
     except OSError as error:
         raise OrdersFileError(path, f"cannot be read ({error.strerror})") from None
     if carry:
-        _check_utf8(path, b"", carry, line, final=True)
+        with open(path, "rb") as handle:
+            _not_utf8(path, handle, offset, carry[0])
+
+
+def _not_utf8(path: Path, handle: BinaryIO, position: int, byte: int) -> None:
+    """The error for the byte at `position`, naming its line (counted by reading the file up to it)."""
+    handle.seek(0)
+    line, left = 1, position
+    while left > 0:
+        block = handle.read(min(left, BLOCK_BYTES))
+        if not block:
+            break
+        line += block.count(b"\n")
+        left -= len(block)
+    raise OrdersFileError(path, _utf8_problem(line, byte))
+
+
+def _utf8_problem(line: int, byte: int) -> str:
+    return (
+        f"line {line} is not UTF-8 text (byte 0x{byte:02x}): give the file's encoding with --encoding, "
+        "e.g. --encoding latin-1"
+    )
 
 
 def _csv_options(names: list[str], block_size: int, quoted_newlines: bool, invalid: list[int]) -> tuple:
@@ -300,7 +325,7 @@ def _parse(
     longest = int(lengths.max()) if len(lengths) else 0
     options = _csv_options(names, max(1 << 20, 2 * longest + 2), records.quoted_newlines, invalid)
     try:
-        table = pacsv.read_csv(io.BytesIO(keep_bytes), *options) if keep_bytes.strip() else _empty(names)
+        table = pacsv.read_csv(io.BytesIO(keep_bytes), *options) if content.any() else _empty(names)
     except pa.ArrowInvalid:
         table, invalid = None, [1]
     counts = None
