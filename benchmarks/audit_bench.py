@@ -11,10 +11,11 @@ the demo formulary, about 1 row in 100 bad).  Then, in turn, A B A B ...:
 * B: `audit_floor.py`: polars reads the file, numpy computes the same 16
   figures and the worst severity, polars writes them (no checks, no text).
 
-Each run is a whole process: its wall time and its peak resident memory
-(from the operating system's accounting of that child).  The ratio A/B is
-taken pair by pair and printed as its minimum and median, with the audit's
-rows per second.  The floor's figures and statuses are compared with the
+Each run is a whole process: its wall time, CPU time and peak resident
+memory (from the operating system's accounting of that child).  The ratio
+A/B is taken pair by pair and printed as its minimum and median, with the
+audit's rows per second; the CPU-time ratio too (steadier than wall time on a
+machine other jobs share, and it counts every thread's work).  The floor's figures and statuses are compared with the
 audit's on every good row before any number is printed.  A last in-process
 run gives the audit's time by stage (read, convert, engine and rules,
 output and summary).  Not a test: the suite runs it once on a tiny N.
@@ -174,8 +175,8 @@ def floor_params(formulary: object) -> dict:
     }
 
 
-def _run(command: list[str]) -> tuple[float, float]:
-    """(wall seconds, peak resident MB) of one whole process."""
+def _run(command: list[str]) -> tuple[float, float, float]:
+    """(wall seconds, peak resident MB, CPU seconds: user + system) of one whole process."""
     start = time.perf_counter()
     child = subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
     _, status, usage = os.wait4(child.pid, 0)
@@ -184,7 +185,7 @@ def _run(command: list[str]) -> tuple[float, float]:
     error = child.stderr.read().decode() if child.stderr else ""
     if child.returncode not in (0, 1):
         raise SystemExit(f"{' '.join(command[:5])} failed ({child.returncode}): {error[-600:]}")
-    return wall, usage.ru_maxrss / 1024
+    return wall, usage.ru_maxrss / 1024, usage.ru_utime + usage.ru_stime
 
 
 def _compare(audit_csv: Path, floor_csv: Path) -> int:
@@ -251,6 +252,7 @@ def measure(n: int, runs: int, folder: Path) -> dict:
         "audit_s": [a[0] for a, _ in pairs],
         "floor_s": [b[0] for _, b in pairs],
         "ratio": [a[0] / b[0] for a, b in pairs],
+        "cpu_ratio": [a[2] / b[2] for a, b in pairs],
         "audit_mb": max(a[1] for a, _ in pairs),
         "floor_mb": max(b[1] for _, b in pairs),
         "stages": _stages(orders),
@@ -262,7 +264,7 @@ def report(results: list[dict]) -> str:
         "osmodose audit benchmark (synthetic orders, demo formulary): audit vs polars + numpy floor",
         "",
         f"{'N':>9} {'audit s min/med':>16} {'floor s min/med':>16} {'ratio min':>10} {'ratio med':>10} "
-        f"{'audit rows/s':>13} {'audit MB':>9} {'floor MB':>9}",
+        f"{'audit rows/s':>13} {'audit MB':>9} {'floor MB':>9} {'CPU ratio min/med':>18}",
     ]
     for r in results:
         med = statistics.median(r["audit_s"])
@@ -270,7 +272,8 @@ def report(results: list[dict]) -> str:
             f"{r['n']:>9} {min(r['audit_s']):>7.2f}/{med:<8.2f} "
             f"{min(r['floor_s']):>7.2f}/{statistics.median(r['floor_s']):<8.2f} "
             f"{min(r['ratio']):>10.2f} {statistics.median(r['ratio']):>10.2f} {r['n'] / med:>13,.0f} "
-            f"{r['audit_mb']:>9.0f} {r['floor_mb']:>9.0f}"
+            f"{r['audit_mb']:>9.0f} {r['floor_mb']:>9.0f} "
+            f"{min(r['cpu_ratio']):>9.2f}/{statistics.median(r['cpu_ratio']):<8.2f}"
         )
     lines += ["", "audit in-process, s: read / convert / engine+rules / output+summary (whole)"]
     for r in results:

@@ -42,8 +42,20 @@ _SAME_AS_REPR = (1e-4, 1e10)
 
 
 def float_text(values: np.ndarray) -> pa.Array:
-    """Shortest round-trip text of each figure, as Python's repr writes it; null where it cannot be computed."""
+    """Shortest round-trip text of each figure, as Python's repr writes it; null where it cannot be computed.
+
+    A column whose values repeat (volumes, bag sizes, rates) is formatted once
+    per distinct value, judged from its first values.
+    """
     values = np.asarray(values, dtype=float)
+    sample = values[:2048]
+    if len(values) > 2 * len(sample) and len(np.unique(sample)) < len(sample) // 2:
+        encoded = pc.dictionary_encode(pa.array(values, mask=np.isnan(values)))
+        return _float_text(encoded.dictionary.to_numpy(zero_copy_only=False)).take(encoded.indices)
+    return _float_text(values)
+
+
+def _float_text(values: np.ndarray) -> pa.Array:
     nan = np.isnan(values)
     text = pc.cast(pa.array(values, mask=nan), pa.string())
     size = np.abs(values)
