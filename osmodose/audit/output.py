@@ -79,10 +79,7 @@ def formulary_ref(formulary: Formulary) -> dict[str, str]:
 
 def csv_text(values: pa.Array | Sequence[str]) -> pa.Array:
     """A text column as CSV cells: formula-safe, then quoted as `csv.QUOTE_MINIMAL` would."""
-    array = values if isinstance(values, pa.Array) else pa.array(list(values), pa.string())
-    formula = pc.match_substring_regex(array, "^[=+\\-@]")
-    if pc.any(formula).as_py():
-        array = pc.if_else(formula, pc.binary_join_element_wise("'", array, ""), array)
+    array = _formula_safe(values if isinstance(values, pa.Array) else pa.array(list(values), pa.string()))
     special = pc.match_substring_regex(array, '[,"\\r\\n]')
     if pc.any(special).as_py():
         quoted = pc.binary_join_element_wise('"', pc.replace_substring(array, '"', '""'), '"', "")
@@ -133,7 +130,7 @@ class CsvResults:
         n = len(chunk)
         if not n:
             return None
-        codes, messages = finding_columns(chunk)
+        codes, messages = finding_columns(chunk, for_csv=True)
         status_text = pa.array([STATUS_NAMES[s] for s in range(-1, 3)], pa.string())
         reasons = np.zeros(n, dtype=np.int64)
         reason_list = [""]
@@ -152,7 +149,7 @@ class CsvResults:
         ]
         columns += [float_text(chunk.figures[name]) for name, _ in FIGURES]
         # The line's end goes on its last cell: one join of the whole line, not two.
-        columns += [codes, pc.binary_join_element_wise(csv_text(messages), "", "\n")]
+        columns += [codes, pc.binary_join_element_wise(messages, "", "\n")]
         return pc.binary_join_element_wise(*columns, ",", null_handling="replace", null_replacement="")
 
     def close(self) -> None:
@@ -177,11 +174,14 @@ def _write_strings(stream: BinaryIO, strings: pa.Array) -> None:
     stream.write(memoryview(data)[int(ends[0]) : int(ends[-1])])
 
 
-def finding_columns(chunk: ChunkResult) -> tuple[pa.Array, pa.Array]:
+def finding_columns(chunk: ChunkResult, for_csv: bool = False) -> tuple[pa.Array, pa.Array]:
     """Each row's "code:severity" list and message list, refusals first, then in rule order (as check lists them).
 
     A rule's message is made once per distinct (value, limit, severity); rows
-    take theirs by index, and each row's list is joined by pyarrow.
+    take theirs by index, and each row's list is joined by pyarrow.  With
+    `for_csv` the messages come as CSV cells: quotes doubled and the cell
+    quoted where a message needs it (found once per distinct message), and a
+    leading =, +, - or @ written after a '.
     """
     n = len(chunk)
     rows: list[np.ndarray] = []
@@ -214,12 +214,34 @@ def finding_columns(chunk: ChunkResult) -> tuple[pa.Array, pa.Array]:
     row = np.concatenate(rows)
     order = np.argsort(row, kind="stable")
     offsets = pa.array(np.concatenate([[0], np.cumsum(np.bincount(row, minlength=n))]).astype(np.int32))
-    message = pa.array(texts, pa.string()).take(pa.array(np.concatenate(picks)[order]))
+    picked = np.concatenate(picks)[order]
+    special = np.zeros(0, dtype=bool)
+    if for_csv:
+        special = np.fromiter((any(mark in t for mark in _SPECIAL) for t in texts), dtype=bool, count=len(texts))
+        texts = [t.replace('"', '""') if quoted else t for t, quoted in zip(texts, special.tolist(), strict=True)]
+    message = pa.array(texts, pa.string()).take(pa.array(picked))
     code = pa.array(code_texts, pa.string()).take(pa.array(np.concatenate(codes)[order]))
-    return (
-        pc.binary_join(pa.ListArray.from_arrays(offsets, code), FINDING_SEPARATOR),
-        pc.binary_join(pa.ListArray.from_arrays(offsets, message), MESSAGE_SEPARATOR),
-    )
+    joined = pc.binary_join(pa.ListArray.from_arrays(offsets, message), MESSAGE_SEPARATOR)
+    if for_csv:
+        joined = _formula_safe(joined)
+        quote = np.bincount(row[order], weights=special[picked], minlength=n) > 0
+        if quote.any():
+            mask = pa.array(quote)
+            wrapped = pc.binary_join_element_wise('"', joined.filter(mask), '"', "")
+            joined = pc.replace_with_mask(joined, mask, wrapped)
+    return pc.binary_join(pa.ListArray.from_arrays(offsets, code), FINDING_SEPARATOR), joined
+
+
+#: A CSV cell with one of these is quoted (the csv module's minimal quoting).
+_SPECIAL = (",", '"', "\n", "\r")
+
+
+def _formula_safe(array: pa.Array) -> pa.Array:
+    """Cells a spreadsheet would run as a formula (=, +, -, @ first) written after a '."""
+    formula = pc.match_substring_regex(array, "^[=+\\-@]")
+    if pc.any(formula).as_py():
+        array = pc.if_else(formula, pc.binary_join_element_wise("'", array, ""), array)
+    return array
 
 
 def row_dicts(chunk: ChunkResult) -> Iterator[dict[str, object]]:
