@@ -1,30 +1,33 @@
-"""Benchmark of `osmodose audit` against a bare-numpy floor and the row-by-row check path.
+"""Benchmark of `osmodose audit` against a polars + numpy floor computing the same figures on the same file.
 
-    python benchmarks/audit_bench.py                 # N = 10^4, 10^5, 10^6
-    python benchmarks/audit_bench.py --n 200 --check-sample 50
+    python benchmarks/audit_bench.py                    # N = 2x10^5 and 10^6, 5 runs each
+    python benchmarks/audit_bench.py --n 200 --runs 1   # a quick look
 
-For each N a child process writes a synthetic orders file (invented patients
-and orders on the demo formulary), audits it to a results CSV with the summary
-(timed by stage), records its peak resident memory, then times on the same
-canonical arrays:
+For each N a synthetic orders file is made (invented patients and orders on
+the demo formulary, about 1 row in 100 bad).  Then, in turn, A B A B ...:
 
-* the floor: the same formulas and rule thresholds in plain numpy, written
-  here only and compared with the engine's figures and statuses;
-* the engine and rules on the whole file as one batch (no chunks);
-* a bare parse: the csv module and float conversion, no validation;
-* `parse_check_request` + `run_check` on a sample of rows, extrapolated to N.
+* A: `python -m osmodose audit FILE --out results.csv` (every row checked,
+  figures, findings and their messages, the summary's counts, bad rows);
+* B: `audit_floor.py`: polars reads the file, numpy computes the same 16
+  figures and the worst severity, polars writes them (no checks, no text).
 
-Not a test: the suite only runs it once on a small N to see that it works.
+Each run is a whole process: its wall time, CPU time and peak resident
+memory (from the operating system's accounting of that child).  The ratio
+A/B is taken pair by pair and printed as its minimum and median, with the
+audit's rows per second; the CPU-time ratio too (steadier than wall time on a
+machine other jobs share, and it counts every thread's work).  The floor's figures and statuses are compared with the
+audit's on every good row before any number is printed.  A last in-process
+run gives the audit's time by stage (read, convert, engine and rules,
+output and summary).  Not a test: the suite runs it once on a tiny N.
 """
 
 from __future__ import annotations
 
 import argparse
-import contextlib
 import csv
-import gc
 import json
-import resource
+import os
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -32,24 +35,19 @@ import time
 from pathlib import Path
 
 import numpy as np
+import pyarrow as pa
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = Path(__file__).resolve().parent
+sys.path.insert(0, str(ROOT.parent))
 sys.path.insert(0, str(ROOT))
 
-from osmodose.audit.columns import check_fields  # noqa: E402
-from osmodose.audit.convert import convert  # noqa: E402
-from osmodose.audit.output import CsvResults  # noqa: E402
-from osmodose.audit.reader import open_orders  # noqa: E402
-from osmodose.audit.run import run_audit  # noqa: E402
-from osmodose.audit.summary import Summary  # noqa: E402
-from osmodose.case.inputs import parse_check_request  # noqa: E402
-from osmodose.check.engine import compute  # noqa: E402
-from osmodose.check.rules import apply_rules  # noqa: E402
-from osmodose.check.run import run_check  # noqa: E402
-from osmodose.errors import InputError  # noqa: E402
+from audit_floor import FIGURES, floor_tbw  # noqa: E402
+
 from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
 from osmodose.science import formulas  # noqa: E402
-from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT, WEIGHT_FOR_AGE  # noqa: E402
+from osmodose.science.chemistry import MOLAR_MASS_G_PER_MOL  # noqa: E402
+
+__all__ = ["floor_params", "floor_tbw", "main", "make_orders"]
 
 HEADER = [
     "order-id",
@@ -130,373 +128,182 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
         writer.writerows(zip(*columns, strict=True))
 
 
-def floor_tbw(
-    w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, settings: object
-) -> np.ndarray:
-    """Total body water in plain numpy, with the fractions and Watson coefficients of `osmodose.science.formulas`."""
-    return floor_tbw_both(w, age, h, male, use_watson, settings)[0]
+_CONSTANTS = (
+    "TBW_FRACTION_CHILD",
+    "TBW_FRACTION_MAN",
+    "TBW_FRACTION_WOMAN",
+    "TBW_FRACTION_ELDERLY_MAN",
+    "TBW_FRACTION_ELDERLY_WOMAN",
+    "WATSON_MAN_INTERCEPT",
+    "WATSON_MAN_AGE",
+    "WATSON_MAN_HEIGHT",
+    "WATSON_MAN_WEIGHT",
+    "WATSON_WOMAN_INTERCEPT",
+    "WATSON_WOMAN_HEIGHT",
+    "WATSON_WOMAN_WEIGHT",
+)
 
 
-def floor_tbw_both(
-    w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, settings: object
-) -> tuple[np.ndarray, np.ndarray]:
-    """(TBW used, the other method's TBW or NaN), as `engine.tbw_estimates` gives them."""
-    elderly = age >= settings.elderly_age_years
-    man = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_MAN, formulas.TBW_FRACTION_MAN)
-    woman = np.where(elderly, formulas.TBW_FRACTION_ELDERLY_WOMAN, formulas.TBW_FRACTION_WOMAN)
-    child = np.where(age < settings.infant_age_years, settings.tbw_fraction_infant, settings.tbw_fraction_child)
-    fraction = np.where(age < settings.adult_age_years, child, np.where(male, man, woman))
-    men = (
-        formulas.WATSON_MAN_INTERCEPT
-        - formulas.WATSON_MAN_AGE * age
-        + formulas.WATSON_MAN_HEIGHT * h
-        + formulas.WATSON_MAN_WEIGHT * w
-    )
-    women = formulas.WATSON_WOMAN_INTERCEPT + formulas.WATSON_WOMAN_HEIGHT * h + formulas.WATSON_WOMAN_WEIGHT * w
-    watson = np.where(male, men, women)
-    low, high = TBW_SHARE_OF_WEIGHT
-    fits = (age >= settings.adult_age_years) & (watson / w >= low) & (watson / w <= high)
-    other = np.where(use_watson, w * fraction, np.where(fits, watson, np.nan))
-    return np.where(use_watson, watson, w * fraction), other
-
-
-def floor_range_high(
-    na: np.ndarray,
-    cations: np.ndarray,
-    litres: np.ndarray,
-    tbw: np.ndarray,
-    other: np.ndarray,
-    w: np.ndarray,
-    male: np.ndarray,
-    v: dict,
-) -> np.ndarray:
-    """The high end of the projected range (`engine.projection_range`), no urine, in plain numpy."""
-    see = np.where(male, formulas.WATSON_SEE_MAN_L, formulas.WATSON_SEE_WOMAN_L)
-    share_low, share_high = TBW_SHARE_OF_WEIGHT
-    low = np.fmin(np.maximum(np.fmin(tbw, other) - see, share_low * w), tbw)
-    high = np.fmax(np.minimum(np.fmax(tbw, other) + see, share_high * w), tbw)
-    error = v["projection_sodium_error"]
-    corners = [
-        (na + sign * error) + litres * (cations - (na + sign * error)) / (t + litres)
-        for sign in (-1.0, 1.0)
-        for t in (low, high)
-    ]
-    top = np.maximum.reduce(corners)
-    projected = na + litres * (cations - na) / (tbw + litres)
-    rise = projected - na
-    widened = (rise > 0) & (na < v["sodium_rise_applies_below"] * (1 - 1e-9))
-    top = np.where(widened, np.fmax(top, na + v["projection_rise_underprediction"] / 100 * rise), top)
-    return np.fmax(top, projected)
-
-
-def floor(a: dict[str, np.ndarray], agents: tuple, settings: object, limits: object) -> dict[str, np.ndarray]:
-    """The engine's formulas and the rules' thresholds in plain numpy: the speed floor."""
-    idx = a["agent_index"]
-    has = idx >= 0
-    safe = np.where(has, idx, len(agents))
-
-    def table(values: list[float]) -> np.ndarray:
-        return np.asarray([*values, np.nan], dtype=float)[safe]
-
-    g_l = table([np.nan if x.solute_g_per_l is None else x.solute_g_per_l for x in agents])
-    na_l = table([x.sodium_mmol_l for x in agents])
-    osm_l = table([x.osmolarity_mosm_l for x in agents])
-    cations = table([x.cations_mmol_l if x.projects_sodium else np.nan for x in agents])
-    mannitol = table([1.0 if x.solute == "mannitol" else 0.0 for x in agents]) == 1
-    central = table([1.0 if x.central_only else 0.0 for x in agents]) == 1
-    projects = table([1.0 if x.projects_sodium else 0.0 for x in agents]) == 1
-    no_max_rate = table([1.0 if x.max_rate_ml_h is None else 0.0 for x in agents]) == 1
-    adult_only = table([1.0 if x.adult_only else 0.0 for x in agents]) == 1
-    w, age, h, male, na = a["weight"], a["age"], a["height"], a["male"] == 1, a["sodium"]
-    tbw, other_tbw = floor_tbw_both(w, age, h, male, a["use_watson"], settings)
-    calc = 2 * na + a["glucose"] + a["urea"] + np.nan_to_num(a["ethanol"])
-    gap = a["osmolality"] - calc
-    amount = np.where(a["per_kg"], a["amount"] * w, a["amount"])
-    unit = a["unit_code"]
-    gapc = cations - na
-    r = a["amount"]
-    reach = (r != 0) & (np.sign(gapc) == np.sign(r)) & (np.abs(gapc) > np.abs(r))
-    volume = np.select(
-        [unit == 2, unit == 1, unit == 3, unit == 4, unit == 5],
-        [
-            amount,
-            amount / g_l * 1000,
-            amount / np.where(na_l > 0, na_l, np.nan) * 1000,
-            amount / np.where(osm_l > 0, osm_l, np.nan) * 1000,
-            np.where(reach, r * tbw / (gapc - r), np.nan) * 1000,
-        ],
-        default=np.nan,
-    )
-    volume = np.where(has, volume, np.nan)
-    litres = volume / 1000
-    out = {
-        "tbw_l": tbw,
-        "calculated_osmolality": calc,
-        "osmolar_gap": gap,
-        "volume_ml": volume,
-        "solute_g_per_kg": litres * g_l / w,
-        "volume_ml_per_kg": volume / w,
-        "sodium_mmol_per_kg": litres * na_l / w,
-        "osmoles_mosm_per_kg": litres * osm_l / w,
-        "rate_ml_h": volume / np.where(a["duration"] > 0, a["duration"], np.nan) * 60,
-    }
-    projected = na + litres * (cations - na) / (tbw + litres)
-    rise = projected - na
-    out["projected_sodium"] = projected
-    osmolality = np.where(np.isnan(a["osmolality"]), calc, a["osmolality"])
-    lowering = rise < 0
-    v = limits.values
-
-    def sev(value: np.ndarray, warn: float | np.ndarray, refuse: float | np.ndarray) -> np.ndarray:
-        # Limits are positive; within 1e-9 (relative) of a limit is at it (rules.LIMIT_RELATIVE_TOLERANCE).
-        return np.where(value > refuse * (1 + 1e-9), 2, np.where(value > warn * (1 + 1e-9), 1, 0))
-
-    def below(value: np.ndarray, warn: float, refuse: float) -> np.ndarray:
-        # A lower limit: past it from below (same tolerance, mirrored).
-        return np.where(value < refuse * (1 - 1e-9), 2, np.where(value < warn * (1 - 1e-9), 1, 0))
-
-    with np.errstate(invalid="ignore"):
-        high_risk = (na <= 105) | (a["potassium"] < 3.5)
-    rise_refuse = np.where(
-        high_risk, min(v["sodium_rise_24h_refuse"], v["sodium_rise_24h_high_risk_refuse"]), v["sodium_rise_24h_refuse"]
-    )
-    worst = np.where(lowering, 0, sev(na, v["sodium_warn"], v["sodium_refuse"]))
-    worst = np.maximum(worst, np.where(has & ~lowering, sev(projected, v["sodium_warn"], v["sodium_refuse"]), 0))
-    worst = np.maximum(
-        worst, np.where(has & lowering, below(projected, v["sodium_low_warn"], v["sodium_low_refuse"]), 0)
-    )
-    osm_judged = mannitol | ~has
-    worst = np.maximum(worst, np.where(osm_judged, sev(osmolality, v["osmolality_warn"], v["osmolality_refuse"]), 0))
-    worst = np.maximum(worst, np.where(mannitol, sev(gap, v["osmolar_gap_warn"], v["osmolar_gap_refuse"]), 0))
-    worst = np.maximum(worst, np.where(gap < -v["osmolar_gap_negative_warn"] * (1 + 1e-9), 1, 0))
-    worst = np.maximum(worst, np.where(mannitol & np.isnan(osmolality), 1, 0))
-    rise_judged = has & (na < v["sodium_rise_applies_below"])
-    worst = np.maximum(worst, np.where(rise_judged, sev(rise, v["sodium_rise_24h_warn"], rise_refuse), 0))
-    out["projected_sodium_high"] = floor_range_high(na, cations, litres, tbw, other_tbw, w, male, v)
-    rise_high = out["projected_sodium_high"] - na
-    range_judged = rise_judged & ~(rise > rise_refuse * (1 + 1e-9))
-    worst = np.maximum(worst, np.where(range_judged & (rise_high > rise_refuse * (1 + 1e-9)), 1, 0))
-    worst = np.maximum(worst, np.where(has, sev(-rise, v["sodium_fall_24h_warn"], v["sodium_fall_24h_refuse"]), 0))
-    for kind, figure in (("g/kg", "solute_g_per_kg"), ("mL/kg", "volume_ml_per_kg"), ("mmol/kg", "sodium_mmol_per_kg")):
-        warn = table([d.value if (d := x.dose_warn) and d.kind == kind else np.inf for x in agents])
-        refuse = table([d.value if (d := x.dose_refuse) and d.kind == kind else np.inf for x in agents])
-        worst = np.maximum(worst, sev(out[figure], warn, refuse))
-    max_rate = table([np.nan if x.max_rate_ml_h is None else x.max_rate_ml_h for x in agents])
-    worst = np.maximum(worst, np.where(out["rate_ml_h"] > max_rate * (1 + 1e-9), 2, 0))
-    peripheral = a["line"] == "peripheral"
-    worst = np.maximum(worst, np.where(peripheral & central, 2, 0))
-    over = osm_l > v["peripheral_osmolarity_warn"] * (1 + 1e-9)
-    worst = np.maximum(worst, np.where(peripheral & ~central & over, 1, 0))
-    # The patient and lab rules (osmodose.check.patient_rules).
-    worst = np.maximum(worst, np.where(w < WEIGHT_FOR_AGE.low(age) * (1 - 1e-9), 2, 0))
-    worst = np.maximum(worst, np.where(w > WEIGHT_FOR_AGE.high(age) * (1 + 1e-9), 2, 0))
-    worst = np.maximum(worst, np.where(na < v["hyponatraemia_moderate_warn"] * (1 - 1e-9), 1, 0))
-    worst = np.maximum(worst, np.where(a["potassium"] < v["hypokalaemia_severe_warn"] * (1 - 1e-9), 1, 0))
-    worst = np.maximum(worst, np.where(~mannitol & (gap > v["osmolar_gap_unexplained_warn"] * (1 + 1e-9)), 1, 0))
-    effective = 2 * na + a["glucose"]
-    not_hypotonic = effective >= v["hypotonic_effective_osmolality_below"] * (1 - 1e-9)
-    hyponatraemic = na < v["sodium_rise_applies_below"] * (1 - 1e-9)
-    worst = np.maximum(worst, np.where(has & (rise > 0) & hyponatraemic & not_hypotonic, 1, 0))
-    osmolar_rate = out["osmoles_mosm_per_kg"] / np.where(a["duration"] > 0, a["duration"], np.nan)
-    hypertonic = osm_l > v["osmolar_rate_applies_above"] * (1 + 1e-9)
-    default_rate = has & no_max_rate & hypertonic
-    worst = np.maximum(
-        worst, np.where(default_rate, sev(osmolar_rate, v["osmolar_rate_warn"], v["osmolar_rate_refuse"]), 0)
-    )
-    adult = age >= settings.adult_age_years
-    bmi = w / (h / 100) ** 2
-    obese = bmi >= v["bmi_obese_from"] * (1 - 1e-9)
-    worst = np.maximum(worst, np.where(has & projects & adult & ~a["use_watson"] & obese, 1, 0))
-    worst = np.maximum(worst, np.where(has & adult_only & ~adult, 2, 0))
-    out["status"] = worst
-    return out
-
-
-def _rss_mb() -> float:
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # Linux: kB
-
-
-def _bare_parse(path: Path) -> float:
-    """csv rows -> float columns (Python's float(), the fastest stdlib way), nothing checked."""
-    start = time.perf_counter()
-    numbers = ("weight", "age", "height", "sodium", "potassium", "glucose", "urea", "osmolality")
-    numbers += ("volume", "target-rise", "duration")
-    numeric = [i for i, name in enumerate(HEADER) if name.split("[")[0] in numbers]
-    nan = float("nan")
-    gc.disable()
-    with open(path, newline="", encoding="utf-8") as handle:
-        reader = csv.reader(handle)
-        next(reader)
-        while True:
-            rows = [row for _, row in zip(range(50_000), reader, strict=False)]
-            if not rows:
-                break
-            columns = list(zip(*rows, strict=True))
-            for i in numeric:
-                np.fromiter((float(c) if c else nan for c in columns[i]), dtype=float, count=len(rows))
-    gc.enable()
-    return time.perf_counter() - start
-
-
-def measure(orders: Path, n: int, check_sample: int) -> dict[str, float]:
-    """Everything for one N (run in a child process so peak memory is this N's alone)."""
-    formulary = load_formulary(demo_formulary_path())
-    base_rss = _rss_mb()
-    with tempfile.TemporaryDirectory() as folder:
-        timings: dict[str, float] = {}
-        start = time.perf_counter()
-        with open(Path(folder) / "results.csv", "w", newline="", encoding="utf-8") as out:
-            run_audit(orders, formulary, [CsvResults(out, True), Summary(formulary, str(orders))], timings=timings)
-        whole = time.perf_counter() - start
-        peak_rss = _rss_mb()
-
-        # The same canonical arrays the audit made, for the whole file at once.
-        parts = []
-        with open_orders(orders) as handle:
-            header = handle.header
-            for raw in handle.chunks(50_000):
-                parts.append(convert(header, raw, formulary))
-        good = np.concatenate([p.good() for p in parts])
-        cols = {k: np.concatenate([p.columns[k] for p in parts])[good] for k in parts[0].columns}
-        arrays = {
-            **cols,
-            "agent_index": np.concatenate([p.agent_index for p in parts])[good],
-            "amount": np.concatenate([p.dose_amount for p in parts])[good],
-            "per_kg": np.concatenate([p.dose_per_kg for p in parts])[good],
-            "use_watson": np.concatenate([p.use_watson for p in parts])[good],
-            "line": np.concatenate([p.line for p in parts])[good],
+def floor_params(formulary: object) -> dict:
+    """What the floor needs, as plain numbers: agents, limits, settings, and the constants of formulas.py."""
+    agents = []
+    for x in formulary.agents:  # type: ignore[attr-defined]
+        item = {
+            "id": x.id,
+            "solute_g_per_l": x.solute_g_per_l,
+            "sodium_mmol_l": x.sodium_mmol_l,
+            "osmolarity_mosm_l": x.osmolarity_mosm_l,
+            "cations_mmol_l": x.cations_mmol_l if x.projects_sodium else None,
+            "mannitol": 1.0 if x.solute == "mannitol" else 0.0,
+            "central": 1.0 if x.route == "central" else 0.0,
+            "max_rate_ml_h": x.max_rate_ml_h,
         }
-        arrays["unit_code"] = np.concatenate([p.dose_unit_code for p in parts])[good]
-        whole_cases = _merged_cases(parts, good)
-        line = arrays["line"]
+        for key in ("dose_warn", "dose_refuse"):
+            limit = getattr(x, key)
+            for kind in ("g/kg", "mL/kg", "mmol/kg"):
+                item[f"{key} {kind}"] = limit.value if limit is not None and limit.kind == kind else None
+        agents.append(item)
+    settings = formulary.settings  # type: ignore[attr-defined]
+    return {
+        "agents": agents,
+        "limits": formulary.limits.values,  # type: ignore[attr-defined]
+        "elderly_age_years": settings.elderly_age_years,
+        "adult_age_years": settings.adult_age_years,
+        "tbw_method": settings.tbw_method,
+        "glucose_g_per_mol": MOLAR_MASS_G_PER_MOL["glucose"],
+        "constants": {name: getattr(formulas, name) for name in _CONSTANTS},
+    }
 
-        with np.errstate(all="ignore"):
-            best_floor = min(_timed(lambda: floor(arrays, formulary.agents, formulary.settings, formulary.limits)))
-            fl = floor(arrays, formulary.agents, formulary.settings, formulary.limits)
 
-            def engine() -> list:
-                figures = compute(whole_cases, formulary.agents, formulary.settings, formulary.limits)
-                return [figures, apply_rules(whole_cases, figures, formulary.agents, formulary.limits, line)]
+def _run(command: list[str]) -> tuple[float, float, float]:
+    """(wall seconds, peak resident MB, CPU seconds: user + system) of one whole process."""
+    start = time.perf_counter()
+    child = subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    _, status, usage = os.wait4(child.pid, 0)
+    wall = time.perf_counter() - start
+    child.returncode = os.waitstatus_to_exitcode(status)
+    error = child.stderr.read().decode() if child.stderr else ""
+    if child.returncode not in (0, 1):
+        raise SystemExit(f"{' '.join(command[:5])} failed ({child.returncode}): {error[-600:]}")
+    return wall, usage.ru_maxrss / 1024, usage.ru_utime + usage.ru_stime
 
-            best_engine = min(_timed(engine))
-            figures, outcomes = engine()
-        status = np.zeros(len(line), dtype=int)
-        for o in outcomes:
-            status = np.maximum(status, o.severity)
-        compared = ("tbw_l", "calculated_osmolality", "osmolar_gap", "volume_ml", "projected_sodium", "rate_ml_h")
-        for name in (*compared, "projected_sodium_high"):
-            assert np.allclose(fl[name], getattr(figures, name), rtol=1e-9, equal_nan=True), name
-        assert np.array_equal(fl["status"], status), "floor and engine disagree on a status"
-        bare = _bare_parse(orders)
 
-        sample = []
-        with open(orders, newline="", encoding="utf-8") as handle:
-            reader = csv.reader(handle)
-            next(reader)
-            for _, row in zip(range(check_sample), reader, strict=False):
-                sample.append(check_fields(header, row))
-        start = time.perf_counter()
-        for fields in sample:
-            with contextlib.suppress(InputError):
-                run_check(parse_check_request(fields), formulary)
-        per_check = (time.perf_counter() - start) / len(sample)
+def _compare(audit_csv: Path, floor_csv: Path) -> int:
+    """The floor's figures and statuses against the audit's, on every row the audit could audit."""
+    import pyarrow.csv as pacsv  # noqa: PLC0415
+
+    names = [name for name, _ in FIGURES]
+    types = {name: pa.float64() for name in names}
+    mine = pacsv.read_csv(audit_csv, convert_options=pacsv.ConvertOptions(column_types=types))
+    theirs = pacsv.read_csv(floor_csv, convert_options=pacsv.ConvertOptions(column_types=types))
+    status = np.asarray(mine.column("status").to_pylist())
+    good = status != "error"
+    levels = np.select([status == "warn", status == "refuse"], [1, 2], 0)
+    assert np.array_equal(levels[good], theirs.column("status").to_numpy()[good]), "the floor's statuses differ"
+    for name in names:
+        x = mine.column(name).to_numpy(zero_copy_only=False)[good].astype(float)
+        y = theirs.column(name).to_numpy(zero_copy_only=False)[good].astype(float)
+        assert np.allclose(x, y, rtol=1e-9, equal_nan=True), f"the floor's {name} differs"
+    return int(good.sum())
+
+
+def _stages(orders: Path) -> dict[str, float]:
+    """The audit's seconds by stage, in a child process of its own."""
+    code = (
+        "import json, sys, tempfile, time\n"
+        "from pathlib import Path\n"
+        "from osmodose.audit.run import run_audit\n"
+        "from osmodose.audit.output import CsvResults\n"
+        "from osmodose.audit.summary import Summary\n"
+        "from osmodose.formulary import demo_formulary_path, load_formulary\n"
+        "f = load_formulary(demo_formulary_path()); t = {}\n"
+        "with tempfile.TemporaryDirectory() as d, open(Path(d) / 'r.csv', 'wb') as out:\n"
+        "    s = time.perf_counter()\n"
+        f"    run_audit({str(orders)!r}, f, [CsvResults(out, True), Summary(f, 'x')], timings=t)\n"
+        "    t['whole'] = time.perf_counter() - s\n"
+        "print(json.dumps(t))\n"
+    )
+    env = dict(os.environ, PYTHONPATH=str(ROOT.parent))
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, env=env)
+    return json.loads(done.stdout)
+
+
+def _child(*args: str) -> str:
+    """Run this script in a child process: the parent stays small, and a child forked from it
+    starts its peak-memory count (kept across exec by Linux) from the parent's size."""
+    done = subprocess.run([sys.executable, __file__, *args], capture_output=True, text=True, check=True)
+    return done.stdout
+
+
+def measure(n: int, runs: int, folder: Path) -> dict:
+    orders, params = folder / f"orders-{n}.csv", folder / "params.json"
+    _child("--make", str(n), "--file", str(orders))
+    params.write_text(json.dumps(floor_params(load_formulary(demo_formulary_path()))), encoding="utf-8")
+    audit_out, floor_out = folder / "audit.csv", folder / "floor.csv"
+    audit = [sys.executable, "-m", "osmodose", "audit", str(orders), "--out", str(audit_out), "--force"]
+    bare = [sys.executable, str(ROOT / "audit_floor.py"), str(orders), str(params), str(floor_out)]
+    _run(audit), _run(bare)  # warm-up: the OS file cache, pint's registry cache
+    checked = int(_child("--compare", str(audit_out), str(floor_out)))
+    pairs = [(_run(audit), _run(bare)) for _ in range(runs)]
     return {
         "n": n,
-        "whole_s": whole,
-        **{f"{k}_s": v for k, v in timings.items()},
-        "engine_one_batch_s": best_engine,
-        "floor_s": best_floor,
-        "bare_parse_s": bare,
-        "check_per_row_s": per_check,
-        "rss_base_mb": base_rss,
-        "rss_peak_mb": peak_rss,
+        "rows_checked": checked,
         "file_mb": orders.stat().st_size / 1e6,
+        "audit_s": [a[0] for a, _ in pairs],
+        "floor_s": [b[0] for _, b in pairs],
+        "ratio": [a[0] / b[0] for a, b in pairs],
+        "cpu_ratio": [a[2] / b[2] for a, b in pairs],
+        "audit_mb": max(a[1] for a, _ in pairs),
+        "floor_mb": max(b[1] for _, b in pairs),
+        "stages": _stages(orders),
     }
 
 
-def _merged_cases(parts: list, good: np.ndarray) -> object:
-    """One Cases for the whole file (the engine as a single batch)."""
-    from osmodose.audit.convert import Converted  # noqa: PLC0415
-
-    merged = Converted(
-        reasons={},
-        columns={k: np.concatenate([p.columns[k] for p in parts]) for k in parts[0].columns},
-        agent_text=np.concatenate([p.agent_text for p in parts]),
-        agent_index=np.concatenate([p.agent_index for p in parts]),
-        mode=np.concatenate([p.mode for p in parts]),
-        dose_unit=np.concatenate([p.dose_unit for p in parts]),
-        dose_unit_code=np.concatenate([p.dose_unit_code for p in parts]),
-        dose_amount=np.concatenate([p.dose_amount for p in parts]),
-        dose_per_kg=np.concatenate([p.dose_per_kg for p in parts]),
-        shown=lambda _name, _row: "",
-        use_watson=np.concatenate([p.use_watson for p in parts]),
-        line=np.concatenate([p.line for p in parts]),
-    )
-    return merged.cases(np.flatnonzero(good))
-
-
-def _timed(work: object, repeats: int = 3) -> list[float]:
-    out = []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        work()  # type: ignore[operator]
-        out.append(time.perf_counter() - start)
-    return out
-
-
-def report(results: list[dict[str, float]]) -> str:
+def report(results: list[dict]) -> str:
     lines = [
-        "osmodose audit benchmark (synthetic orders, demo formulary)",
+        "osmodose audit benchmark (synthetic orders, demo formulary): audit vs polars + numpy floor",
         "",
-        f"{'N':>9} {'audit µs/row':>13} {'engine µs/row':>14} {'floor µs/row':>13} "
-        f"{'engine/floor':>13} {'1-batch/floor':>14} {'audit/floor':>12} {'audit/(parse+floor)':>20} "
-        f"{'check µs/row':>13} {'check/audit':>12} {'peak RSS MB':>12}",
+        f"{'N':>9} {'audit s min/med':>16} {'floor s min/med':>16} {'ratio min':>10} {'ratio med':>10} "
+        f"{'audit rows/s':>13} {'audit MB':>9} {'floor MB':>9} {'CPU ratio min/med':>18}",
     ]
     for r in results:
-        n = r["n"]
-        us = 1e6 / n
+        med = statistics.median(r["audit_s"])
         lines.append(
-            f"{n:>9} {r['whole_s'] * us:>13.2f} {r['engine_s'] * us:>14.3f} {r['floor_s'] * us:>13.3f} "
-            f"{r['engine_s'] / r['floor_s']:>13.2f} {r['engine_one_batch_s'] / r['floor_s']:>14.2f} "
-            f"{r['whole_s'] / r['floor_s']:>12.1f} {r['whole_s'] / (r['bare_parse_s'] + r['floor_s']):>20.2f} "
-            f"{r['check_per_row_s'] * 1e6:>13.0f} {r['check_per_row_s'] * n / r['whole_s']:>12.0f} "
-            f"{r['rss_peak_mb']:>12.0f}"
+            f"{r['n']:>9} {min(r['audit_s']):>7.2f}/{med:<8.2f} "
+            f"{min(r['floor_s']):>7.2f}/{statistics.median(r['floor_s']):<8.2f} "
+            f"{min(r['ratio']):>10.2f} {statistics.median(r['ratio']):>10.2f} {r['n'] / med:>13,.0f} "
+            f"{r['audit_mb']:>9.0f} {r['floor_mb']:>9.0f} "
+            f"{min(r['cpu_ratio']):>9.2f}/{statistics.median(r['cpu_ratio']):<8.2f}"
         )
-    lines += ["", "audit time by stage (s): read / convert / engine+rules / output+summary, and bare parse"]
+    lines += ["", "audit in-process, s: read / convert / engine+rules / output+summary (whole)"]
     for r in results:
+        t = r["stages"]
         lines.append(
-            f"{r['n']:>9}  {r['read_s']:.2f} / {r['convert_s']:.2f} / {r['engine_s']:.2f} / {r['sinks_s']:.2f}"
-            f"   bare parse {r['bare_parse_s']:.2f}   whole {r['whole_s']:.2f}"
-            f"   file {r['file_mb']:.0f} MB; RSS after imports {r['rss_base_mb']:.0f} MB,"
-            f" audit peak {r['rss_peak_mb']:.0f} MB"
+            f"{r['n']:>9}  {t['read']:.2f} / {t['convert']:.2f} / {t['engine']:.2f} / {t['sinks']:.2f}"
+            f"  ({t['whole']:.2f});  file {r['file_mb']:.0f} MB, floor figures equal on {r['rows_checked']:,} rows"
         )
     return "\n".join(lines)
 
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--n", type=int, nargs="*", default=[10**4, 10**5, 10**6])
-    parser.add_argument("--check-sample", type=int, default=2000)
-    parser.add_argument("--make", type=int, help=argparse.SUPPRESS)
-    parser.add_argument("--one", type=int, help=argparse.SUPPRESS)
-    parser.add_argument("--file", type=Path, help=argparse.SUPPRESS)
+    parser.add_argument("--n", type=int, nargs="*", default=[200_000, 1_000_000])
+    parser.add_argument("--runs", type=int, default=5, help="counted runs of each program per N (default 5)")
     parser.add_argument("--json", action="store_true", help="print the raw numbers as JSON too")
+    parser.add_argument("--make", type=int, help=argparse.SUPPRESS)
+    parser.add_argument("--file", type=Path, help=argparse.SUPPRESS)
+    parser.add_argument("--compare", nargs=2, type=Path, help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
     if args.make is not None:
         make_orders(args.file, args.make)
         return 0
-    if args.one is not None:
-        print(json.dumps(measure(args.file, args.one, min(args.check_sample, args.one))))
+    if args.compare is not None:
+        print(_compare(*args.compare))
         return 0
     results = []
     with tempfile.TemporaryDirectory() as folder:
         for n in args.n:
-            orders = Path(folder) / f"orders-{n}.csv"
-            subprocess.run([sys.executable, __file__, "--make", str(n), "--file", str(orders)], check=True)
-            child = [sys.executable, __file__, "--one", str(n), "--check-sample", str(args.check_sample)]
-            done = subprocess.run([*child, "--file", str(orders)], capture_output=True, text=True, check=True)
-            results.append(json.loads(done.stdout.strip().splitlines()[-1]))
-            orders.unlink()
+            results.append(measure(n, args.runs, Path(folder)))
     print(report(results))
     if args.json:
         print(json.dumps(results, indent=1))

@@ -285,21 +285,29 @@ def test_out_over_an_existing_file_needs_force(tmp_path: Path, capsys: pytest.Ca
 
 @pytest.mark.parametrize("name", ["results.csv", "results.json"])
 def test_an_orders_file_unreadable_partway_leaves_no_results_file(
-    tmp_path: Path, capsys: pytest.CaptureFixture[str], name: str
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch, name: str
 ) -> None:
-    # Row 2 is fine; the cell of row 3 is longer than the csv module reads (131072 characters).
-    path = write(tmp_path, "weight,age,sex,sodium\n70,40,male,140\n70,40,male," + "1" * 200_000 + "\n")
+    # Orders on standard input, read a small block at a time: rows 2-41 are fine, line 42 is not UTF-8.
+    from osmodose.audit import reader
+
+    monkeypatch.setattr(reader, "BLOCK_BYTES", 64)
+    data = ("weight,age,sex,sodium\n" + "70,40,male,140\n" * 40).encode() + "70,40,mäle,140\n".encode("latin-1")
+
+    def stdin() -> io.TextIOWrapper:
+        return io.TextIOWrapper(io.BytesIO(data))
+
+    monkeypatch.setattr("sys.stdin", stdin())
     target = tmp_path / name
-    assert run(capsys, str(path), "--out", str(target)) == (
-        2,
-        "",
-        f"osmodose: orders {path}: line 3 cannot be read as CSV (field larger than field limit (131072))\n",
+    expected = (
+        "line 42 is not UTF-8 text (byte 0xe4): give the file's encoding with --encoding, e.g. --encoding latin-1"
     )
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["orders.csv"]  # nothing half-written, no leftovers
+    assert run(capsys, "-", "--out", str(target)) == (2, "", f"osmodose: orders <stdin>: {expected}\n")
+    assert list(tmp_path.iterdir()) == []  # nothing half-written, no leftovers
     old = write(tmp_path, "last month's results\n", name)
-    assert run(capsys, str(path), "--out", str(target), "--force")[0] == 2
+    monkeypatch.setattr("sys.stdin", stdin())
+    assert run(capsys, "-", "--out", str(target), "--force")[0] == 2
     assert old.read_text(encoding="utf-8") == "last month's results\n"  # an older file stays as it was
-    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(["orders.csv", name])
+    assert [p.name for p in tmp_path.iterdir()] == [name]
 
 
 def test_an_infinite_cell_is_not_a_finite_number_as_in_check(

@@ -215,9 +215,9 @@ def audit_rows(header: list[str], rows: list[list[str]], chunk_rows: int = 3) ->
             def close(self) -> None:
                 pass
 
-        text = io.StringIO()
-        run_audit(path, DEMO, [Collect(), CsvResults(text, with_order_id=False)], chunk_rows=chunk_rows)
-    _csv_matches_json(text.getvalue(), out)
+        written = io.BytesIO()
+        run_audit(path, DEMO, [Collect(), CsvResults(written, with_order_id=False)], chunk_rows=chunk_rows)
+    _csv_matches_json(written.getvalue().decode("utf-8"), out)
     return out
 
 

@@ -16,7 +16,7 @@ def test_row_numbers_are_file_lines_with_blank_lines_and_quoted_newlines(tmp_pat
         assert list(orders.header.columns) == ["order-id", "weight", "age", "sex", "sodium"]
         chunks = list(orders.chunks(1))
     assert [c.lines.tolist() for c in chunks] == [[2], [5]]  # "A\nB" starts on line 2; line 4 is blank
-    assert chunks[0].cells["order-id"] == ("A\nB",)
+    assert list(chunks[0].cells["order-id"]) == ["A\nB"]
 
 
 def test_chunk_size_does_not_change_any_row() -> None:

@@ -1,9 +1,12 @@
 """The cells of one chunk, read as `osmodose check` reads typed text.
 
 A cell is shown to messages as check would have been typed it (the cell,
-then the header's unit); number columns are read in one pass when their cells
-are plain numbers, and cell by cell through `parse_quantity` otherwise, then
-converted on the whole column with the header's unit and the molar masses.
+then the header's unit).  Number columns are read per column: pyarrow finds
+the plain numbers with one regular expression and converts them in C++
+(correctly rounded, as Python's float() is); only the other cells ("70kg",
+"1,5", "nan") are read one by one, through `parse_quantity` as check reads
+them.  Each column is then converted whole with the header's unit and the
+molar masses.  Text columns are dictionary-encoded: a few distinct values.
 """
 
 from __future__ import annotations
@@ -13,19 +16,25 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from osmodose.audit.columns import ORDER_COLUMNS, Header
-from osmodose.audit.reader import RawChunk
+from osmodose.audit.reader import RawChunk, TextColumn
 from osmodose.case.fields import FIELDS, conversion
 from osmodose.errors import InputError
 from osmodose.science.units import parse_quantity
 
-#: Characters float() accepts that a plain number never has ("1_000", "nan", "inf", "Infinity").
-_NOT_PLAIN = ("_", "n", "N", "i", "I")
+#: A plain number, as float() reads it less "1_000", "nan" and "inf" (spaces around it allowed).
+_PLAIN = r"^\s*[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?\s*$"
 
 
 def encode(cells: Sequence[str]) -> tuple[np.ndarray, list[str]]:
     """Codes into the list of distinct stripped cells: text columns repeat a few values."""
+    if isinstance(cells, TextColumn):
+        encoded = pc.dictionary_encode(cells.array)
+        codes = encoded.indices.to_numpy(zero_copy_only=False).astype(np.int64)
+        return codes, [c.strip() for c in encoded.dictionary.to_pylist()]
     ids = {c: i for i, c in enumerate(set(cells))}
     codes = np.fromiter(map(ids.__getitem__, cells), dtype=np.int64, count=len(cells))
     return codes, [c.strip() for c in ids]
@@ -42,7 +51,7 @@ class ChunkCells:
         cells = self.raw.cells.get(name)
         if cells is None:
             return np.full(self.n, "", dtype="U1")
-        return np.strings.strip(np.asarray(cells, dtype=str))
+        return np.strings.strip(np.asarray(list(cells), dtype=str))
 
     def shown(self, name: str, row: int) -> str:
         """The cell with the header's unit appended: what check would have been typed."""
@@ -58,6 +67,9 @@ class ChunkCells:
         cells = self.raw.cells.get(name)
         if cells is None:
             return np.zeros(self.n, dtype=bool)
+        if isinstance(cells, TextColumn):
+            trimmed = pc.utf8_trim_whitespace(cells.array)
+            return pc.greater(pc.binary_length(trimmed), 0).to_numpy(zero_copy_only=False)
         return np.fromiter((bool(c) and not c.isspace() for c in cells), dtype=bool, count=self.n)
 
     def order_text(self, row: int) -> str:
@@ -85,24 +97,7 @@ class ChunkCells:
         if column is None:
             nothing = np.full(self.n, np.nan)
             return Number(nothing, nothing, np.zeros(self.n, dtype=bool), {})
-        cells = self.raw.cells[name]
-        try:
-            # The common case, every cell a number or empty: Python's float() in one pass.
-            values = np.fromiter((float(c) if c else math.nan for c in cells), dtype=float, count=self.n)
-            joined = "".join(cells)
-            plain = not any(mark in joined for mark in _NOT_PLAIN)
-        except ValueError:
-            plain = False
-        if plain:
-            given = ~np.isnan(values)
-            # "1e999" is a plain number to float() but infinite: check refuses it as not finite.
-            odd = np.isinf(values)
-        else:
-            text = self.text(name)
-            given = np.strings.str_len(text) > 0
-            values = np.fromiter((_float(t) for t in text.tolist()), dtype=float, count=self.n)
-            # float() also reads "1_000", "nan" and "inf", which check does not take for numbers.
-            odd = given & (~np.isfinite(values) | (np.strings.find(text, "_") >= 0))
+        values, given, odd = _plain_numbers(self.raw.cells[name])
         unit = column.unit_in_force or field.unit
         engine = values * conversion(name, unit, field.engine_unit)
         judged = values * conversion(name, unit, field.unit)
@@ -132,6 +127,41 @@ class Number:
     judged: np.ndarray
     given: np.ndarray
     unreadable: dict[int, str]
+
+
+def _plain_numbers(cells: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(values, given, odd) of a column: the plain numbers converted whole, every other cell read alone.
+
+    `odd` marks the cells float() cannot read as a finite plain number ("70kg",
+    "nan", "1_000", "1e999"): `parse_quantity` reads those as check does.
+    The common column, numbers and empty cells only, is one cast in C++.
+    """
+    array = cells.array if isinstance(cells, TextColumn) else pa.array(list(cells), pa.string())
+    empty = pc.equal(array, "")
+    try:
+        numbers = pc.cast(pc.if_else(empty, None, array), pa.float64())
+    except pa.ArrowInvalid:  # some cell is not a bare number: find which
+        plain = pc.match_substring_regex(array, _PLAIN)
+        numbers = pc.cast(pc.if_else(plain, pc.utf8_trim_whitespace(array), None), pa.float64())
+        is_plain = plain.to_numpy(zero_copy_only=False)
+        blank = pc.equal(pc.utf8_trim_whitespace(array), "").to_numpy(zero_copy_only=False)
+    else:
+        blank = empty.to_numpy(zero_copy_only=False)
+        is_plain = ~blank
+    values = numbers.to_numpy(zero_copy_only=False).copy()
+    # A cast may also take "nan" or "inf": those cells are read alone, as float() and check read them.
+    is_plain &= ~np.isnan(values)
+    given = is_plain.copy()
+    odd = np.isinf(values)
+    others = np.flatnonzero(~is_plain & ~blank)
+    if len(others):
+        texts = [cells[i].strip() for i in others.tolist()]
+        read = [_float(t) for t in texts]
+        given[others] = [bool(t) for t in texts]
+        values[others] = read
+        # float() also reads "1_000", "nan", "inf" and other digits, which check may not take for numbers.
+        odd[others] = [bool(t) and (not math.isfinite(v) or "_" in t) for t, v in zip(texts, read, strict=True)]
+    return values, given, odd
 
 
 def _float(text: str) -> float:

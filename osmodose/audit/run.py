@@ -18,10 +18,12 @@ from pathlib import Path
 from typing import Protocol, TextIO
 
 import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from osmodose.audit.columns import Header
 from osmodose.audit.convert import Converted, convert
-from osmodose.audit.reader import open_orders
+from osmodose.audit.reader import OrdersFile, ParquetOrders, open_orders
 from osmodose.case.inputs import Patient
 from osmodose.check.balance import urine_problems, urine_volume_error
 from osmodose.check.engine import compute
@@ -76,7 +78,8 @@ class ChunkResult:
     """
 
     lines: np.ndarray
-    order_id: tuple[str, ...] | None
+    #: The order ids as written (stripped), when the file has them.
+    order_id: pa.Array | None
     agent_text: np.ndarray
     status: np.ndarray
     reasons: dict[int, str]
@@ -194,21 +197,27 @@ class Progress:
 
 
 def run_audit(
-    path: Path | str,
+    path: Path | str | OrdersFile | ParquetOrders,
     formulary: Formulary,
     sinks: Sequence[Sink],
     chunk_rows: int = CHUNK_ROWS,
     progress: Progress | None = None,
     timings: dict[str, float] | None = None,
 ) -> Header:
-    """Audit every row of the file into the sinks; a bad header raises OrdersFileError before any row.
+    """Audit every row of the file (a path, or one already open) into the sinks.
+
+    A bad header raises OrdersFileError before any row.
 
     `timings`, when given, gets the seconds spent reading, converting, in the
     engine and rules, and in the sinks (for the benchmark).
     """
+    if not isinstance(path, (OrdersFile, ParquetOrders)):
+        with open_orders(path) as orders:
+            return run_audit(orders, formulary, sinks, chunk_rows, progress, timings)
+    orders = path
     spent = {"read": 0.0, "convert": 0.0, "engine": 0.0, "sinks": 0.0}
     rows = 0
-    with open_orders(path) as orders:
+    try:
         chunks = orders.chunks(chunk_rows)
         while True:
             start = time.perf_counter()
@@ -221,7 +230,7 @@ def run_audit(
             after_convert = time.perf_counter()
             result = audit_chunk(converted, raw.lines, formulary)
             if "order-id" in orders.header:
-                result = replace(result, order_id=tuple(c.strip() for c in raw.cells["order-id"]))
+                result = replace(result, order_id=pc.utf8_trim_whitespace(raw.cells["order-id"].array))
             after_engine = time.perf_counter()
             for sink in sinks:
                 sink.add(result)
@@ -232,11 +241,19 @@ def run_audit(
             del raw, converted, result
             if progress is not None:
                 progress.update(orders.fraction_read(), rows)
-        header = orders.header
+    except BaseException:
+        for sink in sinks:  # a sink writing on a thread of its own stops before the error goes on
+            abandon = getattr(sink, "abandon", None)
+            if abandon is not None:
+                abandon()
+        raise
+    header = orders.header
     if progress is not None:
         progress.finish()
+    closing = time.perf_counter()
     for sink in sinks:
         sink.close()
+    spent["sinks"] += time.perf_counter() - closing
     if timings is not None:
         timings.update(spent)
     return header

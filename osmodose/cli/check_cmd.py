@@ -9,6 +9,7 @@ from osmodose.case.inputs import CheckRequest, parse_check_request
 from osmodose.check.report import render_text
 from osmodose.check.results import CheckResult
 from osmodose.check.run import run_check
+from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
@@ -16,7 +17,7 @@ from osmodose.cli.labs_args import with_labs
 from osmodose.cli.patient_args import add_case_options, case_fields
 from osmodose.formulary.model import Formulary
 
-HELP = "compute osmolality, total body water, a dose and its sodium projection, and check the limits"
+HELP = help_of("check")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

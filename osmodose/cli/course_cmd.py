@@ -14,6 +14,7 @@ from datetime import datetime
 from typing import TYPE_CHECKING, Any
 
 from osmodose.case.fields import FIELDS, LAB_KEYS, keys
+from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, DONE_EPILOG, OK, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
@@ -23,7 +24,7 @@ from osmodose.safe_text import escape_controls
 if TYPE_CHECKING:
     from osmodose.course.episode import Entry, Episode
 
-HELP = "a course of therapy: serial labs, doses, pressures and urine outputs in an episode file"
+HELP = help_of("course")
 #: The fields of `course add-output`, keyed as the field table keys them (as `entries.OUTPUT_KEYS`).
 OUTPUT_OPTIONS = ("time", "urine-volume", "urine-sodium", "urine-potassium", "over")
 MAX_AGE_HELP = "how far back a time may be; bare number = days (default 30)"

@@ -14,6 +14,7 @@ import sys
 from pathlib import Path
 
 from osmodose.check.results import CAUTION
+from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import DIFF_EPILOG, DONE_EPILOG, INVALID, OK, VALIDATE_EPILOG
 from osmodose.errors import FormularyError
@@ -26,7 +27,7 @@ from osmodose.formulary.validate import validate_formulary
 from osmodose.safe_text import escape_controls
 from osmodose.storage.atomic import DestinationIsALink, atomic_write
 
-HELP = "check, inspect, compare and start a unit's formulary file"
+HELP = help_of("formulary")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

@@ -14,11 +14,12 @@ import sys
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import INVALID, LOG_EPILOG, OK
 from osmodose.safe_text import escape_controls
 
-HELP = "the verification log: make the unit's signing key, verify the log's chain and signatures, list, show one"
+HELP = help_of("log")
 LOG_HELP = "the log (default: $OSMODOSE_LOG, else ~/.local/state/osmodose/verifications.jsonl)"
 KEY_HELP = "the unit's signing key (default: $OSMODOSE_LOG_KEY, else ~/.config/osmodose/log-signing.key)"
 

@@ -1,12 +1,15 @@
 """Entry point: `osmodose SUBCOMMAND ...`, or the app when no subcommand is given.
 
-Subcommand modules are listed in `SUBCOMMANDS`; each has `register(subparsers)`
-and sets a `handler`.  Registration must stay cheap (no textual, no plotting
-import): `osmodose check` is timed against bare pint start-up, so heavy
-imports belong inside handlers.  Every OsmodoseError becomes one line on
-stderr and exit status 2; no traceback reaches a user.  So does output that
-cannot be written (a full disk, a closed standard output): the output is
-flushed before the command counts as done.
+The subcommands are data (`commands.COMMANDS`: word, module, one-line help).
+`main` finds which one was given with a parser that knows only their names,
+then imports and registers that module alone: the others stay placeholders
+that carry their help, so `osmodose --help` still lists every command, and
+`osmodose check` (timed against bare pint start-up) never imports the
+formulary tools, the course or the log.  Heavy imports belong inside
+handlers.  Every OsmodoseError becomes one line on stderr and exit status 2;
+no traceback reaches a user.  So does output that cannot be written (a full
+disk, a closed standard output): the output is flushed before the command
+counts as done.
 
 Options are never abbreviated (`--target` is not `--target-rise`), and an
 option given twice with different values is an input error: the last one
@@ -23,18 +26,16 @@ from collections.abc import Sequence
 from typing import Any, NoReturn
 
 from osmodose import __version__
+from osmodose.cli.commands import COMMANDS
 from osmodose.cli.exit_codes import APP_EPILOG, BAD_INPUT, BROKEN_PIPE
 from osmodose.errors import OsmodoseError
 from osmodose.safe_text import escape_controls
 
-SUBCOMMANDS: tuple[str, ...] = (
-    "osmodose.cli.check_cmd",
-    "osmodose.cli.formulary_cmd",
-    "osmodose.cli.course_cmd",
-    "osmodose.cli.verify_cmd",
-    "osmodose.cli.log_cmd",
-    "osmodose.cli.audit_cmd",
-)
+#: The subcommand modules, in the order `--help` lists them.
+SUBCOMMANDS: tuple[str, ...] = tuple(command.module for command in COMMANDS)
+
+#: `build_parser(ALL)`: every subcommand registered for real (tests, completeness).
+ALL = "*"
 
 
 #: Where the options given on the command line are remembered (dest -> (option, value)).
@@ -102,7 +103,13 @@ class _Parser(argparse.ArgumentParser):
         raise SystemExit(BAD_INPUT)
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(command: str | None = ALL) -> argparse.ArgumentParser:
+    """The parser with `command`'s module registered, every other command a placeholder.
+
+    A placeholder lists the command in `--help` and takes whatever follows its
+    word, so a first pass can tell which command was given without importing
+    any.  `command=None` registers none; `ALL` registers every one.
+    """
     parser = _Parser(
         prog="osmodose",
         description=(
@@ -120,9 +127,20 @@ def build_parser() -> argparse.ArgumentParser:
         "--episode", metavar="FILE", default=None, help="open the app on this episode file's course (see course new)"
     )
     subparsers = parser.add_subparsers(title="commands", metavar="COMMAND", parser_class=_Parser)
-    for name in SUBCOMMANDS:
-        importlib.import_module(name).register(subparsers)
+    for item in COMMANDS:
+        if command in (ALL, item.name):
+            importlib.import_module(item.module).register(subparsers)
+        else:
+            placeholder = subparsers.add_parser(item.name, help=item.help, add_help=False)
+            placeholder.add_argument("rest", nargs=argparse.REMAINDER, help=argparse.SUPPRESS)
+            placeholder.set_defaults(_placeholder=item.name)
     return parser
+
+
+def given_command(argv: Sequence[str]) -> str | None:
+    """The subcommand word in `argv` as argparse finds it (options before it included), or None."""
+    args, _ = build_parser(None).parse_known_args(argv)
+    return getattr(args, "_placeholder", None)
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -130,8 +148,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     if sys.stdout is None:  # started with standard output closed (`>&-`): nothing could be reported
         sys.stderr.write("osmodose: standard output is closed: nothing was done\n")
         return BAD_INPUT
-    parser = build_parser()
-    args = parser.parse_args(argv)
+    args = build_parser(given_command(argv)).parse_args(argv)
     try:
         handler = getattr(args, "handler", None)
         if handler is None:

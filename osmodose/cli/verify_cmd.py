@@ -18,13 +18,14 @@ import argparse
 import sys
 
 from osmodose.case.fields import WRITTEN_ORDER_KEYS, keys
+from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, VERIFY_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.patient_args import add_case_options, add_field_options, case_fields
 from osmodose.errors import OutputError
 
-HELP = "re-check an order as written, decide on it, and append an initialled record to the verification log"
+HELP = help_of("verify")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

@@ -10,7 +10,6 @@ values as well as those in the layout.
 from __future__ import annotations
 
 import copy
-import difflib
 import math
 from typing import Any, get_args
 
@@ -251,6 +250,8 @@ def _model_in(annotation: Any) -> type[BaseModel] | None:
 
 def _did_you_mean(loc: tuple[int | str, ...]) -> str:
     known = known_keys(loc)
+    import difflib  # noqa: PLC0415 (only a misspelt key needs it: check's start-up is timed)
+
     close = difflib.get_close_matches(str(loc[-1]), known, n=1, cutoff=0.6)
     if close:
         return f" (did you mean {close[0]!r}?)"

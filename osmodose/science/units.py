@@ -95,7 +95,7 @@ _PARSE_ERRORS = (
 )
 
 
-@functools.cache
+@functools.lru_cache(maxsize=256)
 def dimension_of(units: str) -> pint.util.UnitsContainer:
     """The dimensionality of a unit expression written by us (never user text)."""
     return ureg.parse_units(units).dimensionality
@@ -216,6 +216,9 @@ def _parse_spelling(
         # pint evaluates powers with exact integers: "9**9**9" would run for minutes.
         # One power of at most two digits ("dm**3") is all a quantity needs.
         raise InputError(field, raw, "is not a quantity osmodose can read", hint)
+    quick = _number_and_unit(text)
+    if quick is not None:
+        return quick
     try:
         parsed: Any = ureg.parse_expression(text)
     except _PARSE_ERRORS:
@@ -224,6 +227,48 @@ def _parse_spelling(
         # A plain number written as an expression ("2*3") has no unit.
         raise InputError(field, raw, "is not a quantity osmodose can read", hint)
     return parsed
+
+
+#: "number unit" with a unit of names joined by "/" (each with an optional small power):
+#: what nearly every typed quantity and formulary value looks like ("20 % w/v" is
+#: "20 percent_wv" by now).  A number with a leading zero ("007") or longer than 20
+#: characters is left to pint, whose reading of it this must not second-guess.
+_NUMBER_AND_UNIT = re.compile(
+    r"([+-]?(?:[1-9]\d*(?:\.\d*)?|0(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*"
+    r"([A-Za-zµμ_]+(?:\*\*\d)?(?:\s*/\s*[A-Za-zµμ_]+(?:\*\*\d)?)*)"
+)
+_INTEGER = re.compile(r"[+-]?\d+")
+
+
+def _number_and_unit(text: str) -> pint.Quantity | None:
+    """The quantity `ureg.parse_expression(text)` gives, with the unit parsed once per distinct unit text.
+
+    pint tokenises and evaluates the whole expression on every call, looking each
+    unit name up again (most of a formulary's load time); the number is read
+    the way pint reads it (an int, or a float; a division makes it a float).
+    None when the text is not of this simple shape or the unit is not one
+    pint knows: `parse_expression` then reads it, and words its errors.
+    """
+    match = _NUMBER_AND_UNIT.fullmatch(text)
+    if match is None or len(match.group(1)) > 20:
+        return None
+    unit = _unit(match.group(2))
+    if unit is None:
+        return None
+    number = match.group(1)
+    magnitude: float = int(number) if _INTEGER.fullmatch(number) else float(number)
+    if "/" in match.group(2):
+        magnitude = magnitude / 1  # pint divides by the denominator's quantity: a float
+    return Q_(magnitude, unit)
+
+
+@functools.lru_cache(maxsize=1024)
+def _unit(text: str) -> pint.Unit | None:
+    """A unit expression of names, "/" and powers, parsed once; None when pint cannot read it."""
+    try:
+        return ureg.parse_units(text)
+    except _PARSE_ERRORS:
+        return None
 
 
 def _check_shape(field: str, raw: str, text: str, default_unit: str, hint: str) -> None:
