@@ -8,7 +8,7 @@ the demo formulary, about 1 row in 100 bad).  Then, in turn, A B A B ...:
 
 * A: `python -m osmodose audit FILE --out results.csv` (every row checked,
   figures, findings and their messages, the summary's counts, bad rows);
-* B: `audit_floor.py`: polars reads the file, numpy computes the same 16
+* B: `audit_floor.py`: polars reads the file, numpy computes the same 21
   figures and the worst severity, polars writes them (no checks, no text).
 
 Each run is a whole process: its wall time, CPU time and peak resident
@@ -46,6 +46,8 @@ from audit_floor import FIGURES, floor_tbw  # noqa: E402
 from osmodose.formulary import demo_formulary_path, load_formulary  # noqa: E402
 from osmodose.science import formulas  # noqa: E402
 from osmodose.science.chemistry import MOLAR_MASS_G_PER_MOL  # noqa: E402
+from osmodose.science.precision import FIGURE_DECIMALS  # noqa: E402
+from osmodose.science.ranges import TBW_SHARE_OF_WEIGHT, WEIGHT_FOR_AGE  # noqa: E402
 
 __all__ = ["floor_params", "floor_tbw", "main", "make_orders"]
 
@@ -129,7 +131,6 @@ def make_orders(path: Path, n: int, seed: int = 7) -> None:
 
 
 _CONSTANTS = (
-    "TBW_FRACTION_CHILD",
     "TBW_FRACTION_MAN",
     "TBW_FRACTION_WOMAN",
     "TBW_FRACTION_ELDERLY_MAN",
@@ -141,6 +142,8 @@ _CONSTANTS = (
     "WATSON_WOMAN_INTERCEPT",
     "WATSON_WOMAN_HEIGHT",
     "WATSON_WOMAN_WEIGHT",
+    "WATSON_SEE_MAN_L",
+    "WATSON_SEE_WOMAN_L",
 )
 
 
@@ -155,8 +158,11 @@ def floor_params(formulary: object) -> dict:
             "osmolarity_mosm_l": x.osmolarity_mosm_l,
             "cations_mmol_l": x.cations_mmol_l if x.projects_sodium else None,
             "mannitol": 1.0 if x.solute == "mannitol" else 0.0,
-            "central": 1.0 if x.route == "central" else 0.0,
+            "central": 1.0 if x.central_only else 0.0,
             "max_rate_ml_h": x.max_rate_ml_h,
+            "projects": 1.0 if x.projects_sodium else 0.0,
+            "no_max_rate": 1.0 if x.max_rate_ml_h is None else 0.0,
+            "adult_only": 1.0 if x.adult_only else 0.0,
         }
         for key in ("dose_warn", "dose_refuse"):
             limit = getattr(x, key)
@@ -169,6 +175,11 @@ def floor_params(formulary: object) -> dict:
         "limits": formulary.limits.values,  # type: ignore[attr-defined]
         "elderly_age_years": settings.elderly_age_years,
         "adult_age_years": settings.adult_age_years,
+        "infant_age_years": settings.infant_age_years,
+        "tbw_fraction_infant": settings.tbw_fraction_infant,
+        "tbw_fraction_child": settings.tbw_fraction_child,
+        "tbw_share_of_weight": TBW_SHARE_OF_WEIGHT,
+        "weight_for_age": WEIGHT_FOR_AGE.rows,
         "tbw_method": settings.tbw_method,
         "glucose_g_per_mol": MOLAR_MASS_G_PER_MOL["glucose"],
         "constants": {name: getattr(formulas, name) for name in _CONSTANTS},
@@ -203,7 +214,9 @@ def _compare(audit_csv: Path, floor_csv: Path) -> int:
     for name in names:
         x = mine.column(name).to_numpy(zero_copy_only=False)[good].astype(float)
         y = theirs.column(name).to_numpy(zero_copy_only=False)[good].astype(float)
-        assert np.allclose(x, y, rtol=1e-9, equal_nan=True), f"the floor's {name} differs"
+        # The audit writes each figure rounded to its declared decimals; the floor in full.
+        half_step = 0.5 * 10.0 ** -FIGURE_DECIMALS[name]
+        assert np.allclose(x, y, rtol=1e-9, atol=half_step * (1 + 1e-6), equal_nan=True), f"the floor's {name} differs"
     return int(good.sum())
 
 

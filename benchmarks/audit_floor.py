@@ -6,7 +6,7 @@ A program as fast as the audit's job allows with columnar tools: polars'
 multi-threaded CSV reader and writer, the engine's formulas and the rules'
 thresholds written directly in numpy on the canonical arrays.  It checks
 nothing and writes no message text (the audit does both), only the row, the
-status and the 16 figures of each order.  PARAMS.json (written by
+status and the 21 figures of each order.  PARAMS.json (written by
 `audit_bench.py` from the formulary and `osmodose.science.formulas`) holds
 the agents' composition, the limits and the formulas' constants, so this
 program imports neither pint nor pydantic nor osmodose.  Imports polars
@@ -41,23 +41,66 @@ FIGURES = (
     ("sodium_change_per_litre_mmol_l", "sodium_change_per_litre"),
     ("projected_sodium_mmol_l", "projected_sodium"),
     ("projected_sodium_rise_mmol_l", "projected_rise"),
+    ("projected_sodium_without_losses_mmol_l", "projected_sodium_without_losses"),
+    ("projected_sodium_range_low_mmol_l", "projected_sodium_low"),
+    ("projected_sodium_range_high_mmol_l", "projected_sodium_high"),
+    ("electrolyte_free_water_clearance_l", "free_water_clearance_l"),
+    ("free_water_deficit_l", "free_water_deficit_l"),
 )
+#: Within 1e-9 (relative) of a limit is at it (osmodose.check.judging's tolerance).
+AT = 1e-9
 
 
 def floor_tbw(
     w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, p: dict[str, Any]
 ) -> np.ndarray:
     """Total body water in plain numpy, with the fractions and Watson coefficients in `p` (from formulas.py)."""
+    return floor_tbw_both(w, age, h, male, use_watson, p)[0]
+
+
+def floor_tbw_both(
+    w: np.ndarray, age: np.ndarray, h: np.ndarray, male: np.ndarray, use_watson: np.ndarray, p: dict[str, Any]
+) -> tuple[np.ndarray, np.ndarray]:
+    """(TBW used, the other method's TBW or NaN), as the engine's `tbw_estimates` gives them."""
     c = p["constants"]
     elderly = age >= p["elderly_age_years"]
     man = np.where(elderly, c["TBW_FRACTION_ELDERLY_MAN"], c["TBW_FRACTION_MAN"])
     woman = np.where(elderly, c["TBW_FRACTION_ELDERLY_WOMAN"], c["TBW_FRACTION_WOMAN"])
-    fraction = np.where(age < p["adult_age_years"], c["TBW_FRACTION_CHILD"], np.where(male, man, woman))
+    child = np.where(age < p["infant_age_years"], p["tbw_fraction_infant"], p["tbw_fraction_child"])
+    fraction = np.where(age < p["adult_age_years"], child, np.where(male, man, woman))
     men = (
         c["WATSON_MAN_INTERCEPT"] - c["WATSON_MAN_AGE"] * age + c["WATSON_MAN_HEIGHT"] * h + c["WATSON_MAN_WEIGHT"] * w
     )
     women = c["WATSON_WOMAN_INTERCEPT"] + c["WATSON_WOMAN_HEIGHT"] * h + c["WATSON_WOMAN_WEIGHT"] * w
-    return np.where(use_watson, np.where(male, men, women), w * fraction)
+    watson = np.where(male, men, women)
+    low, high = p["tbw_share_of_weight"]
+    fits = (age >= p["adult_age_years"]) & (watson / w >= low) & (watson / w <= high)
+    other = np.where(use_watson, w * fraction, np.where(fits, watson, np.nan))
+    return np.where(use_watson, watson, w * fraction), other
+
+
+def floor_range(
+    na: np.ndarray, cations: np.ndarray, litres: np.ndarray, tbw: np.ndarray, other: np.ndarray, a: dict, p: dict
+) -> tuple[np.ndarray, np.ndarray]:
+    """The projected sodium's (low, high), no urine: the TBW band and the sodium's error, then the wider rise."""
+    c, v = p["constants"], p["limits"]
+    see = np.where(a["male"], c["WATSON_SEE_MAN_L"], c["WATSON_SEE_WOMAN_L"])
+    share_low, share_high = p["tbw_share_of_weight"]
+    w = a["weight"]
+    low = np.fmin(np.maximum(np.fmin(tbw, other) - see, share_low * w), tbw)
+    high = np.fmax(np.minimum(np.fmax(tbw, other) + see, share_high * w), tbw)
+    error = v["projection_sodium_error"]
+    corners = [
+        (na + sign * error) + litres * (cations - (na + sign * error)) / (t + litres)
+        for sign in (-1.0, 1.0)
+        for t in (low, high)
+    ]
+    projected = na + litres * (cations - na) / (tbw + litres)
+    rise = projected - na
+    widened = (rise > 0) & (na < v["sodium_rise_applies_below"] * (1 - AT))
+    top = np.where(widened, np.fmax(np.maximum.reduce(corners), na + v["projection_rise_underprediction"] / 100 * rise),
+                   np.maximum.reduce(corners))  # fmt: skip
+    return np.fmin(np.minimum.reduce(corners), projected), np.fmax(top, projected)
 
 
 def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
@@ -77,8 +120,9 @@ def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
         table("cations_mmol_l"),
     )
     mannitol, central = table("mannitol") == 1, table("central") == 1
+    projects, no_max_rate, adult_only = table("projects") == 1, table("no_max_rate") == 1, table("adult_only") == 1
     w, age, h, male, na = a["weight"], a["age"], a["height"], a["male"], a["sodium"]
-    tbw = floor_tbw(w, age, h, male, a["use_watson"], p)
+    tbw, other_tbw = floor_tbw_both(w, age, h, male, a["use_watson"], p)
     calc = 2 * na + a["glucose"] + a["urea"] + np.nan_to_num(a["ethanol"])
     gap = a["osmolality"] - calc
     amount = np.where(a["per_kg"], a["amount"] * w, a["amount"])
@@ -119,9 +163,14 @@ def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
     rise = projected - na
     out["projected_sodium"] = projected
     out["projected_rise"] = rise
+    v = p["limits"]
+    out["projected_sodium_without_losses"] = projected  # no urine in the file
+    out["projected_sodium_low"], out["projected_sodium_high"] = floor_range(na, cations, litres, tbw, other_tbw, a, p)
+    out["free_water_clearance_l"] = np.full(len(na), np.nan)
+    deficit = tbw * (na / v["free_water_target_sodium"] - 1)
+    out["free_water_deficit_l"] = np.where(na > v["free_water_deficit_above"] * (1 + AT), deficit, np.nan)
     osmolality = np.where(np.isnan(a["osmolality"]), calc, a["osmolality"])
     lowering = rise < 0
-    v = p["limits"]
 
     def sev(value: np.ndarray, warn: float | np.ndarray, refuse: float | np.ndarray) -> np.ndarray:
         # Limits are positive; within 1e-9 (relative) of a limit is at it (rules.LIMIT_RELATIVE_TOLERANCE).
@@ -147,6 +196,10 @@ def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
     worst = np.maximum(worst, np.where(mannitol & np.isnan(osmolality), 1, 0))
     rise_judged = has & (na < v["sodium_rise_applies_below"])
     worst = np.maximum(worst, np.where(rise_judged, sev(rise, v["sodium_rise_24h_warn"], rise_refuse), 0))
+    # The high end of the range past the refuse limit, where the point is not: a warning.
+    range_judged = rise_judged & ~(rise > rise_refuse * (1 + AT))
+    rise_high = out["projected_sodium_high"] - na
+    worst = np.maximum(worst, np.where(range_judged & (rise_high > rise_refuse * (1 + AT)), 1, 0))
     worst = np.maximum(worst, np.where(has, sev(-rise, v["sodium_fall_24h_warn"], v["sodium_fall_24h_refuse"]), 0))
     for kind, figure in (("g/kg", "solute_g_per_kg"), ("mL/kg", "volume_ml_per_kg"), ("mmol/kg", "sodium_mmol_per_kg")):
         warn = table(f"dose_warn {kind}", np.inf)
@@ -158,6 +211,26 @@ def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
     worst = np.maximum(worst, np.where(peripheral & central, 2, 0))
     over = osm_l > v["peripheral_osmolarity_warn"] * (1 + 1e-9)
     worst = np.maximum(worst, np.where(peripheral & ~central & over, 1, 0))
+    # The patient and lab rules (osmodose.check.patient_rules).
+    ages, lows, highs = (np.asarray(column, dtype=float) for column in zip(*p["weight_for_age"], strict=True))
+    worst = np.maximum(worst, np.where(w < np.interp(age, ages, lows) * (1 - AT), 2, 0))
+    worst = np.maximum(worst, np.where(w > np.interp(age, ages, highs) * (1 + AT), 2, 0))
+    worst = np.maximum(worst, np.where(na < v["hyponatraemia_moderate_warn"] * (1 - AT), 1, 0))
+    worst = np.maximum(worst, np.where(a["potassium"] < v["hypokalaemia_severe_warn"] * (1 - AT), 1, 0))
+    worst = np.maximum(worst, np.where(~mannitol & (gap > v["osmolar_gap_unexplained_warn"] * (1 + AT)), 1, 0))
+    not_hypotonic = out["effective_osmolality"] >= v["hypotonic_effective_osmolality_below"] * (1 - AT)
+    hyponatraemic = na < v["sodium_rise_applies_below"] * (1 - AT)
+    worst = np.maximum(worst, np.where(has & (rise > 0) & hyponatraemic & not_hypotonic, 1, 0))
+    osmolar_rate = out["osmoles_mosm_per_kg"] / np.where(a["duration"] > 0, a["duration"], np.nan)
+    hypertonic = osm_l > v["osmolar_rate_applies_above"] * (1 + AT)
+    default_rate = has & no_max_rate & hypertonic
+    worst = np.maximum(
+        worst, np.where(default_rate, sev(osmolar_rate, v["osmolar_rate_warn"], v["osmolar_rate_refuse"]), 0)
+    )
+    adult = age >= p["adult_age_years"]
+    obese = w / (h / 100) ** 2 >= v["bmi_obese_from"] * (1 - AT)
+    worst = np.maximum(worst, np.where(has & projects & adult & ~a["use_watson"] & obese, 1, 0))
+    worst = np.maximum(worst, np.where(has & adult_only & ~adult, 2, 0))
     out["status"] = worst
     return out
 
