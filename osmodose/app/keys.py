@@ -21,8 +21,10 @@ EVERYWHERE: list[BindingType] = [
     Binding("ctrl+q", "quit", "quit"),
 ]
 CHECK: list[BindingType] = [
-    Binding("ctrl+s", "save", "save", tooltip="save the summary `osmodose check` prints to a file"),
-    Binding("ctrl+y", "copy", "copy", tooltip="copy that summary to the clipboard"),
+    Binding(
+        "ctrl+s", "save", "save", tooltip="save the handover summary: the report of osmodose check, with patient label"
+    ),
+    Binding("ctrl+y", "copy", "copy", tooltip="copy the report `osmodose check` prints to the clipboard"),
     Binding("ctrl+n", "new_case", "new", tooltip="empty the form"),
     Binding("ctrl+l", "labs_file", "labs", tooltip="read labs from an HL7 FHIR file into the empty boxes"),
     # At 80 columns the check screen's footer leaves out the theme key; it works, and help (f1) lists it.

@@ -8,6 +8,7 @@ from textual.binding import Binding
 from textual.widgets import Input
 from textual.widgets._footer import FooterKey
 
+from osmodose import __version__
 from osmodose.app import keys
 from osmodose.app.app import OsmodoseApp
 from osmodose.app.help_text import FIGURE_HELP
@@ -17,6 +18,8 @@ from osmodose.app.screens.main import MainScreen
 from osmodose.app.screens.save import SaveScreen
 from osmodose.app.view import DOSE_FIGURES, PATIENT_FIGURES
 from osmodose.case.inputs import parse_check_request
+from osmodose.caution import CAUTION
+from osmodose.check.handover import NO_LABEL, RULE, TITLE
 from osmodose.check.report import render_text
 from osmodose.check.run import run_check
 from osmodose.formulary import Formulary
@@ -78,8 +81,23 @@ async def test_formulary_screen_shows_the_agent_and_limit_tables(demo: Formulary
         assert isinstance(app.screen, MainScreen)
 
 
+def is_handover_of(text: str, demo: Formulary, label: str) -> bool:
+    """The handover heading (label, time, program, formulary, caution), then the report of osmodose check."""
+    head, _, body = text.partition(RULE + "\n\n")
+    lines = head.splitlines()
+    return (
+        lines[:2] == [TITLE, f"patient label: {label}"]
+        and lines[2].startswith("made at: 2")
+        and lines[3] == f"program: osmodose {__version__}"
+        and lines[-1] == CAUTION
+        and body == mannitol_summary(demo)
+    )
+
+
 @sync
-async def test_save_writes_the_same_text_as_osmodose_check(tmp_path: Path, demo: Formulary) -> None:
+async def test_save_writes_the_handover_summary_around_the_text_of_osmodose_check(
+    tmp_path: Path, demo: Formulary
+) -> None:
     target = tmp_path / "bed 4.txt"
     app = make_app()
     async with app.run_test(size=SIZE) as pilot:
@@ -87,9 +105,22 @@ async def test_save_writes_the_same_text_as_osmodose_check(tmp_path: Path, demo:
         await pilot.press("ctrl+s")
         assert isinstance(app.screen, SaveScreen)
         app.screen.query_one("#save-path", Input).value = str(target)
+        app.screen.query_one("#save-label", Input).value = "Bed 4, AB"
         await pilot.press("enter")
         assert isinstance(app.screen, MainScreen)
-        assert target.read_text(encoding="utf-8") == mannitol_summary(demo)
+        assert is_handover_of(target.read_text(encoding="utf-8"), demo, "Bed 4, AB")
+
+
+@sync
+async def test_a_handover_saved_without_a_label_asks_for_one_on_the_page(tmp_path: Path, demo: Formulary) -> None:
+    target = tmp_path / "summary.txt"
+    app = make_app()
+    async with app.run_test(size=SIZE) as pilot:
+        await fill(pilot, MANNITOL)
+        await pilot.press("ctrl+s")
+        app.screen.query_one("#save-path", Input).value = str(target)
+        await pilot.press("enter")
+    assert is_handover_of(target.read_text(encoding="utf-8"), demo, NO_LABEL)
 
 
 @sync

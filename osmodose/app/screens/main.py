@@ -29,6 +29,7 @@ from osmodose.caution import CAUTION
 
 if TYPE_CHECKING:
     from osmodose.app.view import LoadedLabs, Outcome
+    from osmodose.check.results import CheckResult
     from osmodose.datain import FhirFile
     from osmodose.formulary.model import Formulary
 
@@ -148,22 +149,29 @@ class MainScreen(Screen[None]):
         for state in STATES:
             results.set_class(shown.state == state, f"-{state}")
 
-    def _summary(self) -> str | None:
+    def _result(self) -> CheckResult | None:
         outcome = self.outcome
         if outcome is None or outcome.result is None:
             why = outcome.message if outcome is not None else "the formulary is still being read"
             self.notify(f"Nothing to save: the results are not valid ({why}).", severity="error")
             return None
+        return outcome.result
+
+    def _summary(self) -> str | None:
         from osmodose.check.report import render_text  # noqa: PLC0415 (loaded with the engine)
 
-        return render_text(outcome.result)
+        result = self._result()
+        return None if result is None else render_text(result)
 
     def action_save(self) -> None:
+        """The handover summary: the report of `osmodose check`, headed by the patient label, time and formulary."""
         from osmodose.app.screens.save import SaveScreen  # noqa: PLC0415 (opened when first asked for)
+        from osmodose.check.handover import check_handover  # noqa: PLC0415 (loaded with the engine)
 
-        text = self._summary()
-        if text is not None:
-            self.app.push_screen(SaveScreen(text), self._saved)
+        result = self._result()
+        if result is not None:
+            what = "the handover summary (the report of osmodose check, headed by patient, time and formulary)"
+            self.app.push_screen(SaveScreen(lambda label: check_handover(result, label), what=what), self._saved)
 
     def _saved(self, path: str | None) -> None:
         if path:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
 from typing import ClassVar
 
@@ -25,13 +26,17 @@ class SaveScreen(ModalScreen[str | None]):
     The file is written with `atomic_write`: an existing file (a verification
     log, another summary) is replaced only after the user says yes in a
     confirm dialog, and a symbolic link is never written through.
+
+    `text` may be a function of the patient label: the box then asks for the
+    label too (a handover page must say whose it is), and the text is made
+    with it when the user saves.
     """
 
     BINDINGS: ClassVar[list[BindingType]] = keys.SAVE
 
     def __init__(
         self,
-        text: str,
+        text: str | Callable[[str], str],
         default_name: str = DEFAULT_NAME,
         what: str = "the summary (the same text as osmodose check)",
         noun: str = "summary",
@@ -46,16 +51,26 @@ class SaveScreen(ModalScreen[str | None]):
         with Vertical(id="save-box"):
             yield Label(f"save {self.what} to:")
             yield Input(self.default_name, id="save-path")
+            if callable(self.text):
+                yield Label("patient label (bed, initials; printed at the top of the page):")
+                yield Input("", placeholder="e.g. Bed 4, AB", id="save-label")
             yield Static("enter to save, escape to cancel", id="save-message", markup=False)
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
+        """Enter in either box saves."""
         event.stop()
-        path = Path(event.value.strip() or self.default_name).expanduser()
-        self._write(path, overwrite=False)
+        typed = self.query_one("#save-path", Input).value.strip()
+        self._write(Path(typed or self.default_name).expanduser(), overwrite=False)
+
+    def contents(self) -> str:
+        """The text to write, made with the typed patient label when the text takes one."""
+        if callable(self.text):
+            return self.text(self.query_one("#save-label", Input).value)
+        return self.text
 
     def _write(self, path: Path, overwrite: bool) -> None:
         try:
-            atomic_write(path, self.text, overwrite=overwrite)
+            atomic_write(path, self.contents(), overwrite=overwrite)
         except FileExistsError:
             question = escape_controls(f"{path} already exists. Replace it with this {self.noun}? Its content is lost.")
             self.app.push_screen(ConfirmReplace(question), lambda yes: self._answered(path, bool(yes)))
