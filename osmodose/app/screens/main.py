@@ -170,7 +170,7 @@ class MainScreen(Screen[None]):
 
         result = self._result()
         if result is not None:
-            what = "the handover summary (the report of osmodose check, headed by patient, time and formulary)"
+            what = "the handover summary (osmodose check's report under the patient label, time and formulary)"
             self.app.push_screen(SaveScreen(lambda label: check_handover(result, label), what=what), self._saved)
 
     def _saved(self, path: str | None) -> None:
