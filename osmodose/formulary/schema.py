@@ -10,6 +10,10 @@ from __future__ import annotations
 
 from typing import Any
 
+from pydantic import BaseModel
+
+from osmodose.formulary import file_model
+from osmodose.formulary.field_docs import field_docs
 from osmodose.formulary.file_model import FormularyFile
 
 DRAFT = "https://json-schema.org/draft/2020-12/schema"
@@ -18,9 +22,22 @@ DRAFT = "https://json-schema.org/draft/2020-12/schema"
 def formulary_schema() -> dict[str, Any]:
     """The draft 2020-12 JSON Schema of a formulary file."""
     schema = FormularyFile.model_json_schema()
+    _describe(schema, FormularyFile)
+    for name, part in schema.get("$defs", {}).items():
+        _describe(part, getattr(file_model, name))
     return {
         "$schema": DRAFT,
         "title": "osmodose formulary file",
         **{key: value for key, value in schema.items() if key != "title"},
         "$comment": "Units, cross-checks and plausible ranges are checked by `osmodose formulary validate`.",
     }
+
+
+def _describe(part: dict[str, Any], model: type[BaseModel]) -> None:
+    """Give each property of `part` the docstring of its field, where it has no description of its own."""
+    docs = field_docs(model)
+    for name, field in model.model_fields.items():
+        shown = part.get("properties", {}).get(field.alias or name)
+        if shown is not None and "description" not in shown and name in docs:
+            shown["description"] = docs[name]
+            part["properties"][field.alias or name] = dict(sorted(shown.items()))

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from pydantic import BaseModel
 
+from osmodose.formulary.field_docs import description
 from osmodose.formulary.file_model import AgentEntry, FormularyHeader, SettingsTable
 from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 
@@ -95,7 +96,7 @@ def formulary_template() -> str:
     parts += _described(FormularyHeader, "version", '"1"')
     parts += ["", "[settings]", "# Unit-wide choices; remove the '#' to change one from its default."]
     for name, info in SettingsTable.model_fields.items():
-        parts += [f"# {info.description}", f"# {name} = {_toml_value(info.default)}"]
+        parts += [f"# {description(SettingsTable, name)}", f"# {name} = {_toml_value(info.default)}"]
     parts += [
         "",
         "[limits]",
@@ -119,7 +120,7 @@ def formulary_template() -> str:
 
 
 def _described(model: type[BaseModel], key: str, value: str) -> list[str]:
-    return [f"# {model.model_fields[key].description}", f"{key} = {value}"]
+    return [f"# {description(model, key)}", f"{key} = {value}"]
 
 
 def _toml_value(value: object) -> str:
