@@ -127,80 +127,48 @@ class PatientColumns:
         )
 
 
-# --- the words of each rule: (value, limit, severity) -> message ------------------------------------
+# --- the words of each rule: templates over {value}, {limit} and {severity} (`rules.Rule.describe`) ----------
 # Lab values are shown as typed (`:g`): a figure within rounding of its limit never fires, so
 # "125 is below 125" cannot be printed.
 
-
-def profound(value: float, limit: float, severity: str) -> str:
-    return (
-        f"serum sodium {value:g} mmol/L is below the {severity} limit of {limit:g} mmol/L: profound "
-        "hyponatraemia (Spasovski 2014); look for its cause and for symptoms, and re-measure"
-    )
-
-
-def moderate(value: float, limit: float, severity: str) -> str:
-    return (
-        f"serum sodium {value:g} mmol/L is below the {severity} limit of {limit:g} mmol/L: moderate "
-        "hyponatraemia (Spasovski 2014)"
-    )
-
-
-def hypokalaemia(value: float, limit: float, severity: str) -> str:
-    return (
-        f"serum potassium {value:g} mmol/L is below the {severity} limit of {limit:g} mmol/L: severe "
-        "hypokalaemia; replacing potassium raises serum sodium too"
-    )
-
-
-def gap_unexplained(value: float, limit: float, severity: str) -> str:
-    return (
-        f"osmolar gap {value:.1f} mOsm/kg is above the {severity} limit of {limit:g} mOsm/kg with no mannitol "
-        "ordered: exclude unmeasured osmoles (toxic alcohols such as methanol or ethylene glycol, ethanol not "
-        "entered, mannitol given elsewhere) before hyperosmolar therapy"
-    )
-
-
-def not_hypotonic(value: float, limit: float, _severity: str) -> str:
-    return (
-        f"effective osmolality {value:.1f} mOsm/kg is at or above {limit:g} mOsm/kg: this low sodium is not "
-        "hypotonic (translocational, from high glucose or mannitol, or hypertonic), and raising sodium does not "
-        "treat it; correct the glucose first and judge the sodium corrected for it"
-    )
-
-
-def osmolar_rate(value: float, limit: float, severity: str) -> str:
-    return (
-        f"osmolar rate {value:.2f} mOsm/kg/min is above the default {severity} limit of {limit:g} mOsm/kg/min "
-        "for an agent with no max_rate (published boluses give about 0.35: 3 % 250 mL or 23.4 % 30 mL over "
-        "10 min, mannitol 1 g/kg over 15 min, in 70 kg)"
-    )
-
-
-def weight_low(value: float, limit: float, _severity: str) -> str:
-    return f"weight {value:g} kg is below {limit:.3g} kg, the lightest that can be real at this age"
-
-
-def weight_high(value: float, limit: float, _severity: str) -> str:
-    return f"weight {value:g} kg is above {limit:.3g} kg, the heaviest that can be real at this age"
-
-
-def obesity(value: float, limit: float, _severity: str) -> str:
-    return (
-        f"body mass index {value:.1f} kg/m^2 is {limit:g} or more: the fraction of weight overstates body water "
-        "in obesity, so the real sodium change may be larger than projected"
-    )
-
-
-def adult_only(value: float, _limit: float, _severity: str) -> str:
-    return f"this agent is for adults only in this formulary, and the patient is {value:g} years old"
-
-
-def hypotonic_raised_icp(value: float, _limit: float, _severity: str) -> str:
-    return (
-        f"this order lowers sodium (projected {value:+.1f} mmol/L): a hypotonic fluid draws water into the brain "
-        "and raises intracranial pressure, which is raised; give isotonic or hypertonic fluid instead"
-    )
+PROFOUND = (
+    "serum sodium {value:g} mmol/L is below the {severity} limit of {limit:g} mmol/L: profound "
+    "hyponatraemia (Spasovski 2014); look for its cause and for symptoms, and re-measure"
+)
+MODERATE = (
+    "serum sodium {value:g} mmol/L is below the {severity} limit of {limit:g} mmol/L: moderate "
+    "hyponatraemia (Spasovski 2014)"
+)
+HYPOKALAEMIA = (
+    "serum potassium {value:g} mmol/L is below the {severity} limit of {limit:g} mmol/L: severe "
+    "hypokalaemia; replacing potassium raises serum sodium too"
+)
+GAP_UNEXPLAINED = (
+    "osmolar gap {value:.1f} mOsm/kg is above the {severity} limit of {limit:g} mOsm/kg with no mannitol "
+    "ordered: exclude unmeasured osmoles (toxic alcohols such as methanol or ethylene glycol, ethanol not "
+    "entered, mannitol given elsewhere) before hyperosmolar therapy"
+)
+NOT_HYPOTONIC = (
+    "effective osmolality {value:.1f} mOsm/kg is at or above {limit:g} mOsm/kg: this low sodium is not "
+    "hypotonic (translocational, from high glucose or mannitol, or hypertonic), and raising sodium does not "
+    "treat it; correct the glucose first and judge the sodium corrected for it"
+)
+OSMOLAR_RATE = (
+    "osmolar rate {value:.2f} mOsm/kg/min is above the default {severity} limit of {limit:g} mOsm/kg/min "
+    "for an agent with no max_rate (published boluses give about 0.35: 3 % 250 mL or 23.4 % 30 mL over "
+    "10 min, mannitol 1 g/kg over 15 min, in 70 kg)"
+)
+WEIGHT_LOW = "weight {value:g} kg is below {limit:.3g} kg, the lightest that can be real at this age"
+WEIGHT_HIGH = "weight {value:g} kg is above {limit:.3g} kg, the heaviest that can be real at this age"
+OBESITY = (
+    "body mass index {value:.1f} kg/m^2 is {limit:g} or more: the fraction of weight overstates body water "
+    "in obesity, so the real sodium change may be larger than projected"
+)
+ADULT_ONLY = "this agent is for adults only in this formulary, and the patient is {value:g} years old"
+HYPOTONIC_RAISED_ICP = (
+    "this order lowers sodium (projected {value:+.1f} mmol/L): a hypotonic fluid draws water into the brain "
+    "and raises intracranial pressure, which is raised; give isotonic or hypertonic fluid instead"
+)
 
 
 # --- details that need more of the case than (value, limit): (columns, row) -> text ----------------

@@ -42,6 +42,9 @@ from osmodose.formulary.model import Agent, DoseKind, Limits
 from osmodose.science.precision import apart, rounded
 
 Describe = Callable[[float, float, str], str]
+#: A rule's words: a template over {value}, {limit}, {severity}, {shown} (`shown(value, limit)`), {what},
+#: {unit} and {side}, or a function of (value, limit, severity) for words a template cannot say.
+Words = str | Describe
 LimitOf = Callable[["Batch"], "np.ndarray | float"]
 Detail = Callable[[PatientColumns, int], str]
 
@@ -74,6 +77,10 @@ def shown(value: float, limit: float) -> str:
     if value != limit and rounded(value, digits) == limit:
         return f"{value:.6g}"
     return f"{rounded(value, digits):.{digits}f}"
+
+
+#: The words of a rule that says no more than that its figure crossed its limit.
+CROSSED = "{what} {shown} {unit} is {side} the {severity} limit of {limit:g} {unit}"
 
 
 @dataclass(frozen=True)
@@ -112,66 +119,6 @@ class Batch:
     aquaresis: np.ndarray
     range_judged: np.ndarray
 
-    @classmethod
-    def of(
-        cls,
-        cases: Cases,
-        figures: Figures,
-        agents: Sequence[Agent],
-        limits: Limits,
-        line: np.ndarray,
-        settings: SettingsTable | None = None,
-    ) -> Batch:
-        agent = AgentColumns.gather(agents, cases.agent_index)
-        has_agent = agent.has_agent
-        sodium = cases.sodium
-        rise = figures.projected_rise
-        # Fluids that lower sodium (5 % glucose in hypernatraemia) are what a high sodium
-        # calls for: the ceilings judge orders that raise sodium or osmolality.
-        with np.errstate(invalid="ignore"):
-            not_lowering = ~(rise < 0)  # NaN compares False: judged
-        applies, _, refuse = rise_limits_in_force(limits, sodium, high_risk(sodium, cases.potassium))
-        peripheral = np.asarray(line) == "peripheral"
-        lowering = has_agent & ~not_lowering
-        patient = PatientColumns.of(cases, figures, agent, limits, settings or SettingsTable(), lowering)
-        rise_applies = has_agent & applies
-        return cls(
-            limits=limits,
-            agent=agent,
-            figures=figures,
-            line=line,
-            sodium=sodium,
-            osmolality=judged_osmolality(cases.osmolality, figures.calculated_osmolality),
-            projected_sodium=figures.projected_sodium,
-            rise=rise,
-            fall=-rise,
-            osmolar_gap=figures.osmolar_gap,
-            agent_osmolarity=agent.osmolarity_mosm_l,
-            rise_without_losses=figures.projected_sodium_without_losses - sodium,
-            rise_high=figures.projected_sodium_high - sodium,
-            sodium_age_h=(
-                np.full(np.shape(sodium), np.nan) if cases.sodium_age_h is None else np.asarray(cases.sodium_age_h)
-            ),
-            always=np.ones(np.shape(has_agent), dtype=bool),
-            has_agent=has_agent,
-            not_lowering=not_lowering,
-            order_not_lowering=has_agent & not_lowering,
-            lowering=lowering,
-            mannitol=agent.is_mannitol,
-            mannitol_or_no_order=agent.is_mannitol | ~has_agent,
-            # The 24 h rise limits come from correcting chronic hyponatraemia: they protect a
-            # brain adapted to a low sodium. Osmotherapy from a normal sodium is judged by the
-            # sodium ceilings instead.
-            rise_applies=rise_applies,
-            rise_refuse=refuse,
-            central_only_peripheral=peripheral & agent.central_only,
-            other_peripheral=peripheral & ~agent.central_only,
-            patient=patient,
-            aquaresis=rise_applies & dilute_urine(cases),
-            # The point past the refuse limit is refused by sodium-rise-24h: the range adds nothing then.
-            range_judged=rise_applies & (threshold(rise, refuse, None) == 0),
-        )
-
     def figure(self, name: str) -> np.ndarray:
         """A judged figure: one the batch derives (`osmolality`, `rise`), a patient column or an engine figure."""
         found = getattr(self, name, None)
@@ -184,6 +131,71 @@ class Batch:
         """Where a rule applies: a condition of the batch or of the patient columns."""
         found = getattr(self, name, None)
         return np.asarray(getattr(self.patient, name) if found is None else found, dtype=bool)
+
+
+def apply_rules(
+    cases: Cases,
+    figures: Figures,
+    agents: Sequence[Agent],
+    limits: Limits,
+    line: np.ndarray,
+    settings: SettingsTable | None = None,
+) -> list[RuleOutcome]:
+    """Every rule of the table over every case; `line` holds "", "central" or "peripheral" per case.
+
+    `settings` (the formulary's) gives the adult age; without it, the default.  The rules read the
+    batch's figures, conditions and limits (`Batch`), gathered here once for every rule.
+    """
+    agent = AgentColumns.gather(agents, cases.agent_index)
+    has_agent = agent.has_agent
+    sodium = cases.sodium
+    rise = figures.projected_rise
+    # Fluids that lower sodium (5 % glucose in hypernatraemia) are what a high sodium
+    # calls for: the ceilings judge orders that raise sodium or osmolality.
+    with np.errstate(invalid="ignore"):
+        not_lowering = ~(rise < 0)  # NaN compares False: judged
+    applies, _, refuse = rise_limits_in_force(limits, sodium, high_risk(sodium, cases.potassium))
+    peripheral = np.asarray(line) == "peripheral"
+    lowering = has_agent & ~not_lowering
+    patient = PatientColumns.of(cases, figures, agent, limits, settings or SettingsTable(), lowering)
+    rise_applies = has_agent & applies
+    batch = Batch(
+        limits=limits,
+        agent=agent,
+        figures=figures,
+        line=line,
+        sodium=sodium,
+        osmolality=judged_osmolality(cases.osmolality, figures.calculated_osmolality),
+        projected_sodium=figures.projected_sodium,
+        rise=rise,
+        fall=-rise,
+        osmolar_gap=figures.osmolar_gap,
+        agent_osmolarity=agent.osmolarity_mosm_l,
+        rise_without_losses=figures.projected_sodium_without_losses - sodium,
+        rise_high=figures.projected_sodium_high - sodium,
+        sodium_age_h=(
+            np.full(np.shape(sodium), np.nan) if cases.sodium_age_h is None else np.asarray(cases.sodium_age_h)
+        ),
+        always=np.ones(np.shape(has_agent), dtype=bool),
+        has_agent=has_agent,
+        not_lowering=not_lowering,
+        order_not_lowering=has_agent & not_lowering,
+        lowering=lowering,
+        mannitol=agent.is_mannitol,
+        mannitol_or_no_order=agent.is_mannitol | ~has_agent,
+        # The 24 h rise limits come from correcting chronic hyponatraemia: they protect a
+        # brain adapted to a low sodium. Osmotherapy from a normal sodium is judged by the
+        # sodium ceilings instead.
+        rise_applies=rise_applies,
+        rise_refuse=refuse,
+        central_only_peripheral=peripheral & agent.central_only,
+        other_peripheral=peripheral & ~agent.central_only,
+        patient=patient,
+        aquaresis=rise_applies & dilute_urine(cases),
+        # The point past the refuse limit is refused by sodium-rise-24h: the range adds nothing then.
+        range_judged=rise_applies & (threshold(rise, refuse, None) == 0),
+    )
+    return [rule.judge(batch) for rule in RULES]
 
 
 def rise_limits_in_force(
@@ -210,8 +222,9 @@ class Rule:
     `warn` and `refuse` are a limit's name in the formulary, a function of the
     batch (a per-case limit), or None (no such limit).  `kind` says how the rule
     fires: above or below its limits, when the figure is missing, or whenever
-    it applies (`flag`, at the refuse level).  `describe` builds the message from
-    (value, limit, severity); the default says the figure crossed the limit.
+    it applies (`flag`, at the refuse level).  `describe` words the message from
+    (value, limit, severity), a template or a function (`Words`); the default,
+    `CROSSED`, says the figure crossed the limit.
     """
 
     code: str
@@ -222,7 +235,7 @@ class Rule:
     refuse: str | LimitOf | None
     applies: str
     kind: Kind = "above"
-    describe: Describe | None = None
+    describe: Words = CROSSED
     flags: Severity = "refuse"  # the severity of a `flag` rule
     detail: Detail | None = None  # words from more of the case, after the message
 
@@ -243,13 +256,16 @@ class Rule:
         return which(batch)
 
     def words(self) -> Describe:
-        if self.describe is not None:
+        """The message of a finding from (value, limit, severity): the rule's function, or its template filled."""
+        if callable(self.describe):
             return self.describe
-        what, unit = self.what, self.unit
-        side = "below" if self.kind == "below" else "above"
+        template = self.describe
+        fixed = {"what": self.what, "unit": self.unit, "side": "below" if self.kind == "below" else "above"}
+        with_shown = "{shown" in template  # `shown` costs a rounding: only where the words print it
 
         def describe(value: float, limit: float, severity: str) -> str:
-            return f"{what} {shown(value, limit)} {unit} is {side} the {severity} limit of {limit:g} {unit}"
+            text = shown(value, limit) if with_shown else ""
+            return template.format(value=value, limit=limit, severity=severity, shown=text, **fixed)
 
         return describe
 
@@ -281,19 +297,12 @@ def _negative_gap(value: float, limit: float, _severity: str) -> str:
     )
 
 
-def _osmolality_unknown(_value: float, _limit: float, _severity: str) -> str:
-    return (
-        "mannitol ordered with no serum osmolality (measured, or sodium, glucose and urea to calculate it): "
-        "the osmolality hold cannot be checked"
-    )
-
-
-def _central(value: float, _limit: float, _severity: str) -> str:
-    return f"this agent ({value:.0f} mOsm/L) is for a central line only and is ordered peripheral"
-
-
-def _too_fast(value: float, maximum: float, _severity: str) -> str:
-    return f"rate {shown(value, maximum)} mL/h is faster than the agent's maximum of {maximum:g} mL/h"
+_OSMOLALITY_UNKNOWN = (
+    "mannitol ordered with no serum osmolality (measured, or sodium, glucose and urea to calculate it): "
+    "the osmolality hold cannot be checked"
+)
+_CENTRAL = "this agent ({value:.0f} mOsm/L) is for a central line only and is ordered peripheral"
+_TOO_FAST = "rate {shown} mL/h is faster than the agent's maximum of {limit:g} mL/h"
 
 
 def _agent_limit(pick: Callable[[Agent], float | None]) -> LimitOf:
@@ -315,11 +324,7 @@ def _dose_limit(which: str, kind: DoseKind) -> LimitOf:
     return _agent_limit(pick)
 
 
-def _dose_words(what: str, unit: str) -> Describe:
-    def describe(value: float, limit: float, severity: str) -> str:
-        return f"{what} {value:.2f} {unit} is above the agent's {severity} limit of {limit:g} {unit}"
-
-    return describe
+_DOSE_WORDS = "{what} {value:.2f} {unit} is above the agent's {severity} limit of {limit:g} {unit}"
 
 
 def _dose_rule(figure: str, what: str, kind: DoseKind) -> Rule:
@@ -331,7 +336,7 @@ def _dose_rule(figure: str, what: str, kind: DoseKind) -> Rule:
         _dose_limit("dose_warn", kind),
         _dose_limit("dose_refuse", kind),
         "has_agent",
-        describe=_dose_words(what, kind),
+        describe=_DOSE_WORDS,
     )
 
 
@@ -352,26 +357,18 @@ def _aquaresis_limit(batch: Batch) -> np.ndarray:
     return np.where(within_warn & ~np.isnan(warn_limit), warn_limit, np.where(within_refuse, batch.rise_refuse, np.nan))
 
 
-def _aquaresis(value: float, limit: float, _severity: str) -> str:
-    return (
-        f"urine more dilute than serum (Na + K below the serum sodium: aquaresis) takes the projected rise to "
-        f"{shown(value, limit)} mmol/L, past the limit of {limit:g} mmol/L that the order alone stays within: "
-        "watch the urine output and re-measure sodium early"
-    )
-
-
-def _range_high(value: float, limit: float, _severity: str) -> str:
-    return (
-        f"the high end of the projected rise, {shown(value, limit)} mmol/L, is above the refuse limit of "
-        f"{limit:g} mmol/L: measured rises often outrun the projection (Mohmand 2007); re-measure sodium early"
-    )
-
-
-def _sodium_too_old(value: float, limit: float, _severity: str) -> str:
-    return (
-        f"the sodium was drawn {shown(value, limit)} h before this check, more than the {limit:g} h limit: "
-        "re-measure before dosing"
-    )
+_AQUARESIS = (
+    "urine more dilute than serum (Na + K below the serum sodium: aquaresis) takes the projected rise to "
+    "{shown} mmol/L, past the limit of {limit:g} mmol/L that the order alone stays within: "
+    "watch the urine output and re-measure sodium early"
+)
+_RANGE_HIGH = (
+    "the high end of the projected rise, {shown} mmol/L, is above the refuse limit of "
+    "{limit:g} mmol/L: measured rises often outrun the projection (Mohmand 2007); re-measure sodium early"
+)
+_SODIUM_TOO_OLD = (
+    "the sodium was drawn {shown} h before this check, more than the {limit:g} h limit: re-measure before dosing"
+)
 
 
 def _negative_gap_limit(batch: Batch) -> float:
@@ -442,7 +439,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "mannitol",
         "missing",
-        _osmolality_unknown,
+        _OSMOLALITY_UNKNOWN,
     ),
     Rule(
         "sodium-rise-24h",
@@ -461,7 +458,7 @@ RULES: tuple[Rule, ...] = (
         _aquaresis_limit,
         None,
         "aquaresis",
-        describe=_aquaresis,
+        describe=_AQUARESIS,
     ),
     Rule(
         "rise-range-high",
@@ -471,7 +468,7 @@ RULES: tuple[Rule, ...] = (
         lambda batch: batch.rise_refuse,
         None,
         "range_judged",
-        describe=_range_high,
+        describe=_RANGE_HIGH,
     ),
     Rule(
         "sodium-fall-24h",
@@ -494,7 +491,7 @@ RULES: tuple[Rule, ...] = (
         None,
         _agent_limit(lambda a: a.max_rate_ml_h),
         "has_agent",
-        describe=_too_fast,
+        describe=_TOO_FAST,
     ),
     Rule(
         "central-line-only",
@@ -505,7 +502,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "central_only_peripheral",
         "flag",
-        _central,
+        _CENTRAL,
     ),
     Rule(
         "peripheral-osmolarity",
@@ -526,7 +523,7 @@ RULES: tuple[Rule, ...] = (
         lambda batch: batch.patient.lightest_for_age,
         "always",
         kind="below",
-        describe=p.weight_low,
+        describe=p.WEIGHT_LOW,
         detail=p.weight_detail,
     ),
     Rule(
@@ -537,7 +534,7 @@ RULES: tuple[Rule, ...] = (
         None,
         lambda batch: batch.patient.heaviest_for_age,
         "always",
-        describe=p.weight_high,
+        describe=p.WEIGHT_HIGH,
         detail=p.weight_detail,
     ),
     Rule(
@@ -549,7 +546,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "always",
         kind="below",
-        describe=p.profound,
+        describe=p.PROFOUND,
     ),
     Rule(
         "hyponatraemia-moderate",
@@ -560,7 +557,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "not_profound",
         kind="below",
-        describe=p.moderate,
+        describe=p.MODERATE,
     ),
     Rule(
         "hypokalaemia-severe",
@@ -571,7 +568,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "always",
         kind="below",
-        describe=p.hypokalaemia,
+        describe=p.HYPOKALAEMIA,
     ),
     Rule(
         "osmolar-gap-unexplained",
@@ -581,7 +578,7 @@ RULES: tuple[Rule, ...] = (
         "osmolar_gap_unexplained_warn",
         None,
         "not_mannitol",
-        describe=p.gap_unexplained,
+        describe=p.GAP_UNEXPLAINED,
     ),
     # --- the order against the patient -------------------------------------------------------
     Rule(
@@ -593,7 +590,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "raising_not_hypotonic",
         kind="flag",
-        describe=p.not_hypotonic,
+        describe=p.NOT_HYPOTONIC,
         flags="warn",
     ),
     Rule(
@@ -604,7 +601,7 @@ RULES: tuple[Rule, ...] = (
         "osmolar_rate_warn",
         "osmolar_rate_refuse",
         "default_rate_applies",
-        describe=p.osmolar_rate,
+        describe=p.OSMOLAR_RATE,
     ),
     Rule(
         "body-water-obesity",
@@ -615,7 +612,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "obese_on_fraction",
         kind="flag",
-        describe=p.obesity,
+        describe=p.OBESITY,
         flags="warn",
         detail=p.obesity_detail,
     ),
@@ -628,7 +625,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "adult_only_for_child",
         kind="flag",
-        describe=p.adult_only,
+        describe=p.ADULT_ONLY,
     ),
     Rule(
         "hypotonic-raised-icp",
@@ -639,7 +636,7 @@ RULES: tuple[Rule, ...] = (
         None,
         "lowering_with_raised_icp",
         kind="flag",
-        describe=p.hypotonic_raised_icp,
+        describe=p.HYPOTONIC_RAISED_ICP,
         flags="warn",
     ),
     # Judged only where a labs file gave the sodium's effective time (typed labs carry none).
@@ -651,7 +648,7 @@ RULES: tuple[Rule, ...] = (
         "lab_max_age",
         None,
         "always",
-        describe=_sodium_too_old,
+        describe=_SODIUM_TOO_OLD,
     ),
 )
 
@@ -659,19 +656,3 @@ RULES: tuple[Rule, ...] = (
 RULES_BY_CODE: dict[str, Rule] = {}
 for _rule in RULES:
     RULES_BY_CODE.setdefault(_rule.code, _rule)
-
-
-def apply_rules(
-    cases: Cases,
-    figures: Figures,
-    agents: Sequence[Agent],
-    limits: Limits,
-    line: np.ndarray,
-    settings: SettingsTable | None = None,
-) -> list[RuleOutcome]:
-    """Every rule of the table over every case; `line` holds "", "central" or "peripheral" per case.
-
-    `settings` (the formulary's) gives the adult age; without it, the default.
-    """
-    batch = Batch.of(cases, figures, agents, limits, line, settings)
-    return [rule.judge(batch) for rule in RULES]
