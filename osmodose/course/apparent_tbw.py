@@ -27,7 +27,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from osmodose.check.judging import severity_of
-from osmodose.course.judging import CourseFinding, when
+from osmodose.course.judging import CourseFinding, past_limit, when
 from osmodose.course.projection import losses_between
 from osmodose.course.timeline import Timeline
 from osmodose.formulary.model import Limits
@@ -143,21 +143,14 @@ def apparent_tbw_findings(result: ApparentTbw, timeline: Timeline, limits: Limit
     labs, doses = timeline.labs, timeline.doses
     given = ", ".join(f"{doses.agent_ids[r]} {doses.volume_ml[r]:g} mL" for r in worst.dose_rows)
     count = f" ({len(low)} of {len(used)} intervals below it)" if len(used) > 1 else ""
-    message = (
-        f"sodium {worst.sodium_before:.1f} at {when(labs.times[worst.lab_from])} to {worst.sodium_after:.1f} at "
-        f"{when(labs.times[worst.lab_to])} after {given} implies a total body water of "
-        f"{worst.apparent_tbw_l:.1f} L, {shares[k]:.0f} % of the estimated {result.estimated_tbw_l:.1f} L, below "
-        f"the warn limit of {limit:g} %: a response much larger than predicted (aquaresis likely); "
-        "re-measure sodium early and watch the urine output" + count
-    )
-    return [
-        CourseFinding(
-            code="apparent-tbw-low",
-            severity="warn",
-            message=message,
-            value=shares[k],
-            limit=limit,
-            unit="%",
-            time=labs.times[worst.lab_to],
+
+    def words(_severity: str, limit: float) -> str:
+        return (
+            f"sodium {worst.sodium_before:.1f} at {when(labs.times[worst.lab_from])} to {worst.sodium_after:.1f} at "
+            f"{when(labs.times[worst.lab_to])} after {given} implies a total body water of "
+            f"{worst.apparent_tbw_l:.1f} L, {shares[k]:.0f} % of the estimated {result.estimated_tbw_l:.1f} L, below "
+            f"the warn limit of {limit:g} %: a response much larger than predicted (aquaresis likely); "
+            "re-measure sodium early and watch the urine output" + count
         )
-    ]
+
+    return past_limit("apparent-tbw-low", shares[k], (limit, None), "%", labs.times[worst.lab_to], words, below=True)

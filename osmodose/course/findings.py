@@ -3,7 +3,7 @@
 Each rule reads whole columns of the timeline and reports its worst instance
 (the largest rise, the highest sodium, the lowest CPP), naming its time, with
 how many entries crossed the limit.  Limits are judged as in a check, by
-`osmodose.check.rules.threshold` (see `course.judging`): a figure strictly above
+`osmodose.check.judging.threshold` (see `course.judging`): a figure strictly above
 (or, for CPP, strictly below) the limit fires, and one within rounding of the
 limit is at it.  Every default and its source is in
 `osmodose.formulary.limits`; ICP 22 mmHg and CPP 60 mmHg come from the Brain
@@ -20,13 +20,14 @@ import numpy as np
 
 from osmodose.check.judging import count_crossing, limit_crossed, severity_of, threshold
 from osmodose.check.rules import RULES_BY_CODE
-from osmodose.course.judging import CourseFinding, when
+from osmodose.course.judging import CourseFinding, crossing_count, past_limit, when
 from osmodose.course.multi_day import multi_day_findings
 from osmodose.course.projection import Projection
 from osmodose.course.sodium_rules import projected_findings, sodium_window_findings
 from osmodose.course.timeline import (
     SECONDS_PER_HOUR,
     LabColumns,
+    ReadingColumns,
     Timeline,
     gap_rise_across_mannitol,
     latest_measured_osmolality,
@@ -34,11 +35,7 @@ from osmodose.course.timeline import (
 )
 from osmodose.formulary.model import Limits
 
-__all__ = ["CourseFinding", "course_findings", "lab_age_h", "projected_findings", "when"]
-
-
-def _of(n: int, total: int, what: str) -> str:
-    return f" ({n} of {total} {what} crossing a limit)" if total > 1 else ""
+__all__ = ["CourseFinding", "course_findings", "lab_age_h", "mannitol_24h", "projected_findings", "when"]
 
 
 def course_findings(timeline: Timeline, limits: Limits, projection: Projection | None = None) -> list[CourseFinding]:
@@ -97,7 +94,7 @@ def _ceilings(timeline: Timeline, limits: Limits, at: float | None) -> list[Cour
         rank = {None: 0, "warn": 1, "refuse": 2}
         judged = max(reversed(now), key=lambda j: rank[severity_of(float(values[j]), warn, refuse)])
         peak = int(known[np.argmax(values[known])])
-        crossed = _of(count_crossing(values, warn if warn is not None else refuse), len(labs.t), "labs")
+        crossed = crossing_count(count_crossing(values, warn if warn is not None else refuse), len(labs.t), "labs")
         severity = severity_of(float(values[judged]), warn, refuse)
         if severity is not None:
             limit = refuse if severity == "refuse" else warn
@@ -167,23 +164,15 @@ def _osmolar_gap(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     rise_limit = limits.osmolar_gap_rise_warn
     if rise_limit is not None and len(has_gap) > 1:
         value, j, i = gap_rise_across_mannitol(t, gap, doses)  # sliding: no labs x labs matrix
-        if severity_of(value, rise_limit, None) is not None:
-            message = (
+
+        def rising(_severity: str, limit: float) -> str:
+            return (
                 f"osmolar gap rose {value:.1f} mOsm/kg across mannitol (from {gap[i]:.1f} at "
                 f"{when(labs.times[has_gap[i]])} to {gap[j]:.1f} at {when(labs.times[has_gap[j]])}), above the "
-                f"warn limit of {rise_limit:g} mOsm/kg: mannitol may be accumulating"
+                f"warn limit of {limit:g} mOsm/kg: mannitol may be accumulating"
             )
-            out.append(
-                CourseFinding(
-                    code="osmolar-gap-rising",
-                    severity="warn",
-                    message=message,
-                    value=value,
-                    limit=rise_limit,
-                    unit="mOsm/kg",
-                    time=labs.times[has_gap[j]],
-                )
-            )
+
+        out += past_limit("osmolar-gap-rising", value, (rise_limit, None), "mOsm/kg", labs.times[has_gap[j]], rising)
     out += _gap_after_mannitol(timeline, limits, has_gap, float(np.min(doses.t[doses.agent.is_mannitol])))
     return out
 
@@ -203,7 +192,7 @@ def _gap_after_mannitol(
     if not len(after):
         return []
     latest, peak = int(after[-1]), int(after[np.argmax(labs.gap[after])])
-    crossed = _of(count_crossing(labs.gap[after], warn if warn is not None else refuse), len(after), "gaps")
+    crossed = crossing_count(count_crossing(labs.gap[after], warn if warn is not None else refuse), len(after), "gaps")
     code = "osmolar-gap-high"
     severity = severity_of(float(labs.gap[latest]), warn, refuse) if latest == int(has_gap[-1]) else None
     if severity is not None:
@@ -244,69 +233,47 @@ def _mannitol_24h(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     if limit is None or not len(rows):
         return []
     j = int(rows[np.argmax(doses.mannitol_24h_g_per_kg[rows])])
-    value = float(doses.mannitol_24h_g_per_kg[j])
-    if severity_of(value, limit, None) is None:
-        return []
-    message = (
-        f"mannitol {value:.2f} g/kg within the 24 h up to the dose at {when(doses.times[j])} "
-        f"is above the warn limit of {limit:g} g/kg"
-    )
-    return [
-        CourseFinding(
-            code="mannitol-24h",
-            severity="warn",
-            message=message,
-            value=value,
-            limit=limit,
-            unit="g/kg",
-            time=doses.times[j],
-        )
-    ]
+    within = f"the 24 h up to the dose at {when(doses.times[j])}"
+    return mannitol_24h(float(doses.mannitol_24h_g_per_kg[j]), limit, within, doses.times[j])
+
+
+def mannitol_24h(g_per_kg: float, limit: float, within: str, time: datetime) -> list[CourseFinding]:
+    """Mannitol given within 24 h (`within` says which) above the unit's `mannitol_24h_max`: a warning."""
+
+    def words(_severity: str, limit: float) -> str:
+        return f"mannitol {g_per_kg:.2f} g/kg within {within} is above the warn limit of {limit:g} g/kg"
+
+    return past_limit("mannitol-24h", g_per_kg, (limit, None), "g/kg", time, words)
+
+
+#: The words of the pressure findings, over the reading judged and the limit (Carney 2017).
+_PRESSURE_WORDS = {
+    "icp-high": "ICP {icp:.0f} mmHg at {time} is above the treatment threshold of {limit:g} mmHg",
+    "cpp-low": "CPP {cpp:.0f} mmHg (MAP {map:.0f} - ICP {icp:.0f}) at {time} is below the target of {limit:g} mmHg",
+}
 
 
 def _pressures(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     r = timeline.readings
-    out: list[CourseFinding] = []
     if not len(r.t):
-        return out
-    icp_limit = limits.icp_treat_above
-    if severity_of(float(np.max(r.icp)), icp_limit, None) is not None:
-        j = int(np.argmax(r.icp))
-        message = (
-            f"ICP {r.icp[j]:.0f} mmHg at {when(r.times[j])} is above the treatment threshold of {icp_limit:g} mmHg"
-            + _of(count_crossing(r.icp, icp_limit), len(r.t), "readings")
+        return []
+    icp = _pressure(r, "icp-high", r.icp, limits.icp_treat_above)
+    return icp + _pressure(r, "cpp-low", r.cpp, limits.cpp_target_min, below=True)
+
+
+def _pressure(
+    r: ReadingColumns, code: str, values: np.ndarray, limit: float | None, below: bool = False
+) -> list[CourseFinding]:
+    """The worst reading past its limit (the highest ICP, the lowest CPP) warns, saying how many crossed it."""
+    j = int(np.argmin(values) if below else np.argmax(values))
+
+    def words(_severity: str, limit: float) -> str:
+        said = _PRESSURE_WORDS[code].format(
+            icp=r.icp[j], cpp=r.cpp[j], map=r.map[j], time=when(r.times[j]), limit=limit
         )
-        out.append(
-            CourseFinding(
-                code="icp-high",
-                severity="warn",
-                message=message,
-                value=float(r.icp[j]),
-                limit=icp_limit,
-                unit="mmHg",
-                time=r.times[j],
-            )
-        )
-    cpp_limit = limits.cpp_target_min
-    if severity_of(float(np.min(r.cpp)), cpp_limit, None, below=True) is not None:
-        j = int(np.argmin(r.cpp))
-        message = (
-            f"CPP {r.cpp[j]:.0f} mmHg (MAP {r.map[j]:.0f} - ICP {r.icp[j]:.0f}) at {when(r.times[j])} "
-            f"is below the target of {cpp_limit:g} mmHg"
-            + _of(count_crossing(r.cpp, cpp_limit, below=True), len(r.t), "readings")
-        )
-        out.append(
-            CourseFinding(
-                code="cpp-low",
-                severity="warn",
-                message=message,
-                value=float(r.cpp[j]),
-                limit=cpp_limit,
-                unit="mmHg",
-                time=r.times[j],
-            )
-        )
-    return out
+        return said + crossing_count(count_crossing(values, limit, below=below), len(r.t), "readings")
+
+    return past_limit(code, float(values[j]), (limit, None), "mmHg", r.times[j], words, below=below)
 
 
 def lab_age_h(timeline: Timeline, t: np.ndarray) -> np.ndarray:
@@ -331,7 +298,7 @@ def _stale_labs(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
     basis = (
         "with no labs before it" if np.isinf(value) else f"on labs {value:.1f} h old, older than the {limit:g} h limit"
     )
-    message = f"the dose of {doses.agent_ids[j]} at {when(doses.times[j])} was given {basis}" + _of(
+    message = f"the dose of {doses.agent_ids[j]} at {when(doses.times[j])} was given {basis}" + crossing_count(
         len(stale), len(doses.t), "doses"
     )
     return [

@@ -14,7 +14,8 @@ lowest sodium of the 48 h up to the window's end below
   to the window's end; a window is a later one when its own lowest sample was
   drawn 24 h or more after that.
 
-Both are judged through `check.judging.threshold`, like every limit.
+Both are judged through `check.judging.threshold`, like every limit, and worded
+as the 24 h changes are (`course.sodium_changes`).
 `rise_used` gives what a check or a plan shows as the rise already used: the
 sodium now less the lowest measured in the 24 h before.
 """
@@ -26,14 +27,15 @@ from datetime import datetime
 
 import numpy as np
 
-from osmodose.check.judging import SEVERITY_NAMES, severity_of, threshold, worst_index
 from osmodose.check.rules import rise_limits_in_force
-from osmodose.course.judging import CourseFinding, when
+from osmodose.course.judging import CourseFinding
+from osmodose.course.sodium_changes import MeasuredChange, ProjectedChange
 from osmodose.course.timeline import LOOKBACK_H, SECONDS_PER_HOUR, WINDOW_H, LabColumns, Timeline, window_change
 from osmodose.formulary.model import Limits
 
 #: A 24 h window whose lowest sample is this long after the lowest of the correction is a later day's.
 LATER_DAY_H = 24.0
+LATER_DAY = "24 h, a day or more after the lowest sodium"
 
 
 def multi_day_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
@@ -48,50 +50,17 @@ def multi_day_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding
     # the correction's start: when the lowest sodium of the 48 h up to each lab was drawn (sliding: linear memory)
     nadir_t = labs.t[two_days.low_index]
     later = labs.t[window.low_index] >= nadir_t + LATER_DAY_H * SECONDS_PER_HOUR
-    out = []
-    for code, change, start, judged, limit, within in (
-        ("sodium-rise-48h", two_days.rise, two_days.low_index, applies, limits.sodium_rise_48h_refuse, "48 h"),
-        (
-            "sodium-rise-later-24h",
-            window.rise,
-            window.low_index,
-            applies & later,
-            limits.sodium_rise_later_24h_refuse,
-            "24 h, a day or more after the lowest sodium",
-        ),
-    ):
-        severity = np.where(judged, threshold(change, None, limit), 0)
-        if not np.any(severity):
-            continue
-        j = worst_index(severity, change)
-        i = int(start[j])
-        value = float(change[j])
-        message = (
-            f"measured sodium rose {value:.1f} mmol/L within {within} (from {labs.sodium[i]:.1f} at "
-            f"{when(labs.times[i])} to {labs.sodium[j]:.1f} at {when(labs.times[j])}), above the refuse limit "
-            f"of {limit:g} mmol/L"
-        )
-        out.append(
-            CourseFinding(
-                code=code,
-                severity=SEVERITY_NAMES[int(severity[j])],
-                message=message,
-                value=value,
-                limit=limit,
-                unit="mmol/L",
-                time=labs.times[j],
-            )
-        )
-    return out
+    over_48h = MeasuredChange("sodium-rise-48h", two_days, "48 h", applies, None, limits.sodium_rise_48h_refuse)
+    refuse_later = limits.sodium_rise_later_24h_refuse
+    later_24h = MeasuredChange("sodium-rise-later-24h", window, LATER_DAY, applies & later, None, refuse_later)
+    return [*over_48h.findings(labs), *later_24h.findings(labs)]
 
 
-def projected_multi_day_findings(
-    labs: LabColumns, limits: Limits, at: datetime, sodium: float, what: str
-) -> list[CourseFinding]:
-    """A projected sodium at `at` against the 48 h and later-day limits, from the labs measured before it."""
+def projected_multi_day_changes(labs: LabColumns, limits: Limits, at: datetime) -> list[ProjectedChange]:
+    """A sodium projected at `at` against the 48 h and later-day limits, from the labs measured before it."""
     t_at = at.timestamp()
     in_48 = np.flatnonzero((labs.t >= t_at - LOOKBACK_H * SECONDS_PER_HOUR) & (labs.t <= t_at))
-    if not len(in_48) or np.isnan(sodium):
+    if not len(in_48):
         return []
     lowest = float(np.min(labs.sodium[in_48]))
     applies, _, _ = rise_limits_in_force(limits, np.array([lowest]), np.array([False]))
@@ -100,26 +69,12 @@ def projected_multi_day_findings(
     nadir = int(in_48[np.argmin(labs.sodium[in_48])])
     in_24 = in_48[labs.t[in_48] >= t_at - WINDOW_H * SECONDS_PER_HOUR]
     low_24 = int(in_24[np.argmin(labs.sodium[in_24])]) if len(in_24) else None
-    checks = [("projected-rise-48h", nadir, limits.sodium_rise_48h_refuse, "48 h")]
+    changes = [ProjectedChange("projected-rise-48h", nadir, (None, limits.sodium_rise_48h_refuse), "48 h")]
     if low_24 is not None and labs.t[low_24] >= labs.t[nadir] + LATER_DAY_H * SECONDS_PER_HOUR:
-        later = "24 h, a day or more after the lowest sodium"
-        checks.append(("projected-rise-later-24h", low_24, limits.sodium_rise_later_24h_refuse, later))
-    out = []
-    for code, start, limit, span in checks:
-        change = sodium - float(labs.sodium[start])
-        severity = severity_of(change, None, limit)
-        if severity is None or limit is None:
-            continue
-        message = (
-            f"{what} {sodium:.1f} mmol/L is {change:.1f} above the {labs.sodium[start]:.1f} measured at "
-            f"{when(labs.times[start])}, above the {severity} limit of {limit:g} mmol/L in {span}"
+        changes.append(
+            ProjectedChange("projected-rise-later-24h", low_24, (None, limits.sodium_rise_later_24h_refuse), LATER_DAY)
         )
-        out.append(
-            CourseFinding(
-                code=code, severity=severity, message=message, value=change, limit=limit, unit="mmol/L", time=at
-            )
-        )
-    return out
+    return changes
 
 
 @dataclass(frozen=True)

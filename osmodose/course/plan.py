@@ -31,14 +31,15 @@ import numpy as np
 
 from osmodose.case.fields import keys, read
 from osmodose.case.inputs import CheckRequest, DoseRequest, parse_check_request
-from osmodose.check.judging import high_risk, severity_of, threshold, worst_status
+from osmodose.check.judging import high_risk, threshold, worst_status
 from osmodose.check.patient_figures import budget_of
 from osmodose.check.results import CheckResult, Finding
 from osmodose.check.run import run_check
 from osmodose.course.apparent_tbw import ApparentTbw, apparent_tbw, apparent_tbw_findings
 from osmodose.course.entries import parse_time
 from osmodose.course.episode import Episode, LabEntry
-from osmodose.course.findings import CourseFinding, lab_age_h, projected_findings, when
+from osmodose.course.findings import CourseFinding, lab_age_h, mannitol_24h, projected_findings, when
+from osmodose.course.judging import past_limit
 from osmodose.course.multi_day import rise_used
 from osmodose.course.plan_osmolality import carried_osmolality, osmolality_findings
 from osmodose.course.projection import Projection, episode_tbw_l, project_now, tbw_method, tbw_notes
@@ -341,18 +342,16 @@ def with_course_context(
 
 
 def _stale(timeline: Timeline, formulary: Formulary, at: datetime) -> list[CourseFinding]:
-    limit = formulary.limits.lab_max_age
     age = float(lab_age_h(timeline, np.asarray([at.timestamp()]))[0])
-    if severity_of(age, limit, None) is None:
-        return []
-    drawn = timeline.labs.times[latest_lab_at(timeline.labs, at.timestamp())]
-    message = (
-        f"the latest labs ({when(drawn)}) are {age:.1f} h old at {when(at)}, "
-        f"older than the {limit:g} h limit: re-measure before dosing"
-    )
-    return [
-        CourseFinding(code="labs-too-old", severity="warn", message=message, value=age, limit=limit, unit="h", time=at)
-    ]
+
+    def words(_severity: str, limit: float) -> str:
+        drawn = timeline.labs.times[latest_lab_at(timeline.labs, at.timestamp())]
+        return (
+            f"the latest labs ({when(drawn)}) are {age:.1f} h old at {when(at)}, "
+            f"older than the {limit:g} h limit: re-measure before dosing"
+        )
+
+    return past_limit("labs-too-old", age, (formulary.limits.lab_max_age, None), "h", at, words)
 
 
 def _mannitol(
@@ -367,15 +366,7 @@ def _mannitol(
     inside = (doses.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (doses.t <= t_at)
     given = float(np.sum(doses.mannitol_g[inside]))
     total = (given + dose.solute_g) / weight_kg
-    if severity_of(total, limit, None) is None:
-        return []
-    message = (
-        f"mannitol {total:.2f} g/kg within 24 h with this dose ({given:.0f} g given since "
-        f"{when(datetime.fromtimestamp(t_at - WINDOW_H * SECONDS_PER_HOUR, at.tzinfo))} + {dose.solute_g:.0f} g) "
-        f"is above the warn limit of {limit:g} g/kg"
+    since = when(datetime.fromtimestamp(t_at - WINDOW_H * SECONDS_PER_HOUR, at.tzinfo))
+    return mannitol_24h(
+        total, limit, f"24 h with this dose ({given:.0f} g given since {since} + {dose.solute_g:.0f} g)", at
     )
-    return [
-        CourseFinding(
-            code="mannitol-24h", severity="warn", message=message, value=total, limit=limit, unit="g/kg", time=at
-        )
-    ]

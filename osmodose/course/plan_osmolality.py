@@ -16,16 +16,16 @@ the plan warns to re-measure before another dose.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from datetime import datetime
 
 import numpy as np
 
-from osmodose.check.judging import limit_crossed, severity_of
 from osmodose.check.results import CheckResult
 from osmodose.check.rules import RULES_BY_CODE
-from osmodose.course.judging import CourseFinding, when
+from osmodose.course.judging import CourseFinding, past_limit, when
 from osmodose.course.projection import Projection
 from osmodose.course.timeline import SECONDS_PER_HOUR, Timeline, latest_measured_osmolality
-from osmodose.formulary.model import Formulary
+from osmodose.formulary.model import Formulary, Limits
 
 #: Each mmol/L of sodium counts twice in the calculated osmolality (2 Na + glucose + urea).
 OSMOLES_PER_SODIUM = 2.0
@@ -96,30 +96,27 @@ def osmolality_findings(
             "Re-measure before dosing on it."
         )
         lowers = check.projected_sodium_rise_mmol_l is not None and check.projected_sodium_rise_mmol_l < 0
-        warn, refuse = RULES_BY_CODE["osmolality-high"].named_limits(limits)
-        severity = severity_of(carried.value, warn, refuse)
-        if not lowers and (calculated is None or carried.value > calculated) and severity is not None:
-            limit = limit_crossed(severity, warn, refuse)
-            found.append(
-                CourseFinding(
-                    code="projected-osmolality-high",
-                    severity=severity,
-                    message=(
-                        f"osmolality now about {carried.value:.1f} mOsm/kg (measured {carried.measured:g} at "
-                        f"{when(drawn)}, {carried.age_h:.1f} h old, + 2 x {carried.sodium_change:.1f} sodium "
-                        f"change since) is above the {severity} limit of {limit:g} mOsm/kg"
-                    ),
-                    value=carried.value,
-                    limit=limit,
-                    unit="mOsm/kg",
-                    time=at,
-                )
-            )
+        if not lowers and (calculated is None or carried.value > calculated):
+            found += _carried_high(carried, drawn, limits, at)
         found += _measured_gap(timeline, formulary, check, carried)
     else:
         notes += _too_old(timeline, formulary, projection)
     found += _mannitol_since_osmolality(timeline, projection)
     return found, notes
+
+
+def _carried_high(carried: Carried, drawn: datetime, limits: Limits, at: datetime) -> list[CourseFinding]:
+    """The carried osmolality against the osmolality ceilings (the limits of the check's `osmolality-high`)."""
+
+    def words(severity: str, limit: float) -> str:
+        return (
+            f"osmolality now about {carried.value:.1f} mOsm/kg (measured {carried.measured:g} at "
+            f"{when(drawn)}, {carried.age_h:.1f} h old, + 2 x {carried.sodium_change:.1f} sodium "
+            f"change since) is above the {severity} limit of {limit:g} mOsm/kg"
+        )
+
+    ceilings = RULES_BY_CODE["osmolality-high"].named_limits(limits)
+    return past_limit("projected-osmolality-high", carried.value, ceilings, "mOsm/kg", at, words)
 
 
 def _too_old(timeline: Timeline, formulary: Formulary, projection: Projection) -> list[str]:
@@ -159,24 +156,16 @@ def _measured_gap(
     labs = timeline.labs
     index = carried.lab_index
     gap = float(labs.gap[index])
-    warn, refuse = RULES_BY_CODE["osmolar-gap-high"].named_limits(formulary.limits)
-    severity = severity_of(gap, warn, refuse)
-    if severity is None:
-        return []
-    limit = limit_crossed(severity, warn, refuse)
     drawn = labs.times[index]
-    return [
-        CourseFinding(
-            code="osmolar-gap-high",
-            severity=severity,
-            message=f"osmolar gap {gap:.1f} mOsm/kg at the latest measured osmolality ({when(drawn)}, "
-            f"{carried.age_h:.1f} h old) is above the {severity} limit of {limit:g} mOsm/kg",
-            value=gap,
-            limit=limit,
-            unit="mOsm/kg",
-            time=drawn,
+
+    def words(severity: str, limit: float) -> str:
+        return (
+            f"osmolar gap {gap:.1f} mOsm/kg at the latest measured osmolality ({when(drawn)}, "
+            f"{carried.age_h:.1f} h old) is above the {severity} limit of {limit:g} mOsm/kg"
         )
-    ]
+
+    gap_limits = RULES_BY_CODE["osmolar-gap-high"].named_limits(formulary.limits)
+    return past_limit("osmolar-gap-high", gap, gap_limits, "mOsm/kg", drawn, words)
 
 
 def _mannitol_since_osmolality(timeline: Timeline, projection: Projection) -> list[CourseFinding]:

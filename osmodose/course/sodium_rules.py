@@ -23,31 +23,13 @@ from __future__ import annotations
 
 import numpy as np
 
-from osmodose.check.judging import (
-    HIGH_RISK_POTASSIUM_BELOW,
-    HIGH_RISK_SODIUM_AT_MOST,
-    SEVERITY_NAMES,
-    Severity,
-    limit_crossed,
-    severity_of,
-    threshold,
-    worst_index,
-)
 from osmodose.check.rules import RULES_BY_CODE, rise_limits_in_force
-from osmodose.course.judging import CourseFinding, when
-from osmodose.course.multi_day import projected_multi_day_findings
+from osmodose.course.judging import CourseFinding, past_limit
+from osmodose.course.multi_day import projected_multi_day_changes
 from osmodose.course.projection import Projection
+from osmodose.course.sodium_changes import MeasuredChange, ProjectedChange
 from osmodose.course.timeline import LOOKBACK_H, SECONDS_PER_HOUR, WINDOW_H, Timeline, latest_lab_at, lookback
 from osmodose.formulary.model import Limits
-
-HIGH_RISK_WORDS = (
-    f"high risk of osmotic demyelination: sodium {HIGH_RISK_SODIUM_AT_MOST:g} mmol/L or below, "
-    f"or potassium below {HIGH_RISK_POTASSIUM_BELOW:g} mmol/L, within 48 h"
-)
-
-
-def _num(value: float | None) -> float:
-    return np.nan if value is None else float(value)
 
 
 def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFinding]:
@@ -58,55 +40,11 @@ def sodium_window_findings(timeline: Timeline, limits: Limits) -> list[CourseFin
     window, back = labs.sodium_window, labs.sodium_lookback
     applies, rise_warn, rise_refuse = rise_limits_in_force(limits, back.lowest_sodium, back.high_risk)
     fall_warn, fall_refuse = RULES_BY_CODE["sodium-fall-24h"].named_limits(limits)
-    out: list[CourseFinding] = []
-    for code, change, severity, start_index, verb, warn, refuse, risky in (
-        (
-            "sodium-rise-24h",
-            window.rise,
-            np.where(applies, threshold(window.rise, rise_warn, rise_refuse), 0),
-            window.low_index,
-            "rose",
-            np.full(len(labs.t), rise_warn),
-            rise_refuse,
-            back.high_risk,
-        ),
-        (
-            "sodium-fall-24h",
-            window.fall,
-            threshold(window.fall, fall_warn, fall_refuse),
-            window.high_index,
-            "fell",
-            np.full(len(labs.t), _num(fall_warn)),
-            np.full(len(labs.t), _num(fall_refuse)),
-            np.zeros(len(labs.t), dtype=bool),
-        ),
-    ):
-        if not np.any(severity):
-            continue
-        j = worst_index(severity, change)
-        name = SEVERITY_NAMES[int(severity[j])]
-        limit = float(refuse[j] if name == "refuse" else warn[j])
-        value, i = float(change[j]), int(start_index[j])
-        crossed = int(np.count_nonzero(severity))
-        message = (
-            f"measured sodium {verb} {value:.1f} mmol/L within 24 h (from {labs.sodium[i]:.1f} at "
-            f"{when(labs.times[i])} to {labs.sodium[j]:.1f} at {when(labs.times[j])}), above the {name} "
-            f"limit of {limit:g} mmol/L"
-            + (f" ({HIGH_RISK_WORDS})" if risky[j] else "")
-            + (f" ({crossed} of {len(labs.t)} labs crossing a limit)" if len(labs.t) > 1 else "")
-        )
-        out.append(
-            CourseFinding(
-                code=code,
-                severity=name,
-                message=message,
-                value=value,
-                limit=limit,
-                unit="mmol/L",
-                time=labs.times[j],
-            )
-        )
-    return out
+    rise = MeasuredChange(
+        "sodium-rise-24h", window, "24 h", applies, rise_warn, rise_refuse, high_risk=back.high_risk, counted=True
+    )
+    fall = MeasuredChange("sodium-fall-24h", window, "24 h", True, fall_warn, fall_refuse, falling=True, counted=True)
+    return [*rise.findings(labs), *fall.findings(labs)]
 
 
 def projected_findings(
@@ -115,47 +53,27 @@ def projected_findings(
     """A projected sodium against the ceilings, the low limits (when lowered from `before`), and the 24 h limits.
 
     The rise is from the lowest, the fall from the highest sodium measured in
-    the 24 h before (the latest lab when none is that recent).
+    the 24 h before (the latest lab when none is that recent); the 48 h and
+    later-day limits follow (`multi_day`).
     """
-    out: list[CourseFinding] = []
     if np.isnan(sodium):
-        return out
+        return []
     labs = timeline.labs
     at = projection.at
 
-    def add(code: str, severity: Severity, message: str, value: float, limit: float | None) -> None:
-        out.append(
-            CourseFinding(
-                code=code,
-                severity=severity,
-                message=message,
-                value=value,
-                limit=limit,
-                unit="mmol/L",
-                time=at,
-            )
+    def high(severity: str, limit: float) -> str:
+        return f"{what} {sodium:.1f} mmol/L is above the {severity} limit of {limit:g} mmol/L"
+
+    def low(severity: str, limit: float) -> str:
+        return (
+            f"{what} {sodium:.1f} mmol/L, lowered from {before:.1f}, is below the {severity} limit of {limit:g} mmol/L"
         )
 
-    warn, refuse = RULES_BY_CODE["projected-sodium-high"].named_limits(limits)
-    if (severity := severity_of(sodium, warn, refuse)) is not None:
-        limit = limit_crossed(severity, warn, refuse)
-        add(
-            "projected-sodium-high",
-            severity,
-            f"{what} {sodium:.1f} mmol/L is above the {severity} limit of {limit:g} mmol/L",
-            sodium,
-            limit,
-        )
-    warn, refuse = RULES_BY_CODE["projected-sodium-low"].named_limits(limits)
-    if sodium < before and (severity := severity_of(sodium, warn, refuse, below=True)) is not None:
-        limit = limit_crossed(severity, warn, refuse)
-        add(
-            "projected-sodium-low",
-            severity,
-            f"{what} {sodium:.1f} mmol/L, lowered from {before:.1f}, is below the {severity} limit of {limit:g} mmol/L",
-            sodium,
-            limit,
-        )
+    ceilings = RULES_BY_CODE["projected-sodium-high"].named_limits(limits)
+    found = past_limit("projected-sodium-high", sodium, ceilings, "mmol/L", at, high)
+    if sodium < before:
+        floors = RULES_BY_CODE["projected-sodium-low"].named_limits(limits)
+        found += past_limit("projected-sodium-low", sodium, floors, "mmol/L", at, low, below=True)
     t_at = at.timestamp()
     inside = np.flatnonzero((labs.t >= t_at - WINDOW_H * SECONDS_PER_HOUR) & (labs.t <= t_at))
     if not len(inside):
@@ -163,23 +81,15 @@ def projected_findings(
     t_from = min(t_at - LOOKBACK_H * SECONDS_PER_HOUR, float(labs.t[inside[0]]))
     back = lookback(labs.t, labs.sodium, labs.potassium, np.asarray([t_from]), np.asarray([t_at]))
     applies, warn_rise, refuse_rise = rise_limits_in_force(limits, back.lowest_sodium, back.high_risk)
-    low = int(inside[np.argmin(labs.sodium[inside])])
-    high = int(inside[np.argmax(labs.sodium[inside])])
-    fall_warn, fall_refuse = RULES_BY_CODE["sodium-fall-24h"].named_limits(limits)
-    for code, change, start, direction, warn, refuse, judged, risky in (
-        ("projected-rise-24h", sodium - float(labs.sodium[low]), low, "above", warn_rise, float(refuse_rise[0]),
-         bool(applies[0]), bool(back.high_risk[0])),
-        ("projected-fall-24h", float(labs.sodium[high]) - sodium, high, "below", fall_warn, fall_refuse, True,
-         False),
-    ):  # fmt: skip
-        severity = severity_of(change, warn, refuse) if judged else None
-        if severity is None:
-            continue
-        limit = limit_crossed(severity, warn, refuse)
-        message = (
-            f"{what} {sodium:.1f} mmol/L is {change:.1f} {direction} the {labs.sodium[start]:.1f} measured at "
-            f"{when(labs.times[start])}, above the {severity} limit of {limit:g} mmol/L in 24 h"
-            + (f" ({HIGH_RISK_WORDS})" if risky else "")
-        )
-        add(code, severity, message, change, limit)
-    return out + projected_multi_day_findings(labs, limits, at, sodium, what)
+    lowest = int(inside[np.argmin(labs.sodium[inside])])
+    highest = int(inside[np.argmax(labs.sodium[inside])])
+    fall_limits = RULES_BY_CODE["sodium-fall-24h"].named_limits(limits)
+    rise = ProjectedChange(
+        "projected-rise-24h", lowest, (warn_rise, float(refuse_rise[0])), "24 h", high_risk=bool(back.high_risk[0])
+    )
+    changes = [
+        *([rise] if applies[0] else []),
+        ProjectedChange("projected-fall-24h", highest, fall_limits, "24 h", "below"),
+        *projected_multi_day_changes(labs, limits, at),
+    ]
+    return found + [x for change in changes for x in change.findings(labs, what, sodium, at)]
