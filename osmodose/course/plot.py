@@ -173,16 +173,18 @@ def _doses(axis: Any, series: CourseSeries, at: Any, labelled: bool) -> None:
         )
 
 
+def _limit_lines(axis: Any, warn: float | None, refuse: float | None, what: str) -> None:
+    """The warn (orange) and refuse (red) limits a panel's figure is judged by, each labelled with its value."""
+    for value, colour, name in ((warn, "tab:orange", "warn"), (refuse, "tab:red", "refuse")):
+        if value is not None:
+            axis.axhline(value, color=colour, linewidth=1, label=f"{what}{name} {value:g}")
+
+
 def _sodium_panel(top: Any, series: CourseSeries, at: Any, title: str) -> None:
     for k, (hours, sodium) in enumerate(series.projected):
         top.plot(at(hours), sodium, "--", color="tab:blue", alpha=0.6, label="projected" if k == 0 else None)
     top.plot(at(series.lab_hours), series.sodium, "o", color="tab:blue", label="measured")
-    for value, colour, name in (
-        (series.sodium_warn, "tab:orange", "warn"),
-        (series.sodium_refuse, "tab:red", "refuse"),
-    ):
-        if value is not None:
-            top.axhline(value, color=colour, linewidth=1, label=f"{name} {value:g}")
+    _limit_lines(top, series.sodium_warn, series.sodium_refuse, "")
     _doses(top, series, at, labelled=True)
     top.set_ylabel("sodium (mmol/L)")
     top.legend(loc="lower right", fontsize="small")
@@ -194,12 +196,7 @@ def _osmolality_panel(axis: Any, series: CourseSeries, at: Any) -> None:
     hours = at(series.lab_hours)
     axis.plot(hours, series.measured_osmolality, "o-", color="tab:brown", label="measured osmolality")
     axis.plot(hours, series.calculated_osmolality, "x--", color="tab:grey", label="calculated osmolality")
-    for value, colour, name in (
-        (series.osmolality_warn, "tab:orange", "warn"),
-        (series.osmolality_refuse, "tab:red", "refuse"),
-    ):
-        if value is not None:
-            axis.axhline(value, color=colour, linewidth=1, label=f"osmolality {name} {value:g}")
+    _limit_lines(axis, series.osmolality_warn, series.osmolality_refuse, "osmolality ")
     _doses(axis, series, at, labelled=False)
     axis.set_ylabel("osmolality (mOsm/kg)")
     gap = axis.twinx()

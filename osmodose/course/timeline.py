@@ -12,6 +12,7 @@ same minute as a lab is taken as given after the sample was drawn.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime
 
@@ -20,7 +21,7 @@ import numpy as np
 from osmodose.case.fields import LAB_FIELDS
 from osmodose.check.engine import AgentColumns, Cases, compute
 from osmodose.check.judging import high_risk, judged_osmolality
-from osmodose.course.episode import Episode
+from osmodose.course.episode import EntryBase, Episode
 from osmodose.course.windows import largest_rise_across, sliding_extreme, window_any, window_bounds, window_sums
 from osmodose.formulary.model import Formulary
 from osmodose.science import formulas as f
@@ -31,10 +32,6 @@ WINDOW_H = 24.0
 #: begun yesterday from a low sodium is still judged today once sodium is back in range.
 LOOKBACK_H = 48.0
 SECONDS_PER_HOUR = 3600.0
-
-
-def _seconds(times: tuple[datetime, ...] | list[datetime]) -> np.ndarray:
-    return np.asarray([t.timestamp() for t in times], dtype=float)
 
 
 def _column(values: list[float | None]) -> np.ndarray:
@@ -95,9 +92,24 @@ def lookback(
 
 
 @dataclass(frozen=True)
-class LabColumns:
+class EntryColumns:
+    """Entries of one kind as columns, a row each in time order, with their times (what every kind has).
+
+    `times` keep the offsets they were written with, to show them; `t` (POSIX seconds) compares them.
+    """
+
     times: tuple[datetime, ...]
     t: np.ndarray
+
+
+def _times(entries: Sequence[EntryBase]) -> tuple[tuple[datetime, ...], np.ndarray]:
+    """The `times` and `t` of `EntryColumns`."""
+    times = tuple(entry.time for entry in entries)
+    return times, np.asarray([moment.timestamp() for moment in times], dtype=float)
+
+
+@dataclass(frozen=True)
+class LabColumns(EntryColumns):
     sodium: np.ndarray
     potassium: np.ndarray
     glucose: np.ndarray
@@ -112,10 +124,8 @@ class LabColumns:
 
 
 @dataclass(frozen=True)
-class DoseColumns:
-    times: tuple[datetime, ...]
+class DoseColumns(EntryColumns):
     agent_ids: tuple[str, ...]
-    t: np.ndarray
     t_end: np.ndarray
     volume_ml: np.ndarray
     duration_min: np.ndarray
@@ -125,20 +135,16 @@ class DoseColumns:
 
 
 @dataclass(frozen=True)
-class ReadingColumns:
-    times: tuple[datetime, ...]
-    t: np.ndarray
+class ReadingColumns(EntryColumns):
     map: np.ndarray
     icp: np.ndarray
     cpp: np.ndarray
 
 
 @dataclass(frozen=True)
-class OutputColumns:
+class OutputColumns(EntryColumns):
     """Urine outputs: collected evenly over [t_start, t] (t_start = t when no period is given)."""
 
-    times: tuple[datetime, ...]
-    t: np.ndarray
     t_start: np.ndarray
     volume_ml: np.ndarray
     #: Na + K of each output, mmol/L (potassium 0 when not measured); NaN without a urine sodium.
@@ -172,8 +178,7 @@ def lab_columns(episode: Episode, formulary: Formulary) -> LabColumns:
     """The labs as columns, their osmolality figures worked by the engine exactly as a check works them."""
     labs = episode.labs
     n = len(labs)
-    times = tuple(lab.time for lab in labs)
-    t = _seconds(times)
+    times, t = _times(labs)
     columns = {field.key: _column([lab.value(field.key) for lab in labs]) for field in LAB_FIELDS}
     p = episode.patient
     cases = Cases(
@@ -216,7 +221,7 @@ def dose_columns(episode: Episode, formulary: Formulary, weight_kg: float) -> Do
         dtype=int,
     )
     agent = AgentColumns.gather(formulary.agents, index)
-    t = _seconds([d.time for d in doses])
+    times, t = _times(doses)
     duration = _column([d.duration_min for d in doses])
     volume = _column([d.volume_ml for d in doses])
     grams = np.asarray(f.amount_in_volume(volume, agent.solute_g_per_l), dtype=float)
@@ -224,9 +229,9 @@ def dose_columns(episode: Episode, formulary: Formulary, weight_kg: float) -> Do
     lo, hi = window_bounds(t, t - WINDOW_H * SECONDS_PER_HOUR, t)
     cumulative = window_sums(mannitol_g, lo, hi) / weight_kg
     return DoseColumns(
-        times=tuple(d.time for d in doses),
-        agent_ids=tuple(d.agent_id for d in doses),
+        times=times,
         t=t,
+        agent_ids=tuple(d.agent_id for d in doses),
         t_end=t + np.nan_to_num(duration, nan=0.0) * 60.0,
         volume_ml=volume,
         duration_min=duration,
@@ -238,11 +243,12 @@ def dose_columns(episode: Episode, formulary: Formulary, weight_kg: float) -> Do
 
 def reading_columns(episode: Episode) -> ReadingColumns:
     readings = episode.readings
+    times, t = _times(readings)
     map_ = _column([r.map_mmhg for r in readings])
     icp = _column([r.icp_mmhg for r in readings])
     return ReadingColumns(
-        times=tuple(r.time for r in readings),
-        t=_seconds([r.time for r in readings]),
+        times=times,
+        t=t,
         map=map_,
         icp=icp,
         cpp=np.asarray(f.cerebral_perfusion_pressure(map_, icp), dtype=float),
@@ -251,12 +257,12 @@ def reading_columns(episode: Episode) -> ReadingColumns:
 
 def output_columns(episode: Episode) -> OutputColumns:
     outputs = episode.outputs
-    t = _seconds([o.time for o in outputs])
+    times, t = _times(outputs)
     over = _column([o.over_min for o in outputs])
     sodium = _column([o.sodium_mmol_l for o in outputs])
     potassium = _column([o.potassium_mmol_l for o in outputs])
     return OutputColumns(
-        times=tuple(o.time for o in outputs),
+        times=times,
         t=t,
         t_start=t - np.nan_to_num(over, nan=0.0) * 60.0,
         volume_ml=_column([o.volume_ml for o in outputs]),
