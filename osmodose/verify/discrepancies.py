@@ -29,6 +29,8 @@ not repeated here.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 from pydantic import BaseModel, ConfigDict
 
 from osmodose.check.judging import severity_of
@@ -86,6 +88,16 @@ def _judge_ratio(stated: float, recomputed: float, tolerance_percent: float) -> 
     return None
 
 
+def _by_ratio(
+    code: str, stated: float, recomputed: float, unit: str, tolerance_percent: float, words: Callable[[], str]
+) -> Discrepancy | None:
+    """A stated figure against the recomputed one, judged by their ratio (`_judge_ratio`), worded once it is off."""
+    severity = _judge_ratio(stated, recomputed, tolerance_percent)
+    if severity is None:
+        return None
+    return Discrepancy(code=code, severity=severity, message=words(), stated=stated, recomputed=recomputed, unit=unit)
+
+
 def _times(stated: float, recomputed: float) -> str:
     ratio = recomputed / stated
     return f"{ratio:.2g} times the stated" if ratio >= 1 else f"{ratio:.2g} of the stated"
@@ -139,28 +151,24 @@ def _stated_dose(
         return None
     weight = result.patient.weight_kg
     recomputed = _recomputed_dose(order, dose, agent, weight)
-    severity = _judge_ratio(stated.amount, recomputed, tolerance)
-    if severity is None:
-        return None
     unit = stated.unit + ("/kg" if stated.per_kg else "")
-    volume_for_stated = order.volume_ml * stated.amount / recomputed if recomputed > 0 else None
-    message = (
-        f"stated dose {stated.label}, but {order.volume_ml:g} mL of {agent.id} is {recomputed:.3g} {unit}"
-        + (f" for {weight:g} kg" if stated.per_kg else "")
-        + f" ({_times(stated.amount, recomputed)} dose)"
-    )
-    if volume_for_stated is not None:
-        message += f"; {stated.label} is {volume_for_stated:.0f} mL"
-        if stated.per_kg:
-            message += f"; the volume fits {stated.label} for a weight of {weight * recomputed / stated.amount:.0f} kg"
-    return Discrepancy(
-        code=STATED_DOSE_MISMATCH,
-        severity=severity,
-        message=message,
-        stated=stated.amount,
-        recomputed=recomputed,
-        unit=unit,
-    )
+
+    def words() -> str:
+        volume_for_stated = order.volume_ml * stated.amount / recomputed if recomputed > 0 else None
+        message = (
+            f"stated dose {stated.label}, but {order.volume_ml:g} mL of {agent.id} is {recomputed:.3g} {unit}"
+            + (f" for {weight:g} kg" if stated.per_kg else "")
+            + f" ({_times(stated.amount, recomputed)} dose)"
+        )
+        if volume_for_stated is not None:
+            message += f"; {stated.label} is {volume_for_stated:.0f} mL"
+            if stated.per_kg:
+                message += (
+                    f"; the volume fits {stated.label} for a weight of {weight * recomputed / stated.amount:.0f} kg"
+                )
+        return message
+
+    return _by_ratio(STATED_DOSE_MISMATCH, stated.amount, recomputed, unit, tolerance, words)
 
 
 def _stated_rate(order: Order, tolerance: float) -> Discrepancy | None:
@@ -168,21 +176,11 @@ def _stated_rate(order: Order, tolerance: float) -> Discrepancy | None:
         return None
     # The rate the written duration gives, against the rate written beside it.
     from_duration = float(infusion_rate(order.volume_ml, order.duration_min))
-    severity = _judge_ratio(order.rate_ml_h, from_duration, tolerance)
-    if severity is None:
-        return None
     message = (
         f"stated rate {order.rate_ml_h:g} mL/h, but {order.volume_ml:g} mL over {order.duration_min:g} min "
         f"is {from_duration:.0f} mL/h; the faster is checked against the agent's maximum"
     )
-    return Discrepancy(
-        code=STATED_RATE_MISMATCH,
-        severity=severity,
-        message=message,
-        stated=order.rate_ml_h,
-        recomputed=from_duration,
-        unit="mL/h",
-    )
+    return _by_ratio(STATED_RATE_MISMATCH, order.rate_ml_h, from_duration, "mL/h", tolerance, lambda: message)
 
 
 def _stated_sodium(order: Order, result: CheckResult, agent: Agent, limits: Limits) -> Discrepancy | None:
@@ -246,23 +244,14 @@ def _line(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
         return None
     if agent.central_only:
         message = f"{agent.id} is for a central line only and the order names no line: state the line"
-        return Discrepancy(
-            code=LINE_NOT_STATED,
-            severity="warn",
-            message=message,
-            stated=None,
-            recomputed=None,
-            unit="",
-            acceptable=False,
-        )
-    else:
-        peripheral_limit = limits.peripheral_osmolarity_warn
-        if peripheral_limit is None or agent.osmolarity_mosm_l <= peripheral_limit:
-            return None
-        message = (
-            f"{agent.id} ({agent.osmolarity_mosm_l:.0f} mOsm/L) is above the peripheral-line limit of "
-            f"{peripheral_limit:g} mOsm/L and the order names no line"
-        )
+        return _held(LINE_NOT_STATED, message)
+    peripheral_limit = limits.peripheral_osmolarity_warn
+    if peripheral_limit is None or agent.osmolarity_mosm_l <= peripheral_limit:
+        return None
+    message = (
+        f"{agent.id} ({agent.osmolarity_mosm_l:.0f} mOsm/L) is above the peripheral-line limit of "
+        f"{peripheral_limit:g} mOsm/L and the order names no line"
+    )
     return Discrepancy(code=LINE_NOT_STATED, severity="warn", message=message, stated=None, recomputed=None, unit="")
 
 
@@ -275,27 +264,18 @@ def _duration(order: Order, agent: Agent, limits: Limits) -> Discrepancy | None:
             f"{agent.id} has a maximum rate of {agent.max_rate_ml_h:g} mL/h and the order gives neither duration "
             "nor rate: state one"
         )
-        return Discrepancy(
-            code=DURATION_NOT_STATED,
-            severity="warn",
-            message=message,
-            stated=None,
-            recomputed=agent.max_rate_ml_h,
-            unit="mL/h",
-            acceptable=False,
-        )
+        return _held(DURATION_NOT_STATED, message, agent.max_rate_ml_h, "mL/h")
     if not rate_judged_by_default(agent, limits):
         return None
     message = (
         f"{agent.id} ({agent.osmolarity_mosm_l:.0f} mOsm/L) is judged by the default osmolar rate limits and the "
         "order gives neither duration nor rate: state one"
     )
+    return _held(DURATION_NOT_STATED, message, None, "mL/h")
+
+
+def _held(code: str, message: str, recomputed: float | None = None, unit: str = "") -> Discrepancy:
+    """A warning no reason can accept: the order is held until it states what it leaves out."""
     return Discrepancy(
-        code=DURATION_NOT_STATED,
-        severity="warn",
-        message=message,
-        stated=None,
-        recomputed=None,
-        unit="mL/h",
-        acceptable=False,
+        code=code, severity="warn", message=message, stated=None, recomputed=recomputed, unit=unit, acceptable=False
     )
