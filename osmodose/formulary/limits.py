@@ -14,7 +14,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict
+from osmodose.frozen import Frozen
 
 Looser = Literal["higher", "lower"]
 
@@ -481,7 +481,7 @@ def display_unit(unit: str) -> str:
     return "%" if unit == "percent" else unit
 
 
-class Limits(BaseModel):
+class Limits(Frozen):
     """Limits in force, canonical values: each limit is an attribute (`limits.sodium_warn`).
 
     `values` holds one entry per `LIMIT_SPECS` name (None where the unit sets
@@ -489,8 +489,6 @@ class Limits(BaseModel):
     name that is not a limit raises AttributeError, so a misspelt limit in code
     fails the first test that reaches it (and a test scans the code for them).
     """
-
-    model_config = ConfigDict(frozen=True)
 
     values: Mapping[str, float | None]
     from_file: frozenset[str] = frozenset()
