@@ -18,6 +18,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from functools import cached_property
 from typing import Literal
 
 import numpy as np
@@ -257,6 +258,10 @@ class Rule:
 
     def words(self) -> Describe:
         """The message of a finding from (value, limit, severity): the rule's function, or its template filled."""
+        return self._words
+
+    @cached_property
+    def _words(self) -> Describe:  # made once per rule, not on every check
         if callable(self.describe):
             return self.describe
         template = self.describe
