@@ -71,9 +71,10 @@ def shown(value: float, limit: float) -> str:
     The JSON's `value` is rounded by the same rule, so the message and the figure agree.
     """
     digits = apart(value, limit, 1)
-    if value != limit and rounded(value, digits) == limit:
+    figure = rounded(value, digits)
+    if value != limit and figure == limit:
         return f"{value:.6g}"
-    return f"{rounded(value, digits):.{digits}f}"
+    return f"{figure:.{digits}f}"
 
 
 @dataclass(frozen=True)
