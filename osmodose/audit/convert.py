@@ -52,7 +52,9 @@ class Converted:
 
     reasons: dict[int, str]
     columns: dict[str, np.ndarray]
-    agent_text: np.ndarray
+    #: Each row's agent cell as a code into `agent_ids`, the chunk's distinct agent cells (stripped).
+    agent_codes: np.ndarray
+    agent_ids: list[str]
     agent_index: np.ndarray
     mode: np.ndarray
     dose_unit: np.ndarray
@@ -195,8 +197,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     use_watson = np.where(method == "", formulary.settings.tbw_method, method) == "watson"
 
     agent_codes, agent_ids = encode(raw.cells["agent"]) if "agent" in header else (np.zeros(n, np.int64), [""])
-    agent_text = np.asarray(agent_ids, dtype=object)[agent_codes]
-    has_agent = agent_text != ""
+    has_agent = np.asarray([a != "" for a in agent_ids], dtype=bool)[agent_codes]
     orders = {name: chunk.given(name) for name in ORDER_COLUMNS}
     count = np.asarray(np.sum([orders[name] for name in ORDER_COLUMNS], axis=0, dtype=np.int64))
 
@@ -207,7 +208,9 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         ~has_agent & (count > 0),
         lambda i: _error(nth_order(i, 0), chunk.shown(nth_order(i, 0), i), "needs an agent", "--agent ID"),
     )
-    reasons.add(has_agent & (count == 0), lambda i: _error("agent", agent_text[i], "needs a dose", _ONE_ORDER))
+    reasons.add(
+        has_agent & (count == 0), lambda i: _error("agent", agent_ids[agent_codes[i]], "needs a dose", _ONE_ORDER)
+    )
     reasons.add(
         count > 1,
         lambda i: _error(
@@ -254,7 +257,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     per_kg = np.zeros(n, dtype=bool)
     _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg)
 
-    agent_index = _agent_index(formulary, agent_text, active & ~reasons.bad, reasons)
+    agent_index = _agent_index(formulary, agent_codes, agent_ids, active & ~reasons.bad, reasons)
     unit_code = dose_unit_codes(dose_unit)
     _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, chunk.order_text, reasons)
     height_given = given["height"]
@@ -269,7 +272,8 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     return Converted(
         reasons=reasons.reasons,
         columns=columns,
-        agent_text=agent_text,
+        agent_codes=agent_codes,
+        agent_ids=agent_ids,
         agent_index=agent_index,
         mode=mode,
         dose_unit=dose_unit,
@@ -371,15 +375,17 @@ def _parse(text: str) -> DoseRequest | InputError:
         return error
 
 
-def _agent_index(formulary: Formulary, agent_text: np.ndarray, active: np.ndarray, reasons: _Reasons) -> np.ndarray:
+def _agent_index(
+    formulary: Formulary, agent_codes: np.ndarray, agent_ids: list[str], active: np.ndarray, reasons: _Reasons
+) -> np.ndarray:
     """Formulary index of each active row's agent; -1 for none.  Unknown ids take check's message."""
     ids = {agent.id: index for index, agent in enumerate(formulary.agents)}
-    index = np.fromiter((ids.get(a, -1) for a in agent_text.tolist()), dtype=np.int64, count=len(agent_text))
+    index = np.asarray([ids.get(a, -1) for a in agent_ids], dtype=np.int64)[agent_codes]
     index = np.where(active, index, -1)
 
     def unknown(i: int) -> str:
         try:
-            formulary.agent(str(agent_text[i]))
+            formulary.agent(agent_ids[agent_codes[i]])
         except InputError as error:
             return str(error)
         raise AssertionError("known agent")  # pragma: no cover

@@ -80,10 +80,13 @@ class ChunkResult:
     lines: np.ndarray
     #: The order ids as written (stripped), when the file has them.
     order_id: pa.Array | None
-    agent_text: np.ndarray
+    #: The agent cell of each row, as codes into the chunk's distinct agent cells (stripped).
+    agent_codes: np.ndarray
+    agent_ids: list[str]
     status: np.ndarray
     reasons: dict[int, str]
-    tbw_method: np.ndarray
+    #: Total body water by Watson's formula (else by the fraction of weight).
+    use_watson: np.ndarray
     figures: dict[str, np.ndarray]
     agent_index: np.ndarray
     outcomes: list[RuleOutcome]
@@ -167,10 +170,11 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     return ChunkResult(
         lines=lines,
         order_id=None,
-        agent_text=converted.agent_text,
+        agent_codes=converted.agent_codes,
+        agent_ids=converted.agent_ids,
         status=status,
         reasons=reasons,
-        tbw_method=np.where(converted.use_watson, "watson", "fraction"),
+        use_watson=converted.use_watson,
         figures=full,
         agent_index=agent_index,
         outcomes=outcomes,
