@@ -91,7 +91,7 @@ class RoundedText:
             start = stop = low
         new_start, new_stop = min(start, low), max(stop, high + 1)
         added = (start - new_start) + (new_stop - stop)
-        if low > high or not added or new_stop - new_start > _TABLE_MOST or added > max(_TABLE_STEP, 2 * rows):
+        if not added or new_stop - new_start > _TABLE_MOST or added > max(_TABLE_STEP, 2 * rows):
             return self._table
         grown = (new_start, pa.concat_arrays([self._texts(new_start, start), table, self._texts(stop, new_stop)]))
         self._table = grown
@@ -101,23 +101,32 @@ class RoundedText:
         """The figures' texts; null where a figure is NaN (cannot be computed)."""
         with np.errstate(invalid="ignore", over="ignore"):
             k = np.rint(values * self.scale)
-            exact = (np.abs(k) < _EXACT_INTEGER) & (k / self.scale == values)
-        if not exact.any():
-            return float_text(values)
-        ints = np.where(exact, k, 0).astype(np.int64)
-        found = ints[exact]
-        low, high = int(found.min()), int(found.max())
-        if high - low > _TABLE_MOST:  # a few far-out figures: the table covers those near zero
-            found = found[np.abs(found) < _TABLE_MOST // 2]
-            low, high = (int(found.min()), int(found.max())) if len(found) else (0, -1)
-        start, table = self._grown(low, high, len(values))
-        index = ints - start
-        inside = exact & (index >= 0) & (index < len(table))
-        text = table.take(pa.array(index, type=pa.int64(), mask=~inside))
-        other = ~inside & ~np.isnan(values)
+            exact = k / self.scale == values  # NaN never is; an infinity is, and is never inside a table
+            start, table = self._table
+            index = k - start
+            inside = exact & (index >= 0) & (index < len(table))
+            if not inside.all() and (exact & ~inside).any():
+                start, table = self._cover(k[exact & (np.abs(k) < _EXACT_INTEGER)], len(values))
+                index = k - start
+                inside = exact & (index >= 0) & (index < len(table))
+            positions = index.astype(np.int64)  # NaN and infinities come out as nonsense, masked
+        text = table.take(pa.array(positions, mask=~inside))
+        other = ~inside & ~np.isnan(values)  # a figure outside the table: formatted alone
         if other.any():
             text = pc.replace_with_mask(text, pa.array(other), float_text(values[other]))
         return text
+
+    def _cover(self, found: np.ndarray, rows: int) -> tuple[int, pa.Array]:
+        """The table grown to the figures' range (those near zero, when a few lie far out), where it may grow."""
+        if not len(found):
+            return self._table
+        low, high = int(found.min()), int(found.max())
+        if high - low > _TABLE_MOST:
+            found = found[np.abs(found) < _TABLE_MOST // 2]
+            if not len(found):
+                return self._table
+            low, high = int(found.min()), int(found.max())
+        return self._grown(low, high, rows)
 
 
 def _may_need_marks(array: pa.Array) -> bool:
@@ -200,11 +209,10 @@ def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") ->
     picked = np.concatenate(picks)[order]
     distinct = pa.array(texts, pa.string())
     if for_csv:
-        # A message with a quote is special too, so doubling every quote changes only cells that get quoted.
-        special = pc.match_substring_regex(distinct, SPECIAL).to_numpy(zero_copy_only=False)
+        special = _special(distinct)
         formula = pc.match_substring_regex(distinct, FORMULA).to_numpy(zero_copy_only=False)
-        if special.any():
-            distinct = pc.replace_substring(distinct, '"', '""')
+        # A message with a quote is special too, so doubling every quote changes only cells that get quoted.
+        distinct = pc.replace_substring(distinct, '"', '""')
     message = distinct.take(pa.array(picked))
     code = pa.array(code_texts, pa.string()).take(pa.array(np.concatenate(codes)[order]))
     joined = pc.binary_join(pa.ListArray.from_arrays(offsets, message), MESSAGE_SEPARATOR)
@@ -222,6 +230,16 @@ def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") ->
     elif end:
         joined = pc.binary_join_element_wise(joined, end, "")
     return pc.binary_join(pa.ListArray.from_arrays(offsets, code), FINDING_SEPARATOR), joined
+
+
+def _special(texts: pa.Array) -> np.ndarray:
+    """Which texts need quoting: most messages have a comma (found quickly); the rest are searched whole."""
+    special = pc.match_substring(texts, ",").to_numpy(zero_copy_only=False)
+    rest = np.flatnonzero(~special)
+    if len(rest):
+        others = pc.match_substring_regex(texts.take(pa.array(rest)), SPECIAL).to_numpy(zero_copy_only=False)
+        special[rest] = others
+    return special
 
 
 def _message_picks(outcome: RuleOutcome, fired: np.ndarray, severity: str, texts: list[str]) -> np.ndarray:

@@ -37,9 +37,6 @@ def formulary_ref(formulary: Formulary) -> dict[str, object]:
     return FormularyRef.of(formulary).model_dump(mode="json")
 
 
-_STATUS_TEXT = pa.array([STATUS_NAMES[s] for s in range(-1, 3)], pa.string())
-_METHOD_TEXT = pa.array(["", "fraction", "watson"], pa.string())
-
 #: The key of an order's id in the results (CSV and JSON alike); the orders file's column is `order-id`.
 ORDER_ID = "order_id"
 
@@ -99,19 +96,10 @@ class CsvResults:
         if not n:
             return None
         codes, messages = finding_columns(chunk, for_csv=True, end="\n")
-        reasons = np.zeros(n, dtype=np.int64)
-        reasons[list(chunk.reasons)] = np.arange(1, len(chunk.reasons) + 1)
-        # A bad row has no method; the others "fraction" or "watson".
-        method = np.where(chunk.status >= 0, chunk.use_watson.astype(np.int64) + 1, 0)
         columns: list[pa.Array] = [pc.cast(pa.array(chunk.lines), pa.string())]
         if self.with_order_id:
             columns.append(csv_text(chunk.order_id if chunk.order_id is not None else [""] * n))
-        columns += [
-            _STATUS_TEXT.take(pa.array(chunk.status.astype(np.int64) + 1)),
-            csv_text(["", *chunk.reasons.values()]).take(pa.array(reasons)),
-            csv_text(chunk.agent_ids).take(pa.array(chunk.agent_codes)),
-            _METHOD_TEXT.take(pa.array(method)),
-        ]
+        columns.append(_status_cells(chunk))
         figures = audit_figures(chunk)
         columns += [self._figure_text[FIGURE_DECIMALS[name]].column(figures[name]) for name, _ in FIGURES]
         columns += [codes, messages]  # the line's end is on its last cell
@@ -130,6 +118,31 @@ class CsvResults:
             with contextlib.suppress(Exception):
                 self._pending.popleft().result()
         self._worker.shutdown(wait=True)
+
+
+def _status_cells(chunk: ChunkResult) -> pa.Array:
+    """The cells status,reason,agent,tbw_method of each row, as one column.
+
+    An audited row's four cells follow from its status, agent cell and method:
+    each combination is written once and taken by index.  A bad row (status
+    error, its reason, its agent cell, no method) is written alone.
+    """
+    agents = csv_text(chunk.agent_ids).to_pylist()
+    combined = [
+        f"{STATUS_NAMES[status]},,{agent},{method}"
+        for status in (0, 1, 2)
+        for agent in agents
+        for method in ("fraction", "watson")
+    ]
+    key = (np.maximum(chunk.status, 0).astype(np.int64) * len(agents) + chunk.agent_codes) * 2 + chunk.use_watson
+    cells = pa.array(combined, pa.string()).take(pa.array(key))
+    if not chunk.reasons:
+        return cells
+    bad = np.zeros(len(chunk), dtype=bool)
+    bad[list(chunk.reasons)] = True
+    reasons = dict(zip(chunk.reasons, csv_text(list(chunk.reasons.values())).to_pylist(), strict=True))
+    alone = [f"{STATUS_NAMES[-1]},{reasons[i]},{agents[chunk.agent_codes[i]]}," for i in np.flatnonzero(bad).tolist()]
+    return pc.replace_with_mask(cells, pa.array(bad), pa.array(alone, pa.string()))
 
 
 def _write_strings(stream: BinaryIO, strings: pa.Array) -> None:
