@@ -20,7 +20,7 @@ import pyarrow.compute as pc
 
 from osmodose.audit.run import ChunkResult
 from osmodose.check.judging import SEVERITY_NAMES
-from osmodose.check.rules import RuleOutcome
+from osmodose.check.rules import RuleOutcome, shown_keys
 
 FINDING_SEPARATOR = ";"
 MESSAGE_SEPARATOR = " | "
@@ -247,10 +247,14 @@ def _message_picks(outcome: RuleOutcome, fired: np.ndarray, severity: str, texts
     pick = np.empty(len(fired), dtype=np.int64)
     limits = outcome.limit[fired]
     values = outcome.value[fired]
-    # Limits take a few values (one per agent at most): distinct values within each.
+    # Limits take a few values (one per agent at most): distinct values within each, or distinct
+    # keys where the words show the value through `rules.shown` (a value per key stands for them all).
     for limit in np.unique(limits).tolist():
         same = np.isnan(limits) if math.isnan(limit) else limits == limit
-        distinct, inverse = np.unique(values[same], return_inverse=True)
+        these = values[same]
+        # Other words get each value alone: keyed by its bits, so that -0.0 is not taken for 0.0.
+        keys = shown_keys(these, limit) if outcome.shows_value else these.view(np.int64)
+        _, first, inverse = np.unique(keys, return_index=True, return_inverse=True)
         pick[same] = len(texts) + inverse.reshape(-1)
-        texts += [outcome.describe(value, limit, severity) for value in distinct.tolist()]
+        texts += [outcome.describe(value, limit, severity) for value in these[first].tolist()]
     return pick

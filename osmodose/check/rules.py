@@ -57,6 +57,8 @@ class RuleOutcome:
     unit: str
     describe: Describe
     extra: Callable[[int], str] | None = None  # more words for a row, from more of the case than (value, limit)
+    #: The words show the value only through `shown`: values with one `shown_key` get one message.
+    shows_value: bool = False
 
     def message(self, row: int) -> str:
         sev = SEVERITY_NAMES[int(self.severity[row])]
@@ -75,6 +77,26 @@ def shown(value: float, limit: float) -> str:
     if value != limit and figure == limit:
         return f"{value:.6g}"
     return f"{figure:.{digits}f}"
+
+
+def shown_keys(values: np.ndarray, limit: float) -> np.ndarray:
+    """A key per value judged against `limit`, equal where `shown` writes the values alike.
+
+    `shown` writes a value to one decimal unless that decimal is the limit
+    itself: the value rounded to one decimal is the key, and a value that
+    rounds onto the limit is its own key.  (A batch makes one message per key.)
+    """
+    tenths = rounded(values, 1)
+    return np.where(tenths == limit, values, tenths)
+
+
+#: Words whose only use of the judged value is `shown(value, limit)`, besides the default words.
+_SHOWN_ONLY: set[Describe] = set()
+
+
+def _shows(describe: Describe) -> Describe:
+    _SHOWN_ONLY.add(describe)
+    return describe
 
 
 @dataclass(frozen=True)
@@ -272,9 +294,16 @@ class Rule:
             limit = np.full(np.shape(value), np.nan)
         detail = self.detail
         extra = None if detail is None else (lambda row: detail(batch.patient, row))
-        return RuleOutcome(self.code, severity, value, np.asarray(limit, dtype=float), self.unit, self.words(), extra)
+        limit = np.asarray(limit, dtype=float)
+        return RuleOutcome(self.code, severity, value, limit, self.unit, self.words(), extra, self.shows_value)
+
+    @property
+    def shows_value(self) -> bool:
+        """Whether the words show the judged value only through `shown` (the default words do)."""
+        return self.describe is None or self.describe in _SHOWN_ONLY
 
 
+@_shows
 def _negative_gap(value: float, limit: float, _severity: str) -> str:
     return (
         f"osmolar gap {shown(value, limit)} mOsm/kg: measured osmolality is more than {-limit:g} below the "
@@ -293,6 +322,7 @@ def _central(value: float, _limit: float, _severity: str) -> str:
     return f"this agent ({value:.0f} mOsm/L) is for a central line only and is ordered peripheral"
 
 
+@_shows
 def _too_fast(value: float, maximum: float, _severity: str) -> str:
     return f"rate {shown(value, maximum)} mL/h is faster than the agent's maximum of {maximum:g} mL/h"
 
@@ -353,6 +383,7 @@ def _aquaresis_limit(batch: Batch) -> np.ndarray:
     return np.where(within_warn & ~np.isnan(warn_limit), warn_limit, np.where(within_refuse, batch.rise_refuse, np.nan))
 
 
+@_shows
 def _aquaresis(value: float, limit: float, _severity: str) -> str:
     return (
         f"urine more dilute than serum (Na + K below the serum sodium: aquaresis) takes the projected rise to "
@@ -361,6 +392,7 @@ def _aquaresis(value: float, limit: float, _severity: str) -> str:
     )
 
 
+@_shows
 def _range_high(value: float, limit: float, _severity: str) -> str:
     return (
         f"the high end of the projected rise, {shown(value, limit)} mmol/L, is above the refuse limit of "
@@ -368,6 +400,7 @@ def _range_high(value: float, limit: float, _severity: str) -> str:
     )
 
 
+@_shows
 def _sodium_too_old(value: float, limit: float, _severity: str) -> str:
     return (
         f"the sodium was drawn {shown(value, limit)} h before this check, more than the {limit:g} h limit: "
