@@ -203,8 +203,8 @@ def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") ->
     if not rows:
         return _repeated("", n), _repeated(end, n)
     row = np.concatenate(rows)
-    order = np.argsort(row, kind="stable")
     counts = np.bincount(row, minlength=n)
+    order = _row_order(rows, counts)
     offsets = pa.array(np.concatenate([[0], np.cumsum(counts)]).astype(np.int32))
     picked = np.concatenate(picks)[order]
     distinct = pa.array(texts, pa.string())
@@ -230,6 +230,25 @@ def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") ->
     elif end:
         joined = pc.binary_join_element_wise(joined, end, "")
     return pc.binary_join(pa.ListArray.from_arrays(offsets, code), FINDING_SEPARATOR), joined
+
+
+def _row_order(rows: list[np.ndarray], counts: np.ndarray) -> np.ndarray:
+    """The order that lists the findings row by row, each row's in the order of `rows` (a stable sort by row).
+
+    Each array of `rows` holds distinct rows, so a finding's place is its
+    row's first place plus the findings that row had in the arrays before.
+    """
+    first = np.cumsum(counts) - counts
+    before = np.zeros(len(counts), dtype=np.int64)
+    place = np.empty(int(counts.sum()), dtype=np.int64)
+    at = 0
+    for fired in rows:
+        place[at : at + len(fired)] = first[fired] + before[fired]
+        before[fired] += 1
+        at += len(fired)
+    order = np.empty_like(place)
+    order[place] = np.arange(len(place))
+    return order
 
 
 def _special(texts: pa.Array) -> np.ndarray:

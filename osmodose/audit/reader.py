@@ -271,8 +271,11 @@ class OrdersFile:
                 if tail is not None:
                     self._pending, self._line = tail
             table, lines, problems = _parse(block, records, self._names, problems)
+            # A cell has no more characters than its record has bytes: most blocks need no cell measured.
+            long_cells = len(records.ends) > 0 and int((records.ends - records.starts).max()) > MAX_CELL_CHARS
             for start in range(0, len(lines), rows):
-                yield _chunk(table, lines, problems, start, min(start + rows, len(lines)), self.header)
+                stop = min(start + rows, len(lines))
+                yield _chunk(table, lines, problems, start, stop, self.header, long_cells)
 
     def _too_long(self, block: bytes, first_line: int) -> RawChunk:
         """A record longer than MAX_RECORD_BYTES: a bad row at its line; reading goes on at the next line."""
@@ -391,13 +394,19 @@ def _parse_slowly(block: bytes, records: Records, valid: np.ndarray, names: list
 
 
 def _chunk(
-    table: pa.Table, lines: np.ndarray, problems: dict[int, str], start: int, stop: int, header: Header
+    table: pa.Table,
+    lines: np.ndarray,
+    problems: dict[int, str],
+    start: int,
+    stop: int,
+    header: Header,
+    long_cells: bool = True,
 ) -> RawChunk:
     part = table.slice(start, stop - start)
     mine = {i - start: reason for i, reason in problems.items() if start <= i < stop}
     arrays = {name: part.column(column.index).combine_chunks() for name, column in header.columns.items()}
     for name, array in arrays.items():
-        if (pc.max(pc.binary_length(array)).as_py() or 0) > MAX_CELL_CHARS:
+        if long_cells and (pc.max(pc.binary_length(array)).as_py() or 0) > MAX_CELL_CHARS:
             over = pc.greater(pc.utf8_length(array), MAX_CELL_CHARS).to_numpy(zero_copy_only=False)
             for i in np.flatnonzero(over).tolist():
                 mine.setdefault(i, f"{name}: has more than {MAX_CELL_CHARS} characters")
