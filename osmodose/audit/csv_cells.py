@@ -76,12 +76,31 @@ class RoundedText:
     """
 
     def __init__(self, decimals: int) -> None:
+        self.decimals = decimals
         self.scale = 10.0**decimals
         self._table: tuple[int, pa.Array] = (0, pa.array([], pa.string()))
+        # ".0" for whole numbers, else the decimals without their trailing zeros (".5", ".05", ".25").
+        self._fractions = pa.array(
+            [".0", *(f".{k:0{decimals}d}".rstrip("0") for k in range(1, 10**decimals))], pa.string()
+        )
 
     def _texts(self, start: int, stop: int) -> pa.Array:
-        scale = self.scale
-        return pa.array([repr(k / scale) for k in range(start, stop)], pa.string())
+        """repr(k / 10**d) for k in [start, stop).
+
+        Where repr writes k / 10**d positionally (k's digits, the point d
+        places from the right, trailing zeros dropped but one), the texts are
+        put together on whole columns; elsewhere (very large, or more decimals
+        than a short table of fractions) repr is called.
+        """
+        scale, d = self.scale, self.decimals
+        if d > 4 or max(abs(start), abs(stop)) >= 1e15:
+            return pa.array([repr(k / scale) for k in range(start, stop)], pa.string())
+        k = np.arange(start, stop, dtype=np.int64)
+        whole, fraction = np.divmod(np.abs(k), 10**d)
+        sign = pa.array(["", "-"], pa.string()).take(pa.array((k < 0).astype(np.int64)))
+        return pc.binary_join_element_wise(
+            sign, pc.cast(pa.array(whole), pa.string()), self._fractions.take(pa.array(fraction)), ""
+        )
 
     def _grown(self, low: int, high: int, rows: int) -> tuple[int, pa.Array]:
         """The table, grown to take in [low, high] unless that means too many new entries."""
