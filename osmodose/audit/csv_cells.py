@@ -188,7 +188,9 @@ def _repeated(text: str, n: int) -> pa.Array:
     return pa.array([text], pa.string()).take(pa.array(np.zeros(n, dtype=np.int64)))
 
 
-def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") -> tuple[pa.Array, pa.Array]:
+def finding_columns(
+    chunk: ChunkResult, for_csv: bool = False, end: str = "", made: Messages | None = None
+) -> tuple[pa.Array, pa.Array]:
     """Each row's "code:severity" list and message list, refusals first, then in rule order (as check lists them).
 
     A rule's message is made once per distinct (value, limit, severity); rows
@@ -196,7 +198,8 @@ def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") ->
     `for_csv` the messages come as CSV cells: quotes doubled and the cell
     quoted where a message needs it, and a leading =, +, - or @ written after
     a ' (both found once per distinct message).  `end` is added to each
-    message cell (a line's end: one pass over the text, not two).
+    message cell (a line's end: one pass over the text, not two).  `made`
+    keeps messages from one chunk to the next.
     """
     n = len(chunk)
     rows: list[np.ndarray] = []
@@ -214,7 +217,7 @@ def finding_columns(chunk: ChunkResult, for_csv: bool = False, end: str = "") ->
                 pick = len(texts) + np.arange(len(fired))
                 texts += [outcome.message(k) for k in fired.tolist()]
             else:
-                pick = _message_picks(outcome, fired, name, texts)
+                pick = _message_picks(outcome, fired, name, texts, made)
             picks.append(pick)
             codes.append(np.full(len(fired), len(code_texts)))
             code_texts.append(f"{outcome.code}:{name}")
@@ -280,7 +283,33 @@ def _special(texts: pa.Array) -> np.ndarray:
     return special
 
 
-def _message_picks(outcome: RuleOutcome, fired: np.ndarray, severity: str, texts: list[str]) -> np.ndarray:
+class Messages:
+    """Messages already made for rules whose words show the value through `rules.shown`, by key.
+
+    Such a rule has a few thousand keys in a whole file (a value to one
+    decimal), met again in every chunk: each message is made once per file.
+    Shared by the writer's threads (two may make the same message: no harm);
+    emptied when it holds `MOST` messages, so memory stays flat.
+    """
+
+    MOST = 200_000
+
+    def __init__(self) -> None:
+        self._made: dict[tuple[str, str, float, float], str] = {}
+
+    def get(self, outcome: RuleOutcome, severity: str, limit: float, key: float, value: float) -> str:
+        index = (outcome.code, severity, limit, key)
+        text = self._made.get(index)
+        if text is None:
+            if len(self._made) >= self.MOST:
+                self._made.clear()
+            text = self._made[index] = outcome.describe(value, limit, severity)
+        return text
+
+
+def _message_picks(
+    outcome: RuleOutcome, fired: np.ndarray, severity: str, texts: list[str], made: Messages | None = None
+) -> np.ndarray:
     """Each fired row's index into `texts`, to which each distinct (value, limit) message is added once."""
     pick = np.empty(len(fired), dtype=np.int64)
     limits = outcome.limit[fired]
@@ -290,9 +319,17 @@ def _message_picks(outcome: RuleOutcome, fired: np.ndarray, severity: str, texts
     for limit in np.unique(limits).tolist():
         same = np.isnan(limits) if math.isnan(limit) else limits == limit
         these = values[same]
+        if outcome.shows_value:
+            keys, first, inverse = np.unique(shown_keys(these, limit), return_index=True, return_inverse=True)
+            pick[same] = len(texts) + inverse.reshape(-1)
+            pairs = zip(keys.tolist(), these[first].tolist(), strict=True)
+            if made is None:
+                texts += [outcome.describe(value, limit, severity) for _, value in pairs]
+            else:
+                texts += [made.get(outcome, severity, limit, key, value) for key, value in pairs]
+            continue
         # Other words get each value alone: keyed by its bits, so that -0.0 is not taken for 0.0.
-        keys = shown_keys(these, limit) if outcome.shows_value else these.view(np.int64)
-        _, first, inverse = np.unique(keys, return_index=True, return_inverse=True)
+        _, first, inverse = np.unique(these.view(np.int64), return_index=True, return_inverse=True)
         pick[same] = len(texts) + inverse.reshape(-1)
         texts += [outcome.describe(value, limit, severity) for value in these[first].tolist()]
     return pick

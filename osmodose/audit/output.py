@@ -28,7 +28,7 @@ import numpy as np
 import pyarrow as pa
 import pyarrow.compute as pc
 
-from osmodose.audit.csv_cells import RoundedText, csv_text, finding_columns
+from osmodose.audit.csv_cells import Messages, RoundedText, csv_text, finding_columns
 from osmodose.audit.run import FIGURES, STATUS_NAMES, ChunkResult
 from osmodose.check.results import CAUTION, FormularyRef
 from osmodose.formulary.model import Formulary
@@ -72,6 +72,7 @@ class CsvResults:
         self._worker = ThreadPoolExecutor(max_workers=self.WORKERS, thread_name_prefix="audit-csv")
         self._pending: deque[Future[None]] = deque()
         self._disk = _regular_file(stream)
+        self._messages = Messages()
         self._figure_text = {d: RoundedText(d) for d in sorted({FIGURE_DECIMALS[name] for name, _ in FIGURES})}
         head = ["row", *([ORDER_ID] if with_order_id else []), "status", "reason", "agent", "tbw_method"]
         names = [*head, *(name for name, _ in FIGURES), "findings", "messages"]
@@ -114,7 +115,7 @@ class CsvResults:
         n = len(chunk)
         if not n:
             return None
-        codes, messages = finding_columns(chunk, for_csv=True, end="\n")
+        codes, messages = finding_columns(chunk, for_csv=True, end="\n", made=self._messages)
         columns: list[pa.Array] = [pc.cast(pa.array(chunk.lines), pa.string())]
         if self.with_order_id:
             columns.append(csv_text(chunk.order_id if chunk.order_id is not None else [""] * n))
