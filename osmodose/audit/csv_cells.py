@@ -118,6 +118,8 @@ class RoundedText:
 
     def column(self, values: np.ndarray) -> pa.Array:
         """The figures' texts; null where a figure is NaN (cannot be computed)."""
+        if np.isnan(values).all():  # a figure no row of the chunk has (urine's, without urine columns)
+            return pa.nulls(len(values), pa.string())
         with np.errstate(invalid="ignore", over="ignore"):
             k = np.rint(values * self.scale)
             exact = k / self.scale == values  # NaN never is; an infinity is, and is never inside a table

@@ -46,6 +46,8 @@ MAX_CELL_CHARS = 131_072
 MAX_RECORD_BYTES = 4 * 1024**2
 #: Bytes read and parsed at a time.
 BLOCK_BYTES = 8 * 1024**2
+#: Bytes read at a time for the header (its records are found before the first block is read whole).
+HEADER_BYTES = 64 * 1024
 #: How standard input is named in messages.
 STDIN = "<stdin>"
 
@@ -217,15 +219,15 @@ class OrdersFile:
         self.header: Header = parse_header(path, header)
         self._names = [f"c{i}" for i in range(self.header.width)]
 
-    def _fill(self) -> None:
-        data = self._source.read(BLOCK_BYTES, self._line, self._pending)
+    def _fill(self, size: int | None = None) -> None:
+        data = self._source.read(BLOCK_BYTES if size is None else size, self._line, self._pending)
         if not data:
             self._eof = True
         self._pending += data
 
     def _header(self) -> list[str]:
         while True:
-            self._fill()
+            self._fill(min(HEADER_BYTES, BLOCK_BYTES))
             records = find_records(self._pending, 1, final=self._eof)
             if len(records.starts):
                 break
