@@ -83,7 +83,7 @@ def floor_range(
 
 
 def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
-    """The engine's 16 figures and the rules' worst severity, in plain numpy on canonical arrays."""
+    """The engine's 21 figures and the rules' worst severity, in plain numpy on canonical arrays."""
     idx = a["agent_index"]
     has = idx >= 0
     agents = p["agents"]
