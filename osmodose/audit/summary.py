@@ -47,12 +47,17 @@ class Summary:
         status = chunk.status.astype(np.int64) + 1
         cells = np.bincount(agent[with_agent] * 4 + status[with_agent], minlength=agents * 4)
         self.agent_status += cells.reshape(agents, 4)
-        # Each rule's (agent, severity) counts in one bincount: agent + 1 (0 for none) times 3, plus the severity.
+        # Each rule's (agent, severity) counts in one bincount over the rows it fired on:
+        # agent + 1 (0 for none) times 3, plus the severity.
         cell = (agent + 1) * 3
         for outcome in chunk.outcomes:
             counts = self.codes.setdefault(outcome.code, np.zeros(2, dtype=np.int64))
             by_agent = self.agent_codes.setdefault(outcome.code, np.zeros((agents, 2), dtype=np.int64))
-            tally = np.bincount(cell + outcome.severity, minlength=(agents + 1) * 3).reshape(agents + 1, 3)
+            fired = np.flatnonzero(outcome.severity)
+            if not len(fired):
+                continue
+            keys = cell[fired] + outcome.severity[fired]
+            tally = np.bincount(keys, minlength=(agents + 1) * 3).reshape(agents + 1, 3)
             counts += tally[:, 1:].sum(axis=0)
             by_agent += tally[1:, 1:]
         # The rows of each agent, agents in order: one stable sort rather than a scan per agent.
