@@ -12,6 +12,7 @@ rows by index.
 from __future__ import annotations
 
 import math
+from collections import Counter
 from collections.abc import Sequence
 
 import numpy as np
@@ -20,7 +21,7 @@ import pyarrow.compute as pc
 
 from osmodose.audit.run import ChunkResult
 from osmodose.check.judging import SEVERITY_NAMES
-from osmodose.check.rules import RuleOutcome, shown_keys
+from osmodose.check.rules import RULES, RuleOutcome, shown_keys
 
 FINDING_SEPARATOR = ";"
 MESSAGE_SEPARATOR = " | "
@@ -285,6 +286,10 @@ def _special(texts: pa.Array) -> np.ndarray:
     return special
 
 
+#: Codes that name one rule of the table (a message kept by code is then that rule's words).
+_ONE_RULE_CODES = frozenset(code for code, n in Counter(rule.code for rule in RULES).items() if n == 1)
+
+
 class Messages:
     """Messages already made for rules whose words show the value through `rules.shown`, by key.
 
@@ -300,6 +305,8 @@ class Messages:
         self._made: dict[tuple[str, str, float, float], str] = {}
 
     def get(self, outcome: RuleOutcome, severity: str, limit: float, key: float, value: float) -> str:
+        if outcome.code not in _ONE_RULE_CODES:  # a code of several rules (several words): not kept
+            return outcome.describe(value, limit, severity)
         index = (outcome.code, severity, limit, key)
         text = self._made.get(index)
         if text is None:
