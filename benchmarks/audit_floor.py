@@ -9,8 +9,9 @@ nothing and writes no message text (the audit does both), only the row, the
 status and the 21 figures of each order.  PARAMS.json (written by
 `audit_bench.py` from the formulary and `osmodose.science.formulas`) holds
 the agents' composition, the limits and the formulas' constants, so this
-program imports neither pint nor pydantic nor osmodose.  Imports polars
-(the `bench` extra), never used by osmodose itself.
+program imports neither pint nor pydantic nor the core (only the figures'
+names, `osmodose.audit.figures`).  Imports polars (the `bench` extra), never
+used by osmodose itself.
 """
 
 from __future__ import annotations
@@ -21,32 +22,10 @@ from typing import Any
 
 import numpy as np
 
+from osmodose.audit.figures import FIGURES  # the names only: no pint, no pydantic, nothing of the core
+
 #: Dose unit codes, as the engine numbers them (osmodose.check.engine.DOSE_UNITS).
 UNIT_CODES = {"g": 1, "mL": 2, "mmol": 3, "mOsm": 4, "mmol/L": 5}
-#: Output name -> floor figure, in the audit's order (osmodose.audit.run.FIGURES).
-FIGURES = (
-    ("total_body_water_l", "tbw_l"),
-    ("calculated_osmolality_mosm_kg", "calculated_osmolality"),
-    ("effective_osmolality_mosm_kg", "effective_osmolality"),
-    ("osmolar_gap_mosm_kg", "osmolar_gap"),
-    ("volume_ml", "volume_ml"),
-    ("solute_g", "solute_g"),
-    ("sodium_mmol", "sodium_mmol"),
-    ("osmoles_mosm", "osmoles_mosm"),
-    ("volume_ml_per_kg", "volume_ml_per_kg"),
-    ("solute_g_per_kg", "solute_g_per_kg"),
-    ("sodium_mmol_per_kg", "sodium_mmol_per_kg"),
-    ("osmoles_mosm_per_kg", "osmoles_mosm_per_kg"),
-    ("rate_ml_h", "rate_ml_h"),
-    ("sodium_change_per_litre_mmol_l", "sodium_change_per_litre"),
-    ("projected_sodium_mmol_l", "projected_sodium"),
-    ("projected_sodium_rise_mmol_l", "projected_rise"),
-    ("projected_sodium_without_losses_mmol_l", "projected_sodium_without_losses"),
-    ("projected_sodium_range_low_mmol_l", "projected_sodium_low"),
-    ("projected_sodium_range_high_mmol_l", "projected_sodium_high"),
-    ("electrolyte_free_water_clearance_l", "free_water_clearance_l"),
-    ("free_water_deficit_l", "free_water_deficit_l"),
-)
 #: Within 1e-9 (relative) of a limit is at it (osmodose.check.judging's tolerance).
 AT = 1e-9
 
@@ -104,7 +83,7 @@ def floor_range(
 
 
 def floor(a: dict[str, np.ndarray], p: dict[str, Any]) -> dict[str, np.ndarray]:
-    """The engine's 16 figures and the rules' worst severity, in plain numpy on canonical arrays."""
+    """The engine's 21 figures and the rules' worst severity, in plain numpy on canonical arrays."""
     idx = a["agent_index"]
     has = idx >= 0
     agents = p["agents"]

@@ -16,6 +16,7 @@ import math
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -229,3 +230,23 @@ def test_every_float_of_check_json_with_a_labs_file_has_at_most_its_stated_decim
     )
     assert document["labs_file"]["fields"]
     assert undeclared_or_too_long(document, "check --labs") == []
+
+
+@settings(max_examples=2000, deadline=None)
+@given(
+    value=st.one_of(
+        st.floats(allow_nan=True, allow_infinity=True),
+        st.floats(-1e4, 1e4),
+        # Ties: a half in the last kept place (0.25, 2.675), where rounding rules part.
+        st.builds(lambda k, d: (k + 0.5) / 10**d, st.integers(-(10**6), 10**6), st.integers(0, 4)),
+    ),
+    decimals=st.integers(0, 10),
+)
+def test_one_float_is_rounded_exactly_as_a_numpy_column_is(value: float, decimals: int) -> None:
+    # numpy's own rounding is the reference (precision's docstring: one rule for a float and a column).
+    with np.errstate(all="ignore"):  # numpy's rounding of a huge float overflows (to inf) on the way
+        column = precision.rounded(np.array([value]), decimals)[0]
+        one = precision.rounded(value, decimals)
+    assert (math.isnan(one) and math.isnan(column)) or (
+        one == column and math.copysign(1, one) == math.copysign(1, column)
+    )

@@ -137,18 +137,20 @@ def _plain_numbers(cells: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np.nda
     The common column, numbers and empty cells only, is one cast in C++.
     """
     array = cells.array if isinstance(cells, TextColumn) else pa.array(list(cells), pa.string())
-    empty = pc.equal(array, "")
+    empty = _empty_cells(array)
     try:
-        numbers = pc.cast(pc.if_else(empty, None, array), pa.float64())
+        numbers = pc.cast(pc.if_else(pa.array(empty), None, array), pa.float64())
     except pa.ArrowInvalid:  # some cell is not a bare number: find which
         plain = pc.match_substring_regex(array, _PLAIN)
         numbers = pc.cast(pc.if_else(plain, pc.utf8_trim_whitespace(array), None), pa.float64())
         is_plain = plain.to_numpy(zero_copy_only=False)
         blank = pc.equal(pc.utf8_trim_whitespace(array), "").to_numpy(zero_copy_only=False)
     else:
-        blank = empty.to_numpy(zero_copy_only=False)
+        blank = empty
         is_plain = ~blank
-    values = numbers.to_numpy(zero_copy_only=False).copy()
+    # The values as they are (a null's slot holds some number), then NaN where no plain number was.
+    values = np.frombuffer(numbers.buffers()[1], dtype=np.float64)[numbers.offset : numbers.offset + len(numbers)]
+    values = np.where(is_plain, values, np.nan)
     # A cast may also take "nan" or "inf": those cells are read alone, as float() and check read them.
     is_plain &= ~np.isnan(values)
     given = is_plain.copy()
@@ -162,6 +164,12 @@ def _plain_numbers(cells: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np.nda
         # float() also reads "1_000", "nan", "inf" and other digits, which check may not take for numbers.
         odd[others] = [bool(t) and (not math.isfinite(v) or "_" in t) for t, v in zip(texts, read, strict=True)]
     return values, given, odd
+
+
+def _empty_cells(array: pa.Array) -> np.ndarray:
+    """Which cells of a string column are empty, from its offsets (no text is read)."""
+    offsets = np.frombuffer(array.buffers()[1], dtype=np.int32)[array.offset : array.offset + len(array) + 1]
+    return offsets[1:] == offsets[:-1]
 
 
 def _float(text: str) -> float:

@@ -17,10 +17,11 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
+import pyarrow as pa
 
 from osmodose.audit.cells import ChunkCells, encode
 from osmodose.audit.columns import ORDER_COLUMNS, Header
-from osmodose.audit.reader import RawChunk
+from osmodose.audit.reader import RawChunk, TextColumn
 from osmodose.case.fields import FIELDS, LAB_FIELDS, URINE_FIELDS, CaseField
 from osmodose.case.inputs import (
     URINE_SODIUM_ACCEPTED,
@@ -30,7 +31,7 @@ from osmodose.case.inputs import (
     target_change,
     target_sodium_error,
 )
-from osmodose.check.engine import DOSE_UNITS, DOSE_WEIGHTS, Cases, dose_unit_codes
+from osmodose.check.engine import DOSE_UNITS, DOSE_WEIGHTS, Cases
 from osmodose.check.patient_figures import dose_weight_height_error, dose_weight_problems
 from osmodose.check.run import dose_misfit, height_required_error
 from osmodose.errors import InputError
@@ -42,6 +43,9 @@ from osmodose.science.choices import TARGET_MODES
 _DOSE_SPLIT = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ][A-Za-zµμ/ ]*?)\s*")
 _ONE_ORDER = "exactly one of dose, volume, target-rise or target-sodium"
 OUTSIDE = "is outside the plausible range"
+#: Each order column's name by its code (0: no order), as a row's `mode`.
+_MODES = np.asarray(["", *ORDER_COLUMNS])
+_UNIT_CODES = {unit: code for code, unit in enumerate(DOSE_UNITS)}
 #: Every lab column a row may have, including those read into another (BUN into urea), in table order.
 LAB_FIELDS_TYPED = tuple(f for f in FIELDS.values() if f.group == "labs")
 
@@ -52,10 +56,12 @@ class Converted:
 
     reasons: dict[int, str]
     columns: dict[str, np.ndarray]
-    agent_text: np.ndarray
+    #: Each row's agent cell as a code into `agent_ids`, the chunk's distinct agent cells (stripped).
+    agent_codes: np.ndarray
+    agent_ids: list[str]
     agent_index: np.ndarray
     mode: np.ndarray
-    dose_unit: np.ndarray
+    #: Index of each row's dose unit in `engine.DOSE_UNITS` (0: none).
     dose_unit_code: np.ndarray
     dose_amount: np.ndarray
     dose_per_kg: np.ndarray
@@ -102,7 +108,7 @@ class Converted:
                 "agent_id": formulary.agents[int(self.agent_index[row])].id,
                 "mode": str(self.mode[row]),
                 "amount": float(self.dose_amount[row]),
-                "unit": str(self.dose_unit[row]),
+                "unit": DOSE_UNITS[int(self.dose_unit_code[row])],
                 "per_kg": bool(self.dose_per_kg[row]),
                 "duration_min": None if math.isnan(duration) else duration,
                 "text": self.dose_text(row),
@@ -163,40 +169,43 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
             inside = (bounds.low <= w) & (w <= bounds.high)
         reasons.add(g & ~inside, lambda i: _error(name, chunk.shown(name, i), OUTSIDE, bounds.describe()))
 
-    def choice(name: str) -> np.ndarray:
+    def choice(name: str) -> tuple[np.ndarray, np.ndarray]:
+        """(codes, distinct lowered values): a choice column takes a few values, judged once each."""
         field = FIELDS[name]
         options = field.choice
         if options is None:
             raise ValueError(f"{name} is not a choice")
-        accepted = options.values
         codes, distinct = encode(raw.cells[name]) if name in header else (np.zeros(n, np.int64), [""])
         lowered = np.asarray([d.lower() for d in distinct], dtype=str)
-        text = lowered[codes]
         if field.required:
-            reasons.add(text == "", lambda i: _error(name, None, "is required"))
-        bad = (text != "") & ~np.isin(text, accepted)
+            reasons.add((lowered == "")[codes], lambda i: _error(name, None, "is required"))
+        bad = (lowered != "") & ~np.isin(lowered, options.values)
         problem = f"is not a {options.noun} osmodose knows"
-        reasons.add(bad, lambda i: _error(name, raw.cells[name][i].strip(), problem, options.accepted()))
-        return text
+        reasons.add(bad[codes], lambda i: _error(name, raw.cells[name][i].strip(), problem, options.accepted()))
+        return codes, lowered
+
+    def chosen(name: str, value: str) -> np.ndarray:
+        codes, lowered = choice(name)
+        return (lowered == value)[codes]
 
     # The patient, then the labs, in the field table's order: the order `parse_check_request` reads them.
     number("weight", required=True)
     number("age", required=True)
-    male = choice("sex") == "male"
+    male = chosen("sex", "male")
     number("height")
-    raised_icp = choice("raised-icp") == "yes"
+    raised_icp = chosen("raised-icp", "yes")
     for field in LAB_FIELDS_TYPED:
         if field.into is not None:
             reasons.add(chunk.number(field.key).given & chunk.number(field.into).given, _both(field, chunk))
         number(field.key, required=field.required)
     _urine(chunk, number, given, reasons)
-    line = choice("line")
-    method = choice("tbw-method")
-    use_watson = np.where(method == "", formulary.settings.tbw_method, method) == "watson"
+    line_codes, lines = choice("line")
+    line = lines[line_codes]
+    method_codes, methods = choice("tbw-method")
+    use_watson = (np.where(methods == "", formulary.settings.tbw_method, methods) == "watson")[method_codes]
 
     agent_codes, agent_ids = encode(raw.cells["agent"]) if "agent" in header else (np.zeros(n, np.int64), [""])
-    agent_text = np.asarray(agent_ids, dtype=object)[agent_codes]
-    has_agent = agent_text != ""
+    has_agent = np.asarray([a != "" for a in agent_ids], dtype=bool)[agent_codes]
     orders = {name: chunk.given(name) for name in ORDER_COLUMNS}
     count = np.asarray(np.sum([orders[name] for name in ORDER_COLUMNS], axis=0, dtype=np.int64))
 
@@ -207,7 +216,9 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         ~has_agent & (count > 0),
         lambda i: _error(nth_order(i, 0), chunk.shown(nth_order(i, 0), i), "needs an agent", "--agent ID"),
     )
-    reasons.add(has_agent & (count == 0), lambda i: _error("agent", agent_text[i], "needs a dose", _ONE_ORDER))
+    reasons.add(
+        has_agent & (count == 0), lambda i: _error("agent", agent_ids[agent_codes[i]], "needs a dose", _ONE_ORDER)
+    )
     reasons.add(
         count > 1,
         lambda i: _error(
@@ -219,12 +230,17 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     )
     active = has_agent & (count == 1) & ~reasons.bad
     number("duration", active=active)
-    mode = np.full(n, "", dtype=f"U{max(map(len, ORDER_COLUMNS))}")
-    for name in ORDER_COLUMNS:
-        mode[active & orders[name]] = name
-    dose_unit = np.where(mode == "volume", "mL", np.where(np.isin(mode, TARGET_MODES), "mmol/L", "")).astype("U6")
-    number("volume", active=mode == "volume")
-    rise_text = mode == "target-rise"
+    mode_code = np.zeros(n, dtype=np.int8)  # 0: no order, else 1 + its place in ORDER_COLUMNS
+    for code, name in enumerate(ORDER_COLUMNS, start=1):
+        mode_code[active & orders[name]] = code
+    is_mode = {name: mode_code == code for code, name in enumerate(ORDER_COLUMNS, start=1)}
+    mode = _MODES[mode_code]
+    unit_code = np.zeros(n, dtype=np.int8)  # into DOSE_UNITS
+    unit_code[is_mode["volume"]] = DOSE_UNITS.index("mL")
+    for name in TARGET_MODES:
+        unit_code[is_mode[name]] = DOSE_UNITS.index("mmol/L")
+    number("volume", active=is_mode["volume"])
+    rise_text = is_mode["target-rise"]
     rise_values = chunk.number("target-rise").engine  # unreadable cells are NaN, never zero
     zero = rise_text & (rise_values == 0)
     rise_accepted = "a change from -30 to 30 mmol/L, not 0"
@@ -233,7 +249,7 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
         lambda i: _error("target-rise", chunk.shown("target-rise", i), "is zero", rise_accepted),
     )
     number("target-rise", active=rise_text)
-    target_text = mode == "target-sodium"
+    target_text = is_mode["target-sodium"]
     number("target-sodium", active=target_text)
     serum = values["sodium"]
     change = target_change(values["target-sodium"], serum)
@@ -249,14 +265,15 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
 
     reasons.add(target_bad, target_reason)
     amount = np.select(
-        [mode == "volume", rise_text, target_text], [values["volume"], values["target-rise"], change], default=np.nan
+        [is_mode["volume"], rise_text, target_text],
+        [values["volume"], values["target-rise"], change],
+        default=np.nan,
     )
     per_kg = np.zeros(n, dtype=bool)
-    _read_doses(chunk, np.flatnonzero((mode == "dose") & ~reasons.bad), reasons, amount, dose_unit, per_kg)
+    _read_doses(chunk, np.flatnonzero(is_mode["dose"] & ~reasons.bad), reasons, amount, unit_code, per_kg)
 
-    agent_index = _agent_index(formulary, agent_text, active & ~reasons.bad, reasons)
-    unit_code = dose_unit_codes(dose_unit)
-    _misfits(formulary, agent_index, mode, dose_unit, unit_code, amount, per_kg, chunk.order_text, reasons)
+    agent_index = _agent_index(formulary, agent_codes, agent_ids, active & ~reasons.bad, reasons)
+    _misfits(formulary, agent_index, mode, unit_code, amount, per_kg, chunk.order_text, reasons)
     height_given = given["height"]
     reasons.add(use_watson & ~height_given, lambda i: str(height_required_error()))
     _dose_weights(formulary, agent_index, np.where(height_given, values["height"], np.nan), values["age"], reasons)
@@ -269,10 +286,10 @@ def convert(header: Header, raw: RawChunk, formulary: Formulary) -> Converted:
     return Converted(
         reasons=reasons.reasons,
         columns=columns,
-        agent_text=agent_text,
+        agent_codes=agent_codes,
+        agent_ids=agent_ids,
         agent_index=agent_index,
         mode=mode,
-        dose_unit=dose_unit,
         dose_unit_code=unit_code,
         dose_amount=amount,
         dose_per_kg=per_kg,
@@ -318,17 +335,22 @@ def _read_doses(
     rows: np.ndarray,
     reasons: _Reasons,
     amount: np.ndarray,
-    dose_unit: np.ndarray,
+    unit_code: np.ndarray,
     per_kg: np.ndarray,
 ) -> None:
     """Dose cells through `parse_dose`: once per distinct unit, or per distinct text when odd."""
     if not len(rows):
         return
-    cells = chunk.raw.cells["dose"]
+    taken = pa.array(rows)
+    codes, plain = encode(TextColumn(chunk.raw.cells["dose"].array.take(taken)))
     if "dose-unit" in chunk.header:
-        codes, distinct = encode([chunk.shown("dose", i) for i in rows.tolist()])
+        # The dose as check is typed it: the cell, then the unit cell beside it (see `ChunkCells.shown`).
+        unit_codes, unit_texts = encode(TextColumn(chunk.raw.cells["dose-unit"].array.take(taken)))
+        pairs, codes = np.unique(codes * len(unit_texts) + unit_codes, return_inverse=True)
+        codes = codes.reshape(-1)
+        split = [divmod(pair, len(unit_texts)) for pair in pairs.tolist()]
+        distinct = [f"{plain[d]} {unit_texts[u]}" if unit_texts[u] else plain[d] for d, u in split]
     else:
-        codes, plain = encode([cells[i] for i in rows.tolist()])
         unit = chunk.header.columns["dose"].unit
         distinct = [f"{c} {unit}" if unit and c else c for c in plain]
     units: dict[str, DoseRequest | InputError] = {}
@@ -356,11 +378,10 @@ def _read_doses(
     failed = np.asarray([isinstance(entry, str) for entry in read], dtype=bool)
     mask = np.zeros(len(amount), dtype=bool)
     mask[rows[failed[codes]]] = True
-    code_of = dict(zip(rows.tolist(), codes.tolist(), strict=True))
-    reasons.add(mask, lambda i: str(read[code_of[i]]))
+    reasons.add(mask, lambda i: str(read[codes[np.searchsorted(rows, i)]]))
     entries = [(math.nan, "", False) if isinstance(entry, str) else entry for entry in read]
     amount[rows] = np.asarray([e[0] for e in entries], dtype=float)[codes]
-    dose_unit[rows] = np.asarray([e[1] for e in entries], dtype=dose_unit.dtype)[codes]
+    unit_code[rows] = np.asarray([_UNIT_CODES.get(e[1], 0) for e in entries], dtype=unit_code.dtype)[codes]
     per_kg[rows] = np.asarray([e[2] for e in entries], dtype=bool)[codes]
 
 
@@ -371,15 +392,17 @@ def _parse(text: str) -> DoseRequest | InputError:
         return error
 
 
-def _agent_index(formulary: Formulary, agent_text: np.ndarray, active: np.ndarray, reasons: _Reasons) -> np.ndarray:
+def _agent_index(
+    formulary: Formulary, agent_codes: np.ndarray, agent_ids: list[str], active: np.ndarray, reasons: _Reasons
+) -> np.ndarray:
     """Formulary index of each active row's agent; -1 for none.  Unknown ids take check's message."""
     ids = {agent.id: index for index, agent in enumerate(formulary.agents)}
-    index = np.fromiter((ids.get(a, -1) for a in agent_text.tolist()), dtype=np.int64, count=len(agent_text))
+    index = np.asarray([ids.get(a, -1) for a in agent_ids], dtype=np.int64)[agent_codes]
     index = np.where(active, index, -1)
 
     def unknown(i: int) -> str:
         try:
-            formulary.agent(str(agent_text[i]))
+            formulary.agent(agent_ids[agent_codes[i]])
         except InputError as error:
             return str(error)
         raise AssertionError("known agent")  # pragma: no cover
@@ -392,7 +415,6 @@ def _misfits(
     formulary: Formulary,
     agent_index: np.ndarray,
     mode: np.ndarray,
-    dose_unit: np.ndarray,
     unit_code: np.ndarray,
     amount: np.ndarray,
     per_kg: np.ndarray,
@@ -414,7 +436,7 @@ def _misfits(
                 "agent_id": agent.id,
                 "mode": str(mode[i]),
                 "amount": float(amount[i]),
-                "unit": str(dose_unit[i]),
+                "unit": DOSE_UNITS[int(unit_code[i])],
                 "per_kg": bool(per_kg[i]),
                 "text": text_of(i),
             }

@@ -46,6 +46,8 @@ MAX_CELL_CHARS = 131_072
 MAX_RECORD_BYTES = 4 * 1024**2
 #: Bytes read and parsed at a time.
 BLOCK_BYTES = 8 * 1024**2
+#: Bytes read at a time for the header (its records are found before the first block is read whole).
+HEADER_BYTES = 64 * 1024
 #: How standard input is named in messages.
 STDIN = "<stdin>"
 
@@ -217,15 +219,15 @@ class OrdersFile:
         self.header: Header = parse_header(path, header)
         self._names = [f"c{i}" for i in range(self.header.width)]
 
-    def _fill(self) -> None:
-        data = self._source.read(BLOCK_BYTES, self._line, self._pending)
+    def _fill(self, size: int | None = None) -> None:
+        data = self._source.read(BLOCK_BYTES if size is None else size, self._line, self._pending)
         if not data:
             self._eof = True
         self._pending += data
 
     def _header(self) -> list[str]:
         while True:
-            self._fill()
+            self._fill(min(HEADER_BYTES, BLOCK_BYTES))
             records = find_records(self._pending, 1, final=self._eof)
             if len(records.starts):
                 break
@@ -271,8 +273,11 @@ class OrdersFile:
                 if tail is not None:
                     self._pending, self._line = tail
             table, lines, problems = _parse(block, records, self._names, problems)
+            # A cell has no more characters than its record has bytes: most blocks need no cell measured.
+            long_cells = len(records.ends) > 0 and int((records.ends - records.starts).max()) > MAX_CELL_CHARS
             for start in range(0, len(lines), rows):
-                yield _chunk(table, lines, problems, start, min(start + rows, len(lines)), self.header)
+                stop = min(start + rows, len(lines))
+                yield _chunk(table, lines, problems, start, stop, self.header, long_cells)
 
     def _too_long(self, block: bytes, first_line: int) -> RawChunk:
         """A record longer than MAX_RECORD_BYTES: a bad row at its line; reading goes on at the next line."""
@@ -391,13 +396,19 @@ def _parse_slowly(block: bytes, records: Records, valid: np.ndarray, names: list
 
 
 def _chunk(
-    table: pa.Table, lines: np.ndarray, problems: dict[int, str], start: int, stop: int, header: Header
+    table: pa.Table,
+    lines: np.ndarray,
+    problems: dict[int, str],
+    start: int,
+    stop: int,
+    header: Header,
+    long_cells: bool = True,
 ) -> RawChunk:
     part = table.slice(start, stop - start)
     mine = {i - start: reason for i, reason in problems.items() if start <= i < stop}
     arrays = {name: part.column(column.index).combine_chunks() for name, column in header.columns.items()}
     for name, array in arrays.items():
-        if (pc.max(pc.binary_length(array)).as_py() or 0) > MAX_CELL_CHARS:
+        if long_cells and (pc.max(pc.binary_length(array)).as_py() or 0) > MAX_CELL_CHARS:
             over = pc.greater(pc.utf8_length(array), MAX_CELL_CHARS).to_numpy(zero_copy_only=False)
             for i in np.flatnonzero(over).tolist():
                 mine.setdefault(i, f"{name}: has more than {MAX_CELL_CHARS} characters")

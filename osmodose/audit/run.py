@@ -23,6 +23,7 @@ import pyarrow.compute as pc
 
 from osmodose.audit.columns import Header
 from osmodose.audit.convert import Converted, convert
+from osmodose.audit.figures import FIGURES
 from osmodose.audit.reader import OrdersFile, ParquetOrders, open_orders
 from osmodose.case.inputs import Patient
 from osmodose.check.balance import urine_problems, urine_volume_error
@@ -37,32 +38,6 @@ from osmodose.formulary.model import Formulary
 CHUNK_ROWS = 50_000
 
 STATUS_NAMES = {-1: "error", 0: "ok", 1: "warn", 2: "refuse"}
-
-#: Output name (as in `check --json`) -> engine figure.
-FIGURES: tuple[tuple[str, str], ...] = (
-    ("total_body_water_l", "tbw_l"),
-    ("calculated_osmolality_mosm_kg", "calculated_osmolality"),
-    ("effective_osmolality_mosm_kg", "effective_osmolality"),
-    ("osmolar_gap_mosm_kg", "osmolar_gap"),
-    ("volume_ml", "volume_ml"),
-    ("solute_g", "solute_g"),
-    ("sodium_mmol", "sodium_mmol"),
-    ("osmoles_mosm", "osmoles_mosm"),
-    ("volume_ml_per_kg", "volume_ml_per_kg"),
-    ("solute_g_per_kg", "solute_g_per_kg"),
-    ("sodium_mmol_per_kg", "sodium_mmol_per_kg"),
-    ("osmoles_mosm_per_kg", "osmoles_mosm_per_kg"),
-    ("rate_ml_h", "rate_ml_h"),
-    ("sodium_change_per_litre_mmol_l", "sodium_change_per_litre"),
-    ("projected_sodium_mmol_l", "projected_sodium"),
-    ("projected_sodium_rise_mmol_l", "projected_rise"),
-    # check --json's projected_sodium_range_mmol_l [low, high], as two columns.
-    ("projected_sodium_without_losses_mmol_l", "projected_sodium_without_losses"),
-    ("projected_sodium_range_low_mmol_l", "projected_sodium_low"),
-    ("projected_sodium_range_high_mmol_l", "projected_sodium_high"),
-    ("electrolyte_free_water_clearance_l", "free_water_clearance_l"),
-    ("free_water_deficit_l", "free_water_deficit_l"),
-)
 
 
 def _opt(value: float) -> float | None:
@@ -80,10 +55,13 @@ class ChunkResult:
     lines: np.ndarray
     #: The order ids as written (stripped), when the file has them.
     order_id: pa.Array | None
-    agent_text: np.ndarray
+    #: The agent cell of each row, as codes into the chunk's distinct agent cells (stripped).
+    agent_codes: np.ndarray
+    agent_ids: list[str]
     status: np.ndarray
     reasons: dict[int, str]
-    tbw_method: np.ndarray
+    #: Total body water by Watson's formula (else by the fraction of weight).
+    use_watson: np.ndarray
     figures: dict[str, np.ndarray]
     agent_index: np.ndarray
     outcomes: list[RuleOutcome]
@@ -167,10 +145,11 @@ def audit_chunk(converted: Converted, lines: np.ndarray, formulary: Formulary) -
     return ChunkResult(
         lines=lines,
         order_id=None,
-        agent_text=converted.agent_text,
+        agent_codes=converted.agent_codes,
+        agent_ids=converted.agent_ids,
         status=status,
         reasons=reasons,
-        tbw_method=np.where(converted.use_watson, "watson", "fraction"),
+        use_watson=converted.use_watson,
         figures=full,
         agent_index=agent_index,
         outcomes=outcomes,

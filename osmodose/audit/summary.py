@@ -42,20 +42,29 @@ class Summary:
     def add(self, chunk: ChunkResult) -> None:
         agents = len(self.formulary.agents)
         self.status += np.bincount(chunk.status.astype(np.int64) + 1, minlength=4)
-        agent = chunk.agent_index
+        agent = chunk.agent_index.astype(np.int64)
         with_agent = agent >= 0
         status = chunk.status.astype(np.int64) + 1
         cells = np.bincount(agent[with_agent] * 4 + status[with_agent], minlength=agents * 4)
         self.agent_status += cells.reshape(agents, 4)
+        # Each rule's (agent, severity) counts in one bincount over the rows it fired on:
+        # agent + 1 (0 for none) times 3, plus the severity.
+        cell = (agent + 1) * 3
         for outcome in chunk.outcomes:
             counts = self.codes.setdefault(outcome.code, np.zeros(2, dtype=np.int64))
             by_agent = self.agent_codes.setdefault(outcome.code, np.zeros((agents, 2), dtype=np.int64))
-            for severity in (1, 2):
-                fired = outcome.severity == severity
-                counts[severity - 1] += int(fired.sum())
-                by_agent[:, severity - 1] += np.bincount(agent[fired & with_agent], minlength=agents)
+            fired = np.flatnonzero(outcome.severity)
+            if not len(fired):
+                continue
+            keys = cell[fired] + outcome.severity[fired]
+            tally = np.bincount(keys, minlength=(agents + 1) * 3).reshape(agents + 1, 3)
+            counts += tally[:, 1:].sum(axis=0)
+            by_agent += tally[1:, 1:]
+        # The rows of each agent, agents in order: one stable sort rather than a scan per agent.
+        order = np.argsort(agent, kind="stable")
+        bounds = np.searchsorted(agent[order], np.arange(-1, agents + 1))
         for a, item in enumerate(self.formulary.agents):
-            rows = np.flatnonzero(agent == a)
+            rows = order[bounds[a + 1] : bounds[a + 2]]
             if not len(rows):
                 continue
             for unit, name in DOSE_MEASURES:

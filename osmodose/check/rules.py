@@ -61,6 +61,8 @@ class RuleOutcome:
     unit: str
     describe: Describe
     extra: Callable[[int], str] | None = None  # more words for a row, from more of the case than (value, limit)
+    #: The words show the value only through `shown`: values with one `shown_key` get one message.
+    shows_value: bool = False
 
     def message(self, row: int) -> str:
         sev = SEVERITY_NAMES[int(self.severity[row])]
@@ -75,9 +77,30 @@ def shown(value: float, limit: float) -> str:
     The JSON's `value` is rounded by the same rule, so the message and the figure agree.
     """
     digits = apart(value, limit, 1)
-    if value != limit and rounded(value, digits) == limit:
+    figure = rounded(value, digits)
+    if value != limit and figure == limit:
         return f"{value:.6g}"
-    return f"{rounded(value, digits):.{digits}f}"
+    return f"{figure:.{digits}f}"
+
+
+def shown_keys(values: np.ndarray, limit: float) -> np.ndarray:
+    """A key per value judged against `limit`, equal where `shown` writes the values alike.
+
+    `shown` writes a value to one decimal unless that decimal is the limit
+    itself: the value rounded to one decimal is the key, and a value that
+    rounds onto the limit is its own key.  (A batch makes one message per key.)
+    """
+    tenths = rounded(values, 1)
+    return np.where(tenths == limit, values, tenths)
+
+
+#: Word functions whose only use of the judged value is `shown(value, limit)` (a template says so by itself).
+_SHOWN_ONLY: set[Describe] = set()
+
+
+def _shows(describe: Describe) -> Describe:
+    _SHOWN_ONLY.add(describe)
+    return describe
 
 
 #: The words of a rule that says no more than that its figure crossed its limit.
@@ -292,9 +315,21 @@ class Rule:
             limit = np.full(np.shape(value), np.nan)
         detail = self.detail
         extra = None if detail is None else (lambda row: detail(batch.patient, row))
-        return RuleOutcome(self.code, severity, value, np.asarray(limit, dtype=float), self.unit, self.words(), extra)
+        limit = np.asarray(limit, dtype=float)
+        return RuleOutcome(self.code, severity, value, limit, self.unit, self.words(), extra, self.shows_value)
+
+    @property
+    def shows_value(self) -> bool:
+        """Whether the words show the judged value only through `shown` (so the audit words each shown value once).
+
+        A template does when it never formats `{value}` itself; a function when it is marked `@_shows`.
+        """
+        if callable(self.describe):
+            return self.describe in _SHOWN_ONLY
+        return "{value" not in self.describe
 
 
+@_shows
 def _negative_gap(value: float, limit: float, _severity: str) -> str:
     return (
         f"osmolar gap {shown(value, limit)} mOsm/kg: measured osmolality is more than {-limit:g} below the "
