@@ -12,17 +12,20 @@ from __future__ import annotations
 from datetime import datetime
 from typing import TYPE_CHECKING, ClassVar
 
+from textual import events
 from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Input, Select, Static
+from textual.widgets import Input, Select, Static
 
 from osmodose.app import keys
 from osmodose.app.form_view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, agent_choices
 from osmodose.app.shown import Shown, loading_shown
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.app.widgets.lines import LinesPanel
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
@@ -41,6 +44,7 @@ class MainScreen(Screen[None]):
     """Holds the latest `Shown`; every figure on screen comes from it and nothing else."""
 
     BINDINGS: ClassVar[list[BindingType]] = keys.CHECK
+    _resumed = False
 
     def __init__(self, formulary: Formulary | None = None, demo: bool = False, loading: str = "") -> None:
         super().__init__(id="main-screen")
@@ -52,6 +56,20 @@ class MainScreen(Screen[None]):
         self.shown: Shown = loading_shown(loading)
         # Every box of the form, built once: read and marked on each key without a query.
         self.fields = {spec.key: FormField(spec) for spec in FIELDS}
+
+    def post_message(self, message: Message) -> bool:
+        """The first resume does not style the screen again: its widgets were styled as they mounted.
+
+        Textual restyles every widget of a screen when it resumes (right for a
+        screen coming back after another, whose theme may have changed
+        meanwhile); on the first resume, moments after the mount, that second
+        pass was a sixth of the first frame's time (benchmarks/first_frame.py).
+        """
+        if isinstance(message, events.ScreenResume) and not self._resumed:
+            self._resumed = True
+            if message.refresh_styles:
+                message = events.ScreenResume(refresh_styles=False)
+        return super().post_message(message)
 
     def compose(self) -> ComposeResult:
         yield FormularyBar(self.formulary, self.demo, self.loading_text)
@@ -77,7 +95,7 @@ class MainScreen(Screen[None]):
                 labs_file.display = False
                 yield labs_file
         yield Static(CAUTION, id="caution", markup=False)
-        yield Footer()
+        yield KeysFooter()
 
     def on_mount(self) -> None:
         if self.formulary is not None:
@@ -145,9 +163,8 @@ class MainScreen(Screen[None]):
         labs_file.show(tuple(((line, "muted"),) for line in shown.labs_file))
         if labs_file.display != bool(shown.labs_file):
             labs_file.display = bool(shown.labs_file)
-        results = self.query_one("#results")
-        for state in STATES:
-            results.set_class(shown.state == state, f"-{state}")
+        # One restyle of the results for the new state, not one a class.
+        self.query_one("#results").update_classes({f"-{state}": shown.state == state for state in STATES})
 
     def _result(self) -> CheckResult | None:
         outcome = self.outcome
