@@ -18,11 +18,12 @@ from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Input, Select, Static
+from textual.widgets import Input, Static
 
 from osmodose.app import keys
 from osmodose.app.form_view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, agent_choices
 from osmodose.app.shown import Shown, loading_shown
+from osmodose.app.widgets.choice_box import ChoiceBox
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.app.widgets.keys_footer import KeysFooter
@@ -119,9 +120,9 @@ class MainScreen(Screen[None]):
         event.stop()
         self.recompute()
 
-    def on_select_changed(self, event: Select.Changed) -> None:
+    def on_choice_box_changed(self, event: ChoiceBox.Changed) -> None:
         event.stop()
-        if event.select.id == f"in-{DOSE_MODE}":
+        if event.choice_box.id == f"in-{DOSE_MODE}":
             mode = self.field(DOSE_MODE).value or "dose"
             amount = self.field(AMOUNT).control
             if isinstance(amount, Input):

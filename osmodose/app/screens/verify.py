@@ -14,7 +14,7 @@ from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Checkbox, Footer, Input, Select, Static
+from textual.widgets import Checkbox, Footer, Input, Static
 
 from osmodose.app import keys
 from osmodose.app.form_view import agent_choices
@@ -43,6 +43,7 @@ from osmodose.app.verify_view import (
     summary_lines,
 )
 from osmodose.app.widgets.accept_panel import AcceptPanel
+from osmodose.app.widgets.choice_box import ChoiceBox
 from osmodose.app.widgets.form_field import FormField
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.app.widgets.lines import LinesPanel, set_text
@@ -134,7 +135,7 @@ class VerifyScreen(Screen[None]):
             self.ticks[event.checkbox.id.removeprefix("accept-")] = event.value
         await self.recompute()
 
-    async def on_select_changed(self, event: Select.Changed) -> None:
+    async def on_choice_box_changed(self, event: ChoiceBox.Changed) -> None:
         event.stop()
         await self.recompute()
 
