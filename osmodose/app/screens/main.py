@@ -72,6 +72,17 @@ class MainScreen(Screen[None]):
                 message = events.ScreenResume(refresh_styles=False)
         return super().post_message(message)
 
+    def on_resize(self, event: events.Resize) -> None:
+        """A resize to the size the screen has changes nothing: no relayout for it.
+
+        Textual sends the screen three at start (two from the app, one from the
+        screen's own first layout), each a full layout of the screen while the
+        loader reads the formulary; a layout still wanted is done by the next
+        refresh all the same.
+        """
+        if event.size == self.size:
+            event.prevent_default()  # Screen._on_resize would lay the whole screen out again
+
     def compose(self) -> ComposeResult:
         yield FormularyBar(self.formulary, self.demo, self.loading_text)
         shown = self.shown  # the loading state, or the empty form's: the first frame is the final one
