@@ -123,7 +123,7 @@ def main(argv: list[str] | None = None) -> int:
     later: list[float] = []
     for _ in range(args.rounds):
         fw, fc = asyncio.run(type_keys(BareApp(), "#bare-input", args.keys))
-        aw, ac = asyncio.run(type_keys(OsmodoseApp(formulary), "#in-duration", args.keys, fill_case))
+        aw, ac = asyncio.run(type_keys(OsmodoseApp(formulary), "#field-duration", args.keys, fill_case))
         floor_wall += fw
         floor_cpu += fc
         app_wall += aw

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING, ClassVar
 from textual import events
 from textual.app import ComposeResult
 from textual.binding import BindingType
-from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.containers import Horizontal, VerticalScroll
 from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Input, Static
@@ -24,7 +24,8 @@ from osmodose.app import keys
 from osmodose.app.form_view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, agent_choices
 from osmodose.app.shown import Shown, loading_shown
 from osmodose.app.widgets.choice_box import ChoiceBox
-from osmodose.app.widgets.form_field import FormField
+from osmodose.app.widgets.form_field import FormField, form_field
+from osmodose.app.widgets.form_panel import FormPanel
 from osmodose.app.widgets.formulary_bar import FormularyBar
 from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.app.widgets.lines import LinesPanel
@@ -56,7 +57,7 @@ class MainScreen(Screen[None]):
         self.labs: LoadedLabs | None = None
         self.shown: Shown = loading_shown(loading)
         # Every box of the form, built once: read and marked on each key without a query.
-        self.fields = {spec.key: FormField(spec) for spec in FIELDS}
+        self.fields: dict[str, FormField] = {spec.key: form_field(spec) for spec in FIELDS}
 
     def post_message(self, message: Message) -> bool:
         """The first resume does not style the screen again: its widgets were styled as they mounted.
@@ -93,9 +94,11 @@ class MainScreen(Screen[None]):
             form.can_focus = False  # Tab goes straight to the first field
             with form:
                 for panel in PANELS:
-                    with Vertical(id=panel, classes="panel") as box:
-                        box.border_title = panel
-                        yield from (f for f in self.fields.values() if f.spec.panel == panel)
+                    boxes = FormPanel(
+                        *(f for f in self.fields.values() if f.spec.panel == panel), id=panel, classes="panel"
+                    )
+                    boxes.border_title = panel
+                    yield boxes
             with VerticalScroll(id="results", classes=f"-{shown.state}"):
                 yield LinesPanel("checks", "checks", lines=shown.checks)
                 yield LinesPanel("dose", shown.dose_title, lines=shown.dose)
@@ -133,7 +136,7 @@ class MainScreen(Screen[None]):
 
     def on_choice_box_changed(self, event: ChoiceBox.Changed) -> None:
         event.stop()
-        if event.choice_box.id == f"in-{DOSE_MODE}":
+        if event.choice_box.id == f"field-{DOSE_MODE}":
             mode = self.field(DOSE_MODE).value or "dose"
             amount = self.field(AMOUNT).control
             if isinstance(amount, Input):

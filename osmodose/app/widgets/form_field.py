@@ -1,85 +1,64 @@
-"""One box of a form: its label, a typed field or a choice, what it reads as, and why it is marked.
+"""One box of a form (a typed field or a choice), its value, what it reads as, and why it is marked.
 
-Two widgets: the field draws its label, the unit beside the box and the mark
-under it itself, and holds the box (an Input or a ChoiceBox) as its only child,
-placed between label and unit by the box's margins in the stylesheet
-(`.field > .field-box`).  The check screen has 21 boxes, and its first frame
-is timed (benchmarks/first_frame.py): four widgets a box, and a Select's six,
-were most of the screen's widgets to style and lay out before it showed.
+A box is one widget: its label, the unit beside it and the mark under it are
+drawn by the panel that holds it (`form_panel.FormPanel`), in the box's
+margins.  The check screen has 21 boxes and its first frame is timed
+(benchmarks/first_frame.py): a widget for each label, unit and mark, or a
+row container per box, was most of the screen's widgets to build, style and
+lay out before it showed.
 """
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import TYPE_CHECKING, Literal, cast
 
-from textual.app import ComposeResult
-from textual.content import Content
 from textual.geometry import Size
 from textual.reactive import Reactive
 from textual.widget import Widget
 from textual.widgets import Input
 
 from osmodose.app.form_view import FieldSpec
-from osmodose.app.widgets.choice_box import ChoiceBox
+from osmodose.app.widgets.choice_box import ChoiceBox, Choices
+
+if TYPE_CHECKING:
+    from osmodose.app.widgets.form_panel import FormPanel
 
 State = Literal["", "bad", "missing", "converted"]
-#: How the line under a box reads: a wrong value, a value still needed, or what a value was read as (in
-#: the field's own colour, muted by the stylesheet, as its label and unit are).
-MARK_STYLE: dict[State, str] = {"": "", "bad": "bold $text-error", "missing": "$text-warning", "converted": ""}
-
-
-class FieldInput(Input):
-    """A typed box whose growing text repaints it and never re-lays the screen out.
-
-    Textual's Input declares its scrolling width (`virtual_size`) as a layout
-    change, so every key re-laid the whole screen (some hundred widgets) out;
-    here the box is one row of a fixed width, so only the box repaints.
-    """
-
-    virtual_size: Reactive[Size] = Reactive(Size(0, 0), layout=False)
-
-    def __init__(self, placeholder: str, id: str) -> None:
-        super().__init__(placeholder=placeholder, id=id, classes="field-box")
-        # Compact (no border), set without styling a widget not yet on screen (Input(compact=True) does).
-        self.set_reactive(Input.compact, True)
-        self.add_class("-textual-compact", update=False)
 
 
 class FormField(Widget):
-    """Holds one form value; `mark` shows at the field why it is wrong or still needed."""
+    """What every box of a form answers to: its spec, its value, its mark and its unit.
 
-    def __init__(self, spec: FieldSpec, choices: tuple[tuple[str, str], ...] = ()) -> None:
-        super().__init__(id=f"field-{spec.key}", classes="field -select" if spec.select else "field")
-        self.spec = spec
-        self.choices = choices or spec.choices
-        self.message = ""
-        """The line under the box (a mark, or what the value reads as)."""
-        self.marked = ""
-        """The mark (why the value is wrong or still needed), "" when none."""
-        self.reading = ""
-        """The unit beside the box."""
-        self.state: State = ""
-        self._lines: tuple[int, str, State, list[Content]] = (0, "", "", [])
+    Not a widget of its own: `FieldInput` and `FieldChoice` are (each an Input
+    or a ChoiceBox first, so Textual styles them as those, and a FormField);
+    a screen finds its boxes through its panels (`FormPanel.boxes`), as
+    Textual's CSS type names follow a widget's first base only.
+    """
 
-        # Kept, not queried: the screen reads every box and marks every field on each key.
-        self.control: Input | ChoiceBox
-        if self.spec.select:
-            self.control = ChoiceBox(
-                self.choices,
-                prompt=self.spec.blank or "choose",
-                allow_blank=bool(self.spec.blank),
-                id=f"in-{spec.key}",
-                classes="field-box",
-            )
-        else:
-            self.control = FieldInput(self.spec.hint, id=f"in-{self.spec.key}")
-
-    def compose(self) -> ComposeResult:
-        yield self.control
+    spec: FieldSpec
+    choices: Choices = ()
+    marked: str = ""
+    """The mark (why the value is wrong or still needed), "" when none."""
+    message: str = ""
+    """The line under the box: the mark, or what the value reads as."""
+    reading: str = ""
+    """The unit beside the box."""
+    state: State = ""
+    """bad (a wrong value), missing (a value still needed), converted (what a value reads as) or none."""
+    if TYPE_CHECKING:
+        value: str  # the box's own (Input.value, ChoiceBox.value: "" for none); not defined here, not to hide it
 
     @property
-    def value(self) -> str:
-        return self.control.value
+    def control(self) -> Input | ChoiceBox:
+        """The box itself (the field and its box are one widget)."""
+        return cast("Input | ChoiceBox", self)
+
+    @property
+    def panel(self) -> FormPanel | None:
+        from osmodose.app.widgets.form_panel import FormPanel  # noqa: PLC0415 (the panel imports this module)
+
+        parent = self.parent
+        return parent if isinstance(parent, FormPanel) else None
 
     def set_value(self, text: str) -> None:
         """Put `text` in the box (a value read from a file)."""
@@ -94,19 +73,17 @@ class FormField(Widget):
         elif self.choices:
             control.value = self.choices[0][1]
 
-    def set_choices(self, choices: tuple[tuple[str, str], ...]) -> None:
+    def set_choices(self, choices: Choices) -> None:
         """New options for a choice box (the agents, once the formulary is read)."""
         self.choices = choices
-        if isinstance(self.control, ChoiceBox):
-            self.control.set_choices(choices)
 
     def chosen(self) -> str:
         """The shown words of the chosen option ("" for none, or for a typed box)."""
-        value = self.value
+        value = self.control.value
         return next((shown for shown, v in self.choices if v == value), "") if self.spec.select and value else ""
 
     def mark(self, message: str, bad: bool, converted: str = "") -> None:
-        """Show `message` under the field (`bad`: a wrong value, else one still needed), or else `converted`.
+        """Show `message` under the box (`bad`: a wrong value, else one still needed), or else `converted`.
 
         An agent's box is narrow: under it stands the whole of the chosen option (id, strength and label).
         """
@@ -115,46 +92,49 @@ class FormField(Widget):
         state: State = ("bad" if bad else "missing") if message else ("converted" if converted else "")
         text = message or converted
         self.marked = message
-        if state != self.state:
-            self.update_classes({f"-{name}": state == name for name in ("bad", "missing", "converted")})
         if (text, state) == (self.message, self.state):
             return
-        rows = len(self._message_lines(self.size.width)) if self.size.width else -1
+        if state != self.state:
+            self.update_classes({f"-{name}": state == name for name in ("bad", "missing", "converted")})
         self.message, self.state = text, state
-        # A new height re-lays the screen out; the same height only repaints this field.
-        self.refresh(layout=not self.size.width or len(self._message_lines(self.size.width)) != rows)
+        if (panel := self.panel) is not None:
+            panel.box_changed(self)
 
     def read_as(self, unit: str) -> None:
         """The unit a bare number is read in, beside the box ("kg")."""
         if unit != self.reading:
             self.reading = unit
-            self.refresh()
+            if (panel := self.panel) is not None:
+                panel.refresh()
 
-    def _message_lines(self, width: int) -> list[Content]:
-        """The line under the box, wrapped to `width` (what it reads as indented under the box, but an agent's)."""
-        if self._lines[:3] == (width, self.message, self.state):
-            return self._lines[3]
-        lines: list[Content] = []
-        if self.message and width > 0:
-            indent = self.control.styles.margin.left if self.state == "converted" and self.spec.key != "agent" else 0
-            style = MARK_STYLE[self.state]
-            for line in Content(self.message).wrap(max(1, width - indent)):
-                lines.append(Content.assemble(" " * indent, line.stylize(style)))
-        self._lines = (width, self.message, self.state, lines)
-        return lines
 
-    def get_content_height(self, container: Size, viewport: Size, width: int) -> int:
-        return 1 + len(self._message_lines(width))
+class FieldInput(Input, FormField):
+    """A typed box whose growing text repaints it and never re-lays the screen out.
 
-    def render(self) -> Content:
-        """The label, the room the box is laid over, and the unit on the first row; the mark under them."""
-        width = self.size.width
-        margin = self.control.styles.margin
-        label_width, unit_width = margin.left, margin.right
-        label_style = "bold $text-error" if self.state == "bad" else ""
-        first = Content.assemble(
-            (self.spec.label[:label_width].ljust(label_width), label_style),
-            " " * max(0, width - label_width - unit_width),
-            (" " + self.reading)[:unit_width].ljust(unit_width),
-        )
-        return Content("\n").join([first, *self._message_lines(width)])
+    Textual's Input declares its scrolling width (`virtual_size`) as a layout
+    change, so every key re-laid the whole screen out; here the box is one
+    row of a fixed width, so only the box repaints.
+    """
+
+    virtual_size: Reactive[Size] = Reactive(Size(0, 0), layout=False)
+
+    def __init__(self, spec: FieldSpec) -> None:
+        super().__init__(placeholder=spec.hint, id=f"field-{spec.key}")
+        self.spec = spec
+        # Compact (no border), set without styling a widget not yet on screen (Input(compact=True) does).
+        self.set_reactive(Input.compact, True)
+        self.add_class("-textual-compact", update=False)
+
+
+class FieldChoice(ChoiceBox, FormField):
+    """A choice box of a form."""
+
+    def __init__(self, spec: FieldSpec, choices: Choices = ()) -> None:
+        choices = choices or spec.choices
+        super().__init__(choices, prompt=spec.blank or "choose", allow_blank=bool(spec.blank), id=f"field-{spec.key}")
+        self.spec = spec
+
+
+def form_field(spec: FieldSpec, choices: Choices = ()) -> FieldInput | FieldChoice:
+    """The box for `spec`: a choice (with `choices`, else the spec's own) or a typed field."""
+    return FieldChoice(spec, choices) if spec.select else FieldInput(spec)
