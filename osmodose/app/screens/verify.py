@@ -14,7 +14,7 @@ from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Checkbox, Footer, Input, Static
+from textual.widgets import Checkbox, Input, Static
 
 from osmodose.app import keys
 from osmodose.app.form_view import agent_choices
@@ -47,6 +47,7 @@ from osmodose.app.widgets.choice_box import ChoiceBox
 from osmodose.app.widgets.form_field import FormField, form_field
 from osmodose.app.widgets.form_panel import FormPanel
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.app.widgets.lines import LinesPanel, set_text
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
@@ -106,7 +107,7 @@ class VerifyScreen(Screen[None]):
                 yield AcceptPanel()
                 yield LinesPanel("recomputed", "recomputed from the volume")
         yield Static(CAUTION, id="caution", markup=False)
-        yield Footer()
+        yield KeysFooter()
 
     async def on_mount(self) -> None:
         await self.recompute()
