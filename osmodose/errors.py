@@ -133,17 +133,29 @@ class FormularyWarning:
         return f"FormularyWarning({self.located()!r})"
 
 
-def _json_kind(value: object) -> str:
-    """What a JSON value is, in words."""
+def value_kind(value: object, *, none: str, table: str, other: str) -> str:
+    """What a value read from a file is, in words: "text", "a number", "a list", ...
+
+    JSON and TOML share the words for true or false, numbers, text and lists;
+    each format names the rest its own way: nothing (`none`: JSON's "null"), a
+    table or object (`table`), anything else (`other`: TOML's "a date or time").
+    """
     if value is None:
-        return "null"
+        return none
     if isinstance(value, bool):
         return "true or false"
     if isinstance(value, (int, float)):
         return "a number"
     if isinstance(value, str):
         return "text"
-    return "a list" if isinstance(value, (list, tuple)) else "an object"
+    if isinstance(value, (list, tuple)):
+        return "a list"
+    return table if isinstance(value, Mapping) else other
+
+
+def _json_kind(value: object) -> str:
+    """What a JSON value is, in words."""
+    return value_kind(value, none="null", table="an object", other="an object")
 
 
 def _json_value(value: object) -> str:

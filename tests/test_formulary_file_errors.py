@@ -18,7 +18,7 @@ import pytest
 from pydantic import ValidationError
 
 from osmodose.course.store import episode_from_data
-from osmodose.errors import EpisodeFileError
+from osmodose.errors import EpisodeFileError, value_kind
 from osmodose.formulary.file_errors import describe, key_path
 from osmodose.formulary.file_model import FormularyFile
 
@@ -183,3 +183,24 @@ def test_each_episode_file_problem_is_worded_by_osmodose(
         episode_from_data(data, "ep.json")
     assert str(caught.value) == f"episode ep.json: {message}; the file was not changed"
     assert not any(words in str(caught.value) for words in LIBRARY_WORDS)
+
+
+#: Each value a parsed file can hold, and its kind in JSON's words and in TOML's.  The kinds are those of
+#: RFC 8259 section 3 (object, array, number, string, true, false, null) and of the TOML 1.0.0
+#: specification (string, integer, float, boolean, date and time, array, table; TOML has no null).
+KINDS: list[tuple[object, str, str]] = [
+    (None, "null", "empty"),
+    (True, "true or false", "true or false"),
+    (3, "a number", "a number"),
+    (70.5, "a number", "a number"),
+    ("x", "text", "text"),
+    ([1, 2], "a list", "a list"),
+    ({"a": 1}, "an object", "a table"),
+    (datetime.date(2026, 11, 1), "an object", "a date or time"),
+]
+
+
+@pytest.mark.parametrize(("value", "json_words", "toml_words"), KINDS)
+def test_a_value_is_named_in_each_file_format_s_words(value: object, json_words: str, toml_words: str) -> None:
+    assert value_kind(value, none="null", table="an object", other="an object") == json_words
+    assert value_kind(value, none="empty", table="a table", other="a date or time") == toml_words

@@ -187,15 +187,18 @@ def test_apparent_tbw_recovers_the_simulated_tbw(
     # Each interval between labs: a dose at +1 h over 30 min and urine collected over the 6 h, and the next
     # sodium worked by the full balance (Barsoum & Levine 2002) from the true TBW.  The course's apparent TBW
     # must give the true TBW back to 1 %.
+    # An interval whose sodium would barely move (a small isotonic dose) cannot show the TBW: it is left out
+    # of the episode rather than filtering the whole example out (which made Hypothesis give up at times).
     labs, doses, outputs = [lab(0, first)], [], []
     sodium_now = first
-    for k, (agent_id, ml, urine_ml, urine_cations) in enumerate(steps):
+    for agent_id, ml, urine_ml, urine_cations in steps:
         agent = demo.agent(agent_id)
         after = f.projected_sodium(
             sodium_now, agent.cations_mmol_l, true_tbw, ml / 1000, urine_ml / 1000, urine_cations
         )
-        assume(abs(after - sodium_now) > 2.5 and 90 <= after <= 200 and urine_ml / 1000 < true_tbw / 3)
-        start = 6 * k
+        if not (abs(after - sodium_now) > 2.5 and 90 <= after <= 200 and urine_ml / 1000 < true_tbw / 3):
+            continue
+        start = 6 * len(doses)
         doses.append(dose(start + 1, agent_id, ml, 30))
         outputs.append(
             Output(
@@ -204,6 +207,7 @@ def test_apparent_tbw_recovers_the_simulated_tbw(
         )
         labs.append(lab(start + 6, after))
         sodium_now = after
+    assume(doses)
     ep = episode(labs=labs, doses=doses).model_copy(update={"outputs": tuple(outputs)})
     result = apparent_tbw(build_timeline(ep, demo), 42.0, demo.limits)
     assert result.combined_l == pytest.approx(true_tbw, rel=0.01)

@@ -12,17 +12,14 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, create_model
+from pydantic import Field, create_model
 
 from osmodose.case.fields import DOSE_MODES, FIELDS, LAB_FIELDS, URINE_FIELDS, read
 from osmodose.case.provenance import DataIn
 from osmodose.errors import InputError
+from osmodose.frozen import Frozen
 from osmodose.science.choices import LINE, SEX, TBW_METHOD, YES_NO, DoseMode, Line, Sex, TbwMethod
 from osmodose.science.units import Quantity, is_bare_number, is_per_mass, parse_quantity, ureg
-
-# No use_attribute_docstrings: nothing reads these fields' descriptions, and pydantic extracting them
-# from the source costs `osmodose check` about 10 ms of start-up (the docstrings stay for readers).
-_FROZEN = ConfigDict(frozen=True)
 
 DoseUnit = Literal["g", "mL", "mmol", "mOsm", "mmol/L"]
 
@@ -50,10 +47,8 @@ __all__ = [
 ]
 
 
-class Patient(BaseModel):
+class Patient(Frozen):
     """The patient, in kg, years and cm."""
-
-    model_config = _FROZEN
 
     weight_kg: float
     """Actual body weight."""
@@ -65,14 +60,12 @@ class Patient(BaseModel):
     """Height, needed for the Watson formula only."""
 
 
-class LabValues(BaseModel):
+class LabValues(Frozen):
     """Base of every model holding serum labs by the field table (`Labs`, an episode's lab entry).
 
     The lab attributes (`sodium_mmol_l`, ...) are made from `fields.LAB_FIELDS`;
     `value(key)` reads one by its field key.
     """
-
-    model_config = _FROZEN
 
     if TYPE_CHECKING:  # the generated lab attributes, for the type checker
 
@@ -107,10 +100,8 @@ else:
     Labs = create_model("Labs", __base__=LabValues, __doc__="Serum labs in SI units, from the fields.", **lab_fields())
 
 
-class Urine(BaseModel):
+class Urine(Frozen):
     """Urine passed over the same period as the infusion: what the full mass balance takes out."""
-
-    model_config = _FROZEN
 
     volume_ml: float
     """Urine volume over the infusion's period, mL."""
@@ -125,10 +116,8 @@ class Urine(BaseModel):
         return self.sodium_mmol_l + (self.potassium_mmol_l or 0.0)
 
 
-class DoseRequest(BaseModel):
+class DoseRequest(Frozen):
     """How much of which agent: a dose, a volume or a target sodium change."""
-
-    model_config = _FROZEN
 
     agent_id: str
     """Id of the agent in the formulary."""
@@ -146,10 +135,8 @@ class DoseRequest(BaseModel):
     """The dose as the user wrote it."""
 
 
-class CheckRequest(BaseModel):
+class CheckRequest(Frozen):
     """Everything one check needs besides the formulary."""
-
-    model_config = _FROZEN
 
     patient: Patient
     labs: Labs

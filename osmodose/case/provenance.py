@@ -11,19 +11,15 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import AwareDatetime, BaseModel, ConfigDict
+from pydantic import AwareDatetime
 
-# No use_attribute_docstrings: nothing reads these fields' descriptions, and pydantic extracting them
-# from the source costs every `osmodose check` about 10 ms of start-up (the docstrings stay for readers).
-_FROZEN = ConfigDict(frozen=True)
+from osmodose.frozen import Frozen
 
 Source = Literal["file", "typed"]
 
 
-class FieldOrigin(BaseModel):
+class FieldOrigin(Frozen):
     """One value of the case: from the file (which resource, drawn when, how old) or typed over it."""
-
-    model_config = _FROZEN
 
     field: str
     """The field table's key: "sodium", "bun", "weight", "age", "sex"."""
@@ -45,10 +41,8 @@ class FieldOrigin(BaseModel):
     """For a typed value: the file's value it replaced, and from where."""
 
 
-class DataIn(BaseModel):
+class DataIn(Frozen):
     """The labs file a case was read from, the time ages are counted to, each value's origin, what was ignored."""
-
-    model_config = _FROZEN
 
     path: str
     """The file as named."""

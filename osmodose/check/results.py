@@ -10,23 +10,18 @@ from __future__ import annotations
 
 from typing import Any, Literal
 
-from pydantic import BaseModel, ConfigDict
+from pydantic import Field
 
 from osmodose.case.provenance import DataIn
 from osmodose.caution import CAUTION
-from osmodose.formulary.model import Formulary
+from osmodose.check.judging import Severity, Status
+from osmodose.formulary.model import Formulary, FormularyIdentity
+from osmodose.frozen import Frozen
 from osmodose.science.precision import round_document
 
-_FROZEN = ConfigDict(frozen=True)
 
-Severity = Literal["warn", "refuse"]
-Status = Literal["ok", "warn", "refuse"]
-
-
-class Finding(BaseModel):
+class Finding(Frozen):
     """One safety rule that fired."""
-
-    model_config = _FROZEN
 
     code: str
     severity: Severity
@@ -36,37 +31,20 @@ class Finding(BaseModel):
     unit: str
 
 
-class FormularyRef(BaseModel):
-    """Which formulary file a result came from."""
-
-    model_config = _FROZEN
-
-    name: str
-    version: str
-    sha256: str
-    path: str
-    demo: bool = False
-    """True while the bundled demo formulary (an invented unit) is in use."""
+class FormularyRef(FormularyIdentity):
+    """Which formulary file a result came from: the formulary's identity without its contents."""
 
     @classmethod
     def of(cls, formulary: Formulary) -> FormularyRef:
         """The reference every result carries to the formulary it was worked with."""
-        return cls(
-            name=formulary.name,
-            version=formulary.version,
-            sha256=formulary.sha256,
-            path=formulary.path,
-            demo=formulary.demo,
-        )
+        return cls(**{name: getattr(formulary, name) for name in FormularyIdentity.model_fields})
 
     def line(self) -> str:
         """The line every report heads with: which file, which version, which bytes."""
         return f"formulary: {self.name} v{self.version} sha256 {self.sha256}"
 
 
-class PatientFigures(BaseModel):
-    model_config = _FROZEN
-
+class PatientFigures(Frozen):
     weight_kg: float
     age_years: float
     sex: Literal["female", "male"]
@@ -77,19 +55,15 @@ class PatientFigures(BaseModel):
     """Body mass index, kg/m^2, when a height is given."""
 
 
-class PresentationFit(BaseModel):
+class PresentationFit(Frozen):
     """How a volume is made up from one bag or vial size: one alternative, not a part of a combination."""
-
-    model_config = _FROZEN
 
     size_ml: float
     containers: int
     discard_ml: float
 
 
-class DoseFigures(BaseModel):
-    model_config = _FROZEN
-
+class DoseFigures(Frozen):
     agent: str
     agent_label: str
     requested: str
@@ -113,10 +87,8 @@ class DoseFigures(BaseModel):
     """Osmoles per kg per minute: what the default rate limits judge (null without a duration)."""
 
 
-class CorrectedSodium(BaseModel):
+class CorrectedSodium(Frozen):
     """Serum sodium corrected for high glucose, mmol/L, by each published factor."""
-
-    model_config = _FROZEN
 
     katz: float
     """1.6 mmol/L per 100 mg/dL of glucose above 100 mg/dL (Katz MA. N Engl J Med 1973)."""
@@ -124,10 +96,8 @@ class CorrectedSodium(BaseModel):
     """2.4 mmol/L per 100 mg/dL of glucose above 100 mg/dL (Hillier TA et al. Am J Med 1999)."""
 
 
-class RiseBudget(BaseModel):
+class RiseBudget(Frozen):
     """How much of the 24 h rise limits an order uses, where they apply (a starting sodium below 135)."""
-
-    model_config = _FROZEN
 
     rise_mmol_l: float
     """This order's projected rise."""
@@ -144,19 +114,15 @@ class RiseBudget(BaseModel):
     """The goal band shown (4-8 mmol/L in 24 h; 4-6 at high risk: Verbalis 2013)."""
 
 
-class AgentVolume(BaseModel):
+class AgentVolume(Frozen):
     """One agent of the formulary and a volume of it (equiosmolar, or for a sodium change)."""
-
-    model_config = _FROZEN
 
     agent: str
     volume_ml: float | None
 
 
-class CheckResult(BaseModel):
+class CheckResult(Frozen):
     """Everything one check found; `status` is the worst finding's severity."""
-
-    model_config = _FROZEN
 
     status: Status
     findings: list[Finding]
@@ -186,7 +152,7 @@ class CheckResult(BaseModel):
     projected_sodium_range_mmol_l: tuple[float, float] | None = None
     electrolyte_free_water_clearance_l: float | None = None
     free_water_deficit_l: float | None = None
-    volumes_for_daily_fall: list[AgentVolume] = []
+    volumes_for_daily_fall: list[AgentVolume] = Field(default_factory=list)
     equiosmolar: list[AgentVolume] | None = None
 
     def to_json(self) -> dict[str, Any]:

@@ -15,6 +15,7 @@ from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import AUDIT_EPILOG, INVALID, OK
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.cli.parsers import described
 from osmodose.errors import InputError
 from osmodose.storage.atomic import DestinationIsALink, atomic_writer
 
@@ -22,12 +23,7 @@ HELP = help_of("audit")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser(
-        "audit",
-        help=HELP,
-        description=HELP + ". Columns and units: see docs/audit.md.",
-        epilog=AUDIT_EPILOG,
-    )
+    parser = described(subparsers, "audit", HELP, AUDIT_EPILOG, " Columns and units: see docs/audit.md.")
     parser.add_argument(
         "orders", metavar="ORDERS.csv", help="the orders file: CSV with a header row, .parquet, or - for standard input"
     )

@@ -14,6 +14,7 @@ from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
 from osmodose.cli.labs_args import with_labs
+from osmodose.cli.parsers import described
 from osmodose.cli.patient_args import add_case_options, case_fields
 from osmodose.formulary.model import Formulary
 
@@ -21,7 +22,7 @@ HELP = help_of("check")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("check", help=HELP, description=HELP + ".", epilog=STATUS_EPILOG)
+    parser = described(subparsers, "check", HELP, STATUS_EPILOG)
     add_formulary_option(parser)
     add_case_options(parser, labs=True)
     parser.add_argument(

@@ -18,6 +18,7 @@ from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, DONE_EPILOG, OK, STATUS_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.cli.parsers import described
 from osmodose.cli.patient_args import add_field_options, case_fields
 from osmodose.safe_text import escape_controls
 
@@ -44,7 +45,7 @@ def _max_age(parser: argparse.ArgumentParser) -> None:
 def _sub(
     subparsers: argparse._SubParsersAction, name: str, text: str, formulary: bool = True, epilog: str = DONE_EPILOG
 ) -> argparse.ArgumentParser:
-    parser = subparsers.add_parser(name, help=text, description=text + ".", epilog=epilog)
+    parser = described(subparsers, name, text, epilog)
     parser.add_argument("file", metavar="FILE", help="the episode file (JSON)")
     if formulary:
         add_formulary_option(parser)
@@ -52,9 +53,7 @@ def _sub(
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    course = subparsers.add_parser(
-        "course", help=HELP, description=HELP + ". Decision support only.", epilog=STATUS_EPILOG
-    )
+    course = described(subparsers, "course", HELP, STATUS_EPILOG, " Decision support only.")
     sub = course.add_subparsers(title="course commands", metavar="COMMAND", required=True)
 
     new = _sub(sub, "new", "start an episode file for one patient", formulary=False)

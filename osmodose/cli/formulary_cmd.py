@@ -17,6 +17,7 @@ from osmodose.check.results import CAUTION
 from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import DIFF_EPILOG, DONE_EPILOG, INVALID, OK, VALIDATE_EPILOG
+from osmodose.cli.parsers import Action, Arg, add_actions, described
 from osmodose.errors import FormularyError
 from osmodose.formulary import demo_formulary_path, load_formulary
 from osmodose.formulary.diff import diff_formularies, diff_json, render_diff
@@ -31,67 +32,8 @@ HELP = help_of("formulary")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("formulary", help=HELP, description=HELP + ".", epilog=DONE_EPILOG)
-    actions = parser.add_subparsers(title="actions", metavar="ACTION", required=True)
-
-    validate = actions.add_parser(
-        "validate",
-        help="list every problem in a formulary file (exit 0 valid, 1 not valid)",
-        description="List every error and warning in a formulary file, each as FILE:LINE: key.path: problem. "
-        "Exit 0 when valid (warnings allowed), 1 when not, 2 when the file cannot be read.",
-        epilog=VALIDATE_EPILOG,
-    )
-    _file_argument(validate)
-    validate.add_argument("--json", action="store_true", help="print one JSON object instead of lines")
-    validate.set_defaults(handler=run_validate)
-
-    show = actions.add_parser(
-        "show",
-        help="the agents with their derived sodium and osmolarity, and the limits in force",
-        description="Show each agent with its derived figures (mmol Na/L, mmol Na/mL, mOsm/L, g/mL), route, "
-        "presentations and dose limits, and every limit in force with where its value comes from.",
-        epilog=DONE_EPILOG,
-    )
-    _file_argument(show)
-    show.add_argument("--json", action="store_true", help="print one JSON object instead of tables")
-    show.set_defaults(handler=run_show)
-
-    diff = actions.add_parser(
-        "diff",
-        help="what a new version of a formulary changes (exit 0 none, 1 changes)",
-        description="List in plain words what NEW changes from OLD: name and version, settings, limits, agents "
-        "added or removed, concentrations, derived sodium and osmolarity, routes, presentations, dose limits. "
-        "Exit 0 when nothing changes, 1 when something does, 2 when a file cannot be used.",
-        epilog=DIFF_EPILOG,
-    )
-    diff.add_argument("old", metavar="OLD", help="the formulary in use now")
-    diff.add_argument("new", metavar="NEW", help="the proposed version")
-    diff.add_argument("--json", action="store_true", help="print one JSON object instead of lines")
-    diff.set_defaults(handler=run_diff)
-
-    new = actions.add_parser(
-        "new",
-        help="write a commented template for a unit to fill in",
-        description="Write a commented formulary template (to standard output unless --out is given).",
-        epilog=DONE_EPILOG,
-    )
-    new.add_argument("--out", metavar="FILE", default=None, help="write the template to FILE")
-    new.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
-    new.set_defaults(handler=run_new)
-
-    schema = actions.add_parser(
-        "schema",
-        help="print a JSON Schema of the formulary file for editors",
-        description="Print the JSON Schema (draft 2020-12) of the formulary file, made from its models.",
-        epilog=DONE_EPILOG,
-    )
-    schema.set_defaults(handler=run_schema)
-
-
-def _file_argument(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument(
-        "file", metavar="FILE", nargs="?", default=None, help="formulary TOML file (default: the bundled demo)"
-    )
+    parser = described(subparsers, "formulary", HELP, DONE_EPILOG)
+    add_actions(parser.add_subparsers(title="actions", metavar="ACTION", required=True), ACTIONS)
 
 
 def _chosen(file: str | None) -> Path:
@@ -141,3 +83,64 @@ def run_new(args: argparse.Namespace) -> int:
 def run_schema(args: argparse.Namespace) -> int:
     emit(formulary_schema, "", True)
     return OK
+
+
+_FILE = Arg("file", metavar="FILE", nargs="?", default=None, help="formulary TOML file (default: the bundled demo)")
+
+
+def _json(instead_of: str) -> Arg:
+    return Arg("--json", action="store_true", help=f"print one JSON object instead of {instead_of}")
+
+
+ACTIONS = (
+    Action(
+        "validate",
+        "list every problem in a formulary file (exit 0 valid, 1 not valid)",
+        run_validate,
+        (_FILE, _json("lines")),
+        description="List every error and warning in a formulary file, each as FILE:LINE: key.path: problem. "
+        "Exit 0 when valid (warnings allowed), 1 when not, 2 when the file cannot be read.",
+        epilog=VALIDATE_EPILOG,
+    ),
+    Action(
+        "show",
+        "the agents with their derived sodium and osmolarity, and the limits in force",
+        run_show,
+        (_FILE, _json("tables")),
+        description="Show each agent with its derived figures (mmol Na/L, mmol Na/mL, mOsm/L, g/mL), route, "
+        "presentations and dose limits, and every limit in force with where its value comes from.",
+        epilog=DONE_EPILOG,
+    ),
+    Action(
+        "diff",
+        "what a new version of a formulary changes (exit 0 none, 1 changes)",
+        run_diff,
+        (
+            Arg("old", metavar="OLD", help="the formulary in use now"),
+            Arg("new", metavar="NEW", help="the proposed version"),
+            _json("lines"),
+        ),
+        description="List in plain words what NEW changes from OLD: name and version, settings, limits, agents "
+        "added or removed, concentrations, derived sodium and osmolarity, routes, presentations, dose limits. "
+        "Exit 0 when nothing changes, 1 when something does, 2 when a file cannot be used.",
+        epilog=DIFF_EPILOG,
+    ),
+    Action(
+        "new",
+        "write a commented template for a unit to fill in",
+        run_new,
+        (
+            Arg("--out", metavar="FILE", default=None, help="write the template to FILE"),
+            Arg("--force", action="store_true", help="overwrite FILE if it exists"),
+        ),
+        description="Write a commented formulary template (to standard output unless --out is given).",
+        epilog=DONE_EPILOG,
+    ),
+    Action(
+        "schema",
+        "print a JSON Schema of the formulary file for editors",
+        run_schema,
+        description="Print the JSON Schema (draft 2020-12) of the formulary file, made from its models.",
+        epilog=DONE_EPILOG,
+    ),
+)

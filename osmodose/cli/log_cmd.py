@@ -17,6 +17,7 @@ from typing import TYPE_CHECKING
 from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import INVALID, LOG_EPILOG, OK
+from osmodose.cli.parsers import Action, Arg, add_actions, described
 from osmodose.safe_text import escape_controls
 
 HELP = help_of("log")
@@ -30,57 +31,9 @@ if TYPE_CHECKING:
     from osmodose.verify.signing import Checker
 
 
-def _log_options(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--log", metavar="PATH", default=None, help=LOG_HELP)
-    parser.add_argument("--key", metavar="PATH", default=None, help=KEY_HELP + "; its .pub file is enough to check")
-
-
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser("log", help=HELP, description=HELP + ".", epilog=LOG_EPILOG)
-    actions = parser.add_subparsers(title="actions", metavar="ACTION", parser_class=type(parser))
-    init = actions.add_parser(
-        "init-key",
-        help="make the unit's key that signs every record (0600, outside the log's folder)",
-        description="Make the unit's Ed25519 key that signs each verification record, and its public half "
-        "(KEY.pub, enough to check a log). An existing key is never replaced. Without it, the first verification "
-        "makes one.",
-        epilog=LOG_EPILOG,
-    )
-    init.add_argument("--key", metavar="PATH", default=None, help=KEY_HELP)
-    init.set_defaults(handler=run_init_key)
-    check = actions.add_parser(
-        "verify",
-        help="prove the chain, the signatures and each decision, or name the first problem",
-        description="Walk the log once: every SHA-256 link and signature, each record's decision re-derived from "
-        "its own findings and acceptances, and each check recomputed where its formulary file is at hand.",
-        epilog=LOG_EPILOG,
-    )
-    _log_options(check)
-    check.add_argument(
-        "--expect",
-        metavar="SHA256",
-        default=None,
-        help="a record's SHA-256 noted outside the log (or its first 12+ hex characters) that must still be there",
-    )
-    check.add_argument(
-        "--formulary",
-        metavar="FILE",
-        action="append",
-        default=[],
-        help="a formulary file a record may name by SHA-256 (repeatable), to recompute its check",
-    )
-    check.add_argument("--no-recompute", action="store_true", help="do not recompute the checks (faster)")
-    check.set_defaults(handler=run_verify)
-    listing = actions.add_parser(
-        "list", help="one line per record (exit 1 when records are missing or damaged)", epilog=LOG_EPILOG
-    )
-    _log_options(listing)
-    listing.set_defaults(handler=run_list)
-    show = actions.add_parser("show", help="one record in full", epilog=LOG_EPILOG)
-    _log_options(show)
-    show.add_argument("number", type=int, metavar="N", help="the record's number (as listed)")
-    show.add_argument("--json", action="store_true", help="print the log entry as JSON")
-    show.set_defaults(handler=run_show)
+    parser = described(subparsers, "log", HELP, LOG_EPILOG)
+    add_actions(parser.add_subparsers(title="actions", metavar="ACTION", parser_class=type(parser)), ACTIONS)
     parser.set_defaults(handler=lambda _args: _usage(parser))
 
 
@@ -283,3 +236,67 @@ def run_show(args: argparse.Namespace) -> int:
         lines.append(f"appended past a broken chain: {entry.appended_to_broken_log}")
     emit(document, lambda: "\n".join([*lines, "", entry.record.render_text()]), args.json)
     return OK if found.hash_ok and signature is None and wrong is None else INVALID
+
+
+#: Where the log and the key are, for every action that reads the log.
+_LOG_OPTIONS = (
+    Arg("--log", metavar="PATH", default=None, help=LOG_HELP),
+    Arg("--key", metavar="PATH", default=None, help=KEY_HELP + "; its .pub file is enough to check"),
+)
+
+ACTIONS = (
+    Action(
+        "init-key",
+        "make the unit's key that signs every record (0600, outside the log's folder)",
+        run_init_key,
+        (Arg("--key", metavar="PATH", default=None, help=KEY_HELP),),
+        description="Make the unit's Ed25519 key that signs each verification record, and its public half "
+        "(KEY.pub, enough to check a log). An existing key is never replaced. Without it, the first verification "
+        "makes one.",
+        epilog=LOG_EPILOG,
+    ),
+    Action(
+        "verify",
+        "prove the chain, the signatures and each decision, or name the first problem",
+        run_verify,
+        (
+            *_LOG_OPTIONS,
+            Arg(
+                "--expect",
+                metavar="SHA256",
+                default=None,
+                help="a record's SHA-256 noted outside the log (or its first 12+ hex characters) that must still be "
+                "there",
+            ),
+            Arg(
+                "--formulary",
+                metavar="FILE",
+                action="append",
+                default=[],
+                help="a formulary file a record may name by SHA-256 (repeatable), to recompute its check",
+            ),
+            Arg("--no-recompute", action="store_true", help="do not recompute the checks (faster)"),
+        ),
+        description="Walk the log once: every SHA-256 link and signature, each record's decision re-derived from "
+        "its own findings and acceptances, and each check recomputed where its formulary file is at hand.",
+        epilog=LOG_EPILOG,
+    ),
+    Action(
+        "list",
+        "one line per record (exit 1 when records are missing or damaged)",
+        run_list,
+        _LOG_OPTIONS,
+        epilog=LOG_EPILOG,
+    ),
+    Action(
+        "show",
+        "one record in full",
+        run_show,
+        (
+            *_LOG_OPTIONS,
+            Arg("number", type=int, metavar="N", help="the record's number (as listed)"),
+            Arg("--json", action="store_true", help="print the log entry as JSON"),
+        ),
+        epilog=LOG_EPILOG,
+    ),
+)

@@ -22,6 +22,7 @@ from osmodose.cli.commands import help_of
 from osmodose.cli.emit import emit
 from osmodose.cli.exit_codes import BY_STATUS, VERIFY_EPILOG
 from osmodose.cli.formulary_arg import add_formulary_option, formulary_from_args
+from osmodose.cli.parsers import described
 from osmodose.cli.patient_args import add_case_options, add_field_options, case_fields
 from osmodose.errors import OutputError
 
@@ -29,12 +30,8 @@ HELP = help_of("verify")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    parser = subparsers.add_parser(
-        "verify",
-        help=HELP,
-        description=HELP + ". Decision support only: verify against local protocol and licensed clinical judgement.",
-        epilog=VERIFY_EPILOG,
-    )
+    more = " Decision support only: verify against local protocol and licensed clinical judgement."
+    parser = described(subparsers, "verify", HELP, VERIFY_EPILOG, more)
     add_formulary_option(parser)
     add_case_options(parser, order=False, labs=True)
     add_field_options(

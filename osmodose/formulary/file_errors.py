@@ -15,6 +15,7 @@ from typing import Any, get_args
 
 from pydantic import BaseModel, ValidationError
 
+from osmodose.errors import value_kind
 from osmodose.formulary.file_model import AgentEntry, FormularyFile, LimitsTable
 from osmodose.formulary.limits import LIMIT_SPECS, display_unit
 
@@ -140,17 +141,7 @@ def _example(loc: tuple[int | str, ...]) -> str | None:
 
 def _kind(value: object) -> str:
     """What a TOML value is, in words."""
-    if isinstance(value, bool):
-        return "true or false"
-    if isinstance(value, (int, float)):
-        return "a number"
-    if isinstance(value, str):
-        return "text"
-    if isinstance(value, list):
-        return "a list"
-    if isinstance(value, dict):
-        return "a table"
-    return "a date or time" if value is not None else "empty"
+    return value_kind(value, none="empty", table="a table", other="a date or time")
 
 
 def _shown(value: object) -> str:

@@ -14,30 +14,36 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict
+from osmodose.frozen import Frozen
 
 Looser = Literal["higher", "lower"]
 
 
 @dataclass(frozen=True)
 class LimitSpec:
-    """One limit: its canonical unit, accepted units, default and source.
+    """One limit: its canonical unit, default and source.
 
-    `plausible` is the inclusive range a unit may set it in (canonical unit):
-    outside it the file is invalid, a typing slip ("1600 mmol/L" for 160) and
-    not a protocol; the ranges are wide on purpose (common practice) and every
-    default lies inside.  `looser` says which way a change loosens the limit
-    (lets more through): `formulary diff` flags such a change at the top; None
-    for a figure that is only shown, never judged.
+    The units a file may write it in follow from its canonical unit
+    (`accepted`).  `plausible` is the inclusive range a unit may set it in
+    (canonical unit): outside it the file is invalid, a typing slip ("1600
+    mmol/L" for 160) and not a protocol; the ranges are wide on purpose
+    (common practice) and every default lies inside.  `looser` says which way
+    a change loosens the limit (lets more through): `formulary diff` flags
+    such a change at the top; None for a figure that is only shown, never
+    judged.
     """
 
     unit: str
-    accepted: tuple[str, ...]
     default: float | None
     source: str
     meaning: str
     plausible: tuple[float, float] | None = None
     looser: Looser | None = "higher"
+
+    @property
+    def accepted(self) -> tuple[str, ...]:
+        """The units a file may write this limit in: `ACCEPTED_UNITS`, else its canonical unit alone."""
+        return ACCEPTED_UNITS.get(self.unit, (self.unit,))
 
     def describe(self) -> str:
         """The sentence a unit reads in the template, the schema and docs: meaning, then default."""
@@ -47,8 +53,13 @@ class LimitSpec:
         return f"{text}; default {self.default:g} {display_unit(self.unit)}."
 
 
-_CONC = ("mmol/L", "mEq/L")
-_OSMOLALITY = ("mOsm/kg", "mmol/kg")
+#: The units a limit may be written in, by its canonical unit: a sodium concentration in mEq/L is
+#: the same figure in mmol/L, and SI laboratories write osmolality in mmol/kg.  A limit in any
+#: other unit is written in that unit (or in one pint converts to it).
+ACCEPTED_UNITS: dict[str, tuple[str, ...]] = {
+    "mmol/L": ("mmol/L", "mEq/L"),
+    "mOsm/kg": ("mOsm/kg", "mmol/kg"),
+}
 #: Plausible ranges shared by several limits (canonical units; common practice, chosen to catch
 #: a slipped digit, not to judge a protocol).
 _CEILING = (135.0, 175.0)  # a sodium ceiling above 175 mmol/L is no protocol
@@ -60,7 +71,6 @@ _LOW_SODIUM = (110.0, 140.0)
 LIMIT_SPECS: dict[str, LimitSpec] = {
     "sodium_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         155.0,
         "common practice (no single source)",
         "serum sodium, current or projected, above which an order is warned",
@@ -68,7 +78,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         160.0,
         "US Joint Trauma System guideline: hold hyperosmolar infusions above 160",
         "serum sodium, current or projected, above which an order is refused",
@@ -76,7 +85,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolality_warn": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         310.0,
         "common practice: inside the 300-320 target (Hinson 2013), no single source",
         "serum osmolality (measured, else calculated) above which an order is warned",
@@ -84,7 +92,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolality_refuse": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         320.0,
         "Hinson HE et al. J Intensive Care Med 2013;28:3-11: hold mannitol above 320",
         "serum osmolality (measured, else calculated) above which an order is refused",
@@ -92,7 +99,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_gap_warn": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         10.0,
         "McMaster Textbook of Internal Medicine and clinical chemistry reviews: normal below 10",
         "osmolar gap above which mannitol is warned (mannitol accumulating)",
@@ -100,7 +106,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_gap_refuse": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         20.0,
         "common practice: a gap above about 20 is a common hold threshold (sources vary from 10 to 20)",
         "osmolar gap above which mannitol is refused",
@@ -108,7 +113,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_gap_negative_warn": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         10.0,
         "common practice: measured below calculated by more than 10 points to a unit slip or a sample problem",
         "how far measured osmolality may fall below the calculated one before it is warned",
@@ -116,7 +120,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_24h_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         8.0,
         "Verbalis JG et al. Am J Med 2013: 8 mmol/L in 24 h for high risk of osmotic demyelination",
         "projected or measured sodium rise within 24 h above which an order is warned",
@@ -124,7 +127,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_24h_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         10.0,
         "Verbalis JG et al. Am J Med 2013 (limit 10-12 in 24 h) and "
         "Spasovski G et al. Eur J Endocrinol 2014 (10 in the first 24 h)",
@@ -133,7 +135,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_applies_below": LimitSpec(
         "mmol/L",
-        _CONC,
         135.0,
         "hyponatraemia is serum sodium below 135 mmol/L (Spasovski G et al. Eur J Endocrinol 2014; "
         "Verbalis JG et al. Am J Med 2013): the 24 h rise limits protect a brain adapted to low sodium",
@@ -144,7 +145,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_24h_high_risk_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         8.0,
         "Verbalis JG et al. Am J Med 2013: 8 mmol/L in 24 h for high risk of osmotic demyelination",
         "rise within 24 h above which an order is refused when the risk of osmotic demyelination is high "
@@ -153,7 +153,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_fall_24h_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         10.0,
         "secondary sources: chronic hypernatraemia lowered by at most about 10 mmol/L a day",
         "projected or measured sodium fall within 24 h above which an order is warned",
@@ -161,7 +160,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_fall_24h_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         12.0,
         "common practice: symmetric with the rise limits (no single source)",
         "projected sodium fall within 24 h above which an order is refused",
@@ -169,7 +167,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_low_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         130.0,
         "common practice: below 130 is moderate hyponatraemia (Spasovski G et al. Eur J Endocrinol 2014, from memory)",
         "projected sodium below which an order that lowers sodium is warned",
@@ -178,7 +175,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_low_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         125.0,
         "common practice: below 125 is profound hyponatraemia (Spasovski G et al. Eur J Endocrinol 2014, from memory)",
         "projected sodium below which an order that lowers sodium is refused",
@@ -187,7 +183,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "peripheral_osmolarity_warn": LimitSpec(
         "mOsm/L",
-        ("mOsm/L",),
         900.0,
         "parenteral nutrition guidance for peripheral lines (secondary source)",
         "infusate osmolarity above which a peripheral line is warned",
@@ -195,7 +190,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "dose_tolerance": LimitSpec(
         "percent",
-        ("percent",),
         10.0,
         "common practice (no single source)",
         "largest accepted difference between a stated dose and the recomputed one",
@@ -203,7 +197,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_tolerance": LimitSpec(
         "mmol/L",
-        _CONC,
         2.0,
         "common practice (no single source): sodium is reported to 1 mmol/L and repeat "
         "measurements commonly differ by 1-2 mmol/L",
@@ -212,7 +205,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "lab_max_age": LimitSpec(
         "h",
-        ("h",),
         6.0,
         "common practice: re-measure sodium every 2-6 h during active therapy",
         "age of the latest labs beyond which they are too old to dose on",
@@ -220,7 +212,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "icp_treat_above": LimitSpec(
         "mmHg",
-        ("mmHg",),
         22.0,
         "Carney N et al. Brain Trauma Foundation guidelines, 4th ed. Neurosurgery 2017;80:6-15",
         "intracranial pressure above which treatment is indicated",
@@ -228,7 +219,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "cpp_target_min": LimitSpec(
         "mmHg",
-        ("mmHg",),
         60.0,
         "Carney N et al. Brain Trauma Foundation guidelines, 4th ed. Neurosurgery 2017;80:6-15 (target 60-70)",
         "cerebral perfusion pressure below which a reading is warned",
@@ -237,7 +227,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_gap_rise_warn": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         10.0,
         "common practice (no single source)",
         "rise of the osmolar gap between labs, after mannitol, above which it is warned",
@@ -245,7 +234,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "mannitol_24h_max": LimitSpec(
         "g/kg",
-        ("g/kg",),
         None,
         "no default: set by the unit's protocol",
         "cumulative mannitol within 24 h above which a dose is warned",
@@ -254,7 +242,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- the labs themselves, with or without an order --------------------------------------------
     "hyponatraemia_moderate_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         130.0,
         "Spasovski G et al. Eur J Endocrinol 2014;170:G1-47: moderate hyponatraemia is 125-129 mmol/L (from memory)",
         "serum sodium below which the labs are warned as moderate hyponatraemia",
@@ -263,7 +250,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "hyponatraemia_profound_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         125.0,
         "Spasovski G et al. Eur J Endocrinol 2014;170:G1-47: profound hyponatraemia is below 125 mmol/L (from memory)",
         "serum sodium below which the labs are warned as profound hyponatraemia",
@@ -272,7 +258,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "hypokalaemia_severe_warn": LimitSpec(
         "mmol/L",
-        _CONC,
         2.5,
         "common practice: severe hypokalaemia is below 2.5 mmol/L (clinical reviews, from memory)",
         "serum potassium below which the labs are warned as severe hypokalaemia",
@@ -281,7 +266,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_gap_unexplained_warn": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         10.0,
         "McMaster Textbook of Internal Medicine and clinical chemistry reviews: normal below 10 "
         "(18 % of healthy adults are above it: Marino et al. Ann Emerg Med 2025)",
@@ -291,7 +275,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- tonicity ------------------------------------------------------------------------------------
     "hypotonic_effective_osmolality_below": LimitSpec(
         "mOsm/kg",
-        _OSMOLALITY,
         275.0,
         "common practice: hyponatraemia is hypotonic below an effective osmolality of 275 mOsm/kg "
         "(Spasovski G et al. Eur J Endocrinol 2014, from memory)",
@@ -302,7 +285,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- every rate judged -------------------------------------------------------------------------
     "osmolar_rate_warn": LimitSpec(
         "mOsm/kg/min",
-        ("mOsm/kg/min",),
         0.7,
         "twice the published boluses: 3 % 250 mL over 10 min, 23.4 % 30 mL over 10 min (US Joint Trauma "
         "System guideline) and 20 % mannitol 1 g/kg over 15 min (Brain Trauma Foundation) all give about "
@@ -312,7 +294,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_rate_refuse": LimitSpec(
         "mOsm/kg/min",
-        ("mOsm/kg/min",),
         1.4,
         "four times the published boluses (about 0.35 mOsm/kg/min: US Joint Trauma System guideline; "
         "Brain Trauma Foundation)",
@@ -321,7 +302,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "osmolar_rate_applies_above": LimitSpec(
         "mOsm/L",
-        ("mOsm/L",),
         400.0,
         "common practice: isotonic fluids (0.9 % sodium chloride 308 mOsm/L, or with up to 40 mmol/L of "
         "potassium chloride 388) run as fast as resuscitation needs; hypertonic ones are bolused over minutes",
@@ -331,7 +311,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- body size -----------------------------------------------------------------------------------
     "bmi_obese_from": LimitSpec(
         "kg/m^2",
-        ("kg/m^2",),
         30.0,
         "WHO: obesity is a body mass index of 30 kg/m^2 or more",
         "body mass index from which the fraction of weight is warned as overstating body water",
@@ -340,7 +319,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- the rise budget shown ---------------------------------------------------------------------
     "sodium_rise_24h_target_low": LimitSpec(
         "mmol/L",
-        _CONC,
         4.0,
         "Verbalis JG et al. Am J Med 2013: a goal of 4-8 mmol/L in 24 h (4-6 at high risk), from memory",
         "lower end of the 24 h rise goal shown beside an order (shown, not judged)",
@@ -349,7 +327,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_24h_target_high": LimitSpec(
         "mmol/L",
-        _CONC,
         8.0,
         "Verbalis JG et al. Am J Med 2013: a goal of 4-8 mmol/L in 24 h, from memory",
         "upper end of the 24 h rise goal shown beside an order (shown, not judged)",
@@ -358,7 +335,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_24h_high_risk_target_high": LimitSpec(
         "mmol/L",
-        _CONC,
         6.0,
         "Verbalis JG et al. Am J Med 2013: a goal of 4-6 mmol/L in 24 h at high risk of osmotic "
         "demyelination, from memory",
@@ -369,7 +345,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- rise limits over 48 h and later days (a course) ---------------------------------------------
     "sodium_rise_48h_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         18.0,
         "Verbalis JG et al. Am J Med 2013: 18 mmol/L in 48 h",
         "measured or projected sodium rise within 48 h above which it is refused (where the rise limits apply)",
@@ -377,7 +352,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "sodium_rise_later_24h_refuse": LimitSpec(
         "mmol/L",
-        _CONC,
         8.0,
         "Spasovski G et al. Eur J Endocrinol 2014: at most 8 mmol/L in each 24 h after the first "
         "(from memory of the numbers)",
@@ -387,7 +361,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     # --- the projection's range, the free-water deficit, a course's apparent TBW and ICP response ---
     "projection_sodium_error": LimitSpec(
         "mmol/L",
-        _CONC,
         2.0,
         "common practice (no single source): sodium is reported to 1 mmol/L and repeat "
         "measurements commonly differ by 1-2 mmol/L",
@@ -397,7 +370,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "projection_rise_underprediction": LimitSpec(
         "percent",
-        ("percent",),
         240.0,
         "Mohmand HK et al. Clin J Am Soc Nephrol 2007;2:1110: in hyponatraemia treated with 3 % saline the "
         "observed rise exceeded the Adrogue-Madias prediction in 74 % (sodium below 120), and those who "
@@ -409,7 +381,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "free_water_target_sodium": LimitSpec(
         "mmol/L",
-        _CONC,
         140.0,
         "the free-water deficit TBW x (Na/140 - 1) (secondary sources; Adrogue HJ, Madias NE. "
         "N Engl J Med 2000;342:1493-9, from memory)",
@@ -419,7 +390,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "free_water_deficit_above": LimitSpec(
         "mmol/L",
-        _CONC,
         145.0,
         "hypernatraemia is a serum sodium above 145 mmol/L (Adrogue HJ, Madias NE. N Engl J Med "
         "2000;342:1493-9, from memory)",
@@ -429,7 +399,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "apparent_tbw_low_warn": LimitSpec(
         "percent",
-        ("percent",),
         60.0,
         "no single source: a response 1.7 times the predicted one; those who overcorrected in Mohmand HK "
         "et al. Clin J Am Soc Nephrol 2007 rose 2.4 times the prediction (an apparent TBW near 42 %)",
@@ -439,7 +408,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "icp_response_before_h": LimitSpec(
         "h",
-        ("h",),
         1.0,
         "common practice (no single source): the ICP a dose is judged against is a recent one",
         "how long before a dose's start the ICP reading it is compared with may be",
@@ -448,7 +416,6 @@ LIMIT_SPECS: dict[str, LimitSpec] = {
     ),
     "icp_response_after_h": LimitSpec(
         "h",
-        ("h",),
         2.0,
         "common practice (no single source): hyperosmolar boluses lower ICP within minutes and most of "
         "the fall is seen within 1-2 h (from memory)",
@@ -481,7 +448,7 @@ def display_unit(unit: str) -> str:
     return "%" if unit == "percent" else unit
 
 
-class Limits(BaseModel):
+class Limits(Frozen):
     """Limits in force, canonical values: each limit is an attribute (`limits.sodium_warn`).
 
     `values` holds one entry per `LIMIT_SPECS` name (None where the unit sets
@@ -489,8 +456,6 @@ class Limits(BaseModel):
     name that is not a limit raises AttributeError, so a misspelt limit in code
     fails the first test that reaches it (and a test scans the code for them).
     """
-
-    model_config = ConfigDict(frozen=True)
 
     values: Mapping[str, float | None]
     from_file: frozenset[str] = frozenset()

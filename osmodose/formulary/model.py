@@ -9,34 +9,27 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict
-
 from osmodose.errors import InputError
 from osmodose.formulary.file_model import SettingsTable
 from osmodose.formulary.limits import Limits
+from osmodose.frozen import Frozen
 from osmodose.science.chemistry import SOLUTES, SoluteName, is_hypertonic
-
-_FROZEN = ConfigDict(frozen=True)
 
 DoseKind = Literal["g/kg", "mL/kg", "mmol/kg", "mOsm/kg"]
 Route = Literal["central-only", "any-line"]
 DoseWeight = Literal["actual", "ideal", "adjusted"]
 
 
-class DoseLimit(BaseModel):
+class DoseLimit(Frozen):
     """A per-kg dose limit: its value, what it measures and how the file wrote it."""
-
-    model_config = _FROZEN
 
     value: float
     kind: DoseKind
     text: str
 
 
-class Agent(BaseModel):
+class Agent(Frozen):
     """One stock solution with its derived composition."""
-
-    model_config = _FROZEN
 
     id: str
     label: str
@@ -78,10 +71,11 @@ class Agent(BaseModel):
         return SOLUTES[self.solute].stays_extracellular and is_hypertonic(self.osmolarity_mosm_l)
 
 
-class Formulary(BaseModel):
-    """A loaded, validated formulary; `sha256` is of the file's bytes."""
+class FormularyIdentity(Frozen):
+    """Which formulary file: its name and version as written, the SHA-256 of its bytes, its path.
 
-    model_config = _FROZEN
+    A loaded `Formulary` is one, and every result carries one (`check.results.FormularyRef`).
+    """
 
     name: str
     version: str
@@ -89,6 +83,11 @@ class Formulary(BaseModel):
     path: str
     demo: bool = False
     """True for the bundled demo formulary (an invented unit): every output says DEMO."""
+
+
+class Formulary(FormularyIdentity):
+    """A loaded, validated formulary; `sha256` is of the file's bytes."""
+
     settings: SettingsTable
     limits: Limits
     agents: tuple[Agent, ...]

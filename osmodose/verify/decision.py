@@ -24,11 +24,10 @@ import re
 from collections.abc import Sequence
 from typing import Literal, Protocol
 
-from pydantic import BaseModel, ConfigDict
+from pydantic import Field
 
 from osmodose.errors import InputError
-
-_FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
+from osmodose.frozen import Frozen
 
 Outcome = Literal["released", "released-with-accepted-warnings", "held", "refused"]
 
@@ -68,10 +67,8 @@ class Judged(Protocol):
     def message(self) -> str: ...
 
 
-class Acceptance(BaseModel):
+class Acceptance(Frozen, use_attribute_docstrings=True):
     """A verifier's acceptance of one warning code, with the written reason."""
-
-    model_config = _FROZEN
 
     code: str
     """The finding code accepted, e.g. "volume-not-a-presentation"."""
@@ -79,10 +76,8 @@ class Acceptance(BaseModel):
     """Why the warning is accepted, in the verifier's words."""
 
 
-class AcceptedWarning(BaseModel):
+class AcceptedWarning(Frozen, use_attribute_docstrings=True):
     """A warning accepted: its code, the reason, the initials and what it said."""
-
-    model_config = _FROZEN
 
     code: str
     reason: str
@@ -90,20 +85,16 @@ class AcceptedWarning(BaseModel):
     messages: list[str]
 
 
-class RefusedAcceptance(BaseModel):
+class RefusedAcceptance(Frozen, use_attribute_docstrings=True):
     """An acceptance that was not granted, and why."""
-
-    model_config = _FROZEN
 
     code: str
     reason: str
     why: str
 
 
-class Decision(BaseModel):
+class Decision(Frozen, use_attribute_docstrings=True):
     """The outcome and everything that led to it."""
-
-    model_config = _FROZEN
 
     outcome: Outcome
     initials: str
@@ -113,7 +104,7 @@ class Decision(BaseModel):
     """Codes of warnings not accepted (the order is held while any remain)."""
     refusals: list[str]
     """Codes of refusals (the order is refused while any remain)."""
-    must_state: list[str] = []
+    must_state: list[str] = Field(default_factory=list)
     """Codes of open warnings no reason can accept: the order must state what it leaves out."""
 
 

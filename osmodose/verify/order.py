@@ -9,21 +9,18 @@ from it as claims to check, never as inputs to the computation.
 
 from __future__ import annotations
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import Field
 
 from osmodose.case.fields import FIELDS, WRITTEN_ORDER_KEYS, read
 from osmodose.case.inputs import DoseUnit, Line, given_fields, parse_dose
 from osmodose.errors import InputError
+from osmodose.frozen import Frozen
 from osmodose.science.choices import LINE
 from osmodose.science.formulas import MINUTES_PER_HOUR
 
-_FROZEN = ConfigDict(frozen=True, use_attribute_docstrings=True)
 
-
-class StatedDose(BaseModel):
+class StatedDose(Frozen, use_attribute_docstrings=True):
     """The dose the prescriber wrote beside the volume."""
-
-    model_config = _FROZEN
 
     amount: float
     """The amount in `unit` (per kg when `per_kg`)."""
@@ -40,10 +37,8 @@ class StatedDose(BaseModel):
         return f"{self.amount:g} {self.unit}" + ("/kg" if self.per_kg else "")
 
 
-class Order(BaseModel):
+class Order(Frozen, use_attribute_docstrings=True):
     """One order as written, normalised to mL, minutes and mmol/L."""
-
-    model_config = _FROZEN
 
     agent_id: str
     """Id of the agent in the formulary."""
