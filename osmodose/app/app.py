@@ -13,8 +13,10 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import TYPE_CHECKING, ClassVar
 
+from rich.console import RenderableType
 from textual.app import App
 from textual.binding import BindingType
+from textual.screen import Screen
 from textual.worker import Worker, WorkerState
 
 from osmodose.app import keys
@@ -61,19 +63,33 @@ class OsmodoseApp(App[None]):
         self.loading_text = loading
         self.demo = demo if demo is not None else (formulary is not None and is_demo(formulary))
         self.load_error: OsmodoseError | None = None
+        self._load_started = False
 
     def get_default_screen(self) -> MainScreen:
         return MainScreen(self.formulary, self.demo, self.loading_text)
 
     def on_mount(self) -> None:
         if self.load is not None:
-            self.call_after_refresh(self._start_loading)  # paint first: the loader holds the GIL for a while
+            self.call_after_refresh(self._start_loading)  # in case no frame is written (see _display)
         elif self.course is not None:  # started with --episode: open on it
             self.action_course()
 
+    def _display(self, screen: Screen[object], renderable: RenderableType | None) -> None:
+        """Once the first frame is written, start the loader (earlier, it would share the GIL with the frame).
+
+        Sooner than `call_after_refresh`, which waits for Textual's second layout
+        pass after the first frame, a frame's time (17 ms) later: the loader has
+        that time to itself.
+        """
+        super()._display(screen, renderable)
+        if renderable is not None and self.load is not None and not self._load_started:
+            self._start_loading()
+
     def _start_loading(self) -> None:
         assert self.load is not None
-        self.run_worker(self._load_in_thread, name="load", thread=True, exit_on_error=True)
+        if not self._load_started:
+            self._load_started = True
+            self.run_worker(self._load_in_thread, name="load", thread=True, exit_on_error=True)
 
     def _load_in_thread(self) -> Loaded | OsmodoseError:
         assert self.load is not None

@@ -138,7 +138,7 @@ async def test_implausible_sodium_is_marked_at_its_field_and_no_figure_stays() -
         assert not any(ch.isdigit() for ch in shown_text.replace("1400", ""))  # no number from an earlier entry
         assert screen.query_one(StatusBanner).text.startswith("? NOT VALID: sodium: 1400 is outside")
         assert screen.query_one("#dose").border_title == "dose"
-        assert [f.spec.key for f in screen.query("FormField") if f.has_class("-bad")] == ["sodium"]
+        assert [f.spec.key for f in screen.fields.values() if f.has_class("-bad")] == ["sodium"]
 
 
 @sync

@@ -3,10 +3,11 @@
 from __future__ import annotations
 
 from rich.console import Console
-from textual.widgets import Checkbox, Input, Select
+from textual.widgets import Checkbox, Input
 from textual.widgets._footer import FooterKey
 
 from osmodose.app.screens.formulary import FormularyScreen
+from osmodose.app.widgets.choice_box import ChoiceBox
 from tests.app.driving import PERIPHERAL_SALINE, VERIFY_PATIENT, make_app, open_verification, sync
 
 SIZE = (80, 24)
@@ -37,7 +38,7 @@ async def test_tab_on_the_verification_screen_never_lands_on_anything_but_a_box(
         for _ in range(14):  # more than once round every box, accept box and reason
             await pilot.press("tab")
             focused = app.focused
-            assert isinstance(focused, (Input, Select, Checkbox)), f"Tab landed on {focused!r}"
+            assert isinstance(focused, (Input, ChoiceBox, Checkbox)), f"Tab landed on {focused!r}"
             seen.append(focused.id)
         assert "accept-peripheral-osmolarity" in seen and "reason-peripheral-osmolarity" in seen
 

@@ -60,7 +60,7 @@ async def refused_verification(pilot: Pilot) -> None:
     await open_verification(pilot, VERIFY_PATIENT, TEN_FOLD_MANNITOL, initials="AB", typed=False)
     for box in pilot.app.screen.query(Input):
         box.cursor_blink = False
-    pilot.app.screen.query_one("#in-volume").focus()
+    pilot.app.screen.query_one("#field-volume").focus()
     await pilot.pause()
 
 

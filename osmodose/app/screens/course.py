@@ -18,7 +18,7 @@ from textual.binding import BindingType
 from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Input, Label, Static, TabbedContent, TabPane
+from textual.widgets import DataTable, Input, Label, Static, TabbedContent, TabPane
 
 from osmodose.app import keys
 from osmodose.app.course_view import (
@@ -42,6 +42,7 @@ from osmodose.app.plot_view import pressure_panel, sodium_panel
 from osmodose.app.screens.entry import EntryScreen
 from osmodose.app.widgets.course_plot import CoursePlot, PlotLegend
 from osmodose.app.widgets.formulary_bar import FormularyBar, formulary_line
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
 from osmodose.errors import OsmodoseError
@@ -93,7 +94,7 @@ class CourseScreen(Screen[None]):
                 yield Static("", id="course-findings")
                 yield Static("", id="course-notes", markup=False)
         yield Static(CAUTION, id="caution", markup=False)
-        yield Footer()
+        yield KeysFooter()
 
     def on_mount(self) -> None:
         self.redraw()

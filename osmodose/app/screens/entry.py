@@ -20,7 +20,8 @@ from textual.widgets import Input, Label, Static
 from osmodose.app import keys
 from osmodose.app.course_view import CourseState, FormOutcome
 from osmodose.app.form_view import FieldSpec
-from osmodose.app.widgets.form_field import FormField
+from osmodose.app.widgets.form_field import FormField, form_field
+from osmodose.app.widgets.form_panel import FormPanel
 
 Submit = Callable[[Mapping[str, str]], FormOutcome]
 HINT = "enter: next field (on the last: {verb}) · ctrl+s: {verb} · escape: cancel"
@@ -49,8 +50,7 @@ class EntryScreen(ModalScreen[CourseState | None]):
     def compose(self) -> ComposeResult:
         with Vertical(id="entry-box", classes="panel") as box:
             box.border_title = self.title_text
-            for spec in self.specs:
-                yield FormField(spec, self.agents if spec.key == "agent" else ())
+            yield FormPanel(*(form_field(spec, self.agents if spec.key == "agent" else ()) for spec in self.specs))
             yield Static("", id="entry-message", markup=False)
             yield Label(HINT.format(verb=self.verb), id="entry-hint")
             with VerticalScroll(id="entry-result"):
@@ -58,17 +58,20 @@ class EntryScreen(ModalScreen[CourseState | None]):
 
     def on_mount(self) -> None:
         self.query_one("#entry-result").display = False
-        self.query(FormField).first().control.focus()
+        self.boxes()[0].control.focus()
+
+    def boxes(self) -> tuple[FormField, ...]:
+        return self.query_one(FormPanel).boxes
 
     def field(self, key: str) -> FormField:
         return self.query_one(f"#field-{key}", FormField)
 
     def values(self) -> dict[str, str]:
-        return {f.spec.key: f.value for f in self.query(FormField)}
+        return {f.spec.key: f.value for f in self.boxes()}
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
-        last = self.query(FormField).last()
+        last = self.boxes()[-1]
         if event.input is last.control:
             self.action_submit()
         else:
@@ -82,7 +85,7 @@ class EntryScreen(ModalScreen[CourseState | None]):
 
     def show(self, outcome: FormOutcome) -> None:
         """Mark the field the error names (or say it under the form); clear every other mark."""
-        for f in self.query(FormField):
+        for f in self.boxes():
             f.mark(f"✖ {outcome.error}" if f.spec.key == outcome.field else "", bad=f.spec.key == outcome.field)
         message = ""
         if outcome.error is not None:

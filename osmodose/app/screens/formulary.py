@@ -16,10 +16,11 @@ from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Static
 
 from osmodose.app import keys
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.formulary.model import Formulary
 from osmodose.formulary.summary import AgentRow, LimitRow, agent_rows, limit_rows
 from osmodose.safe_text import escape_controls
@@ -87,4 +88,4 @@ class FormularyScreen(Screen[None]):
             yield Static(self.tables["stock-table"], id="stock-table")
             yield Static("limits in force", classes="help-title", markup=False)
             yield Static(self.tables["limits-table"], id="limits-table")
-        yield Footer()
+        yield KeysFooter()

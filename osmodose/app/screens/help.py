@@ -9,11 +9,12 @@ from textual.app import ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Static
 
 from osmodose.app import keys
 from osmodose.app.help_text import FIGURE_HELP
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.caution import CAUTION
 from osmodose.formulary.model import Formulary
 
@@ -68,4 +69,4 @@ class HelpScreen(Screen[None]):
             yield Static("figures", classes="help-title", markup=False)
             yield Static(_table(list(FIGURE_HELP)), classes="help-table")
             yield Static(CAUTION, classes="caution", markup=False)
-        yield Footer()
+        yield KeysFooter()

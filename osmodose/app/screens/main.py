@@ -12,17 +12,22 @@ from __future__ import annotations
 from datetime import datetime
 from typing import TYPE_CHECKING, ClassVar
 
+from textual import events
 from textual.app import ComposeResult
 from textual.binding import BindingType
-from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.containers import Horizontal, VerticalScroll
+from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Input, Select, Static
+from textual.widgets import Input, Static
 
 from osmodose.app import keys
 from osmodose.app.form_view import AMOUNT, AMOUNT_HINT, DOSE_MODE, FIELDS, agent_choices
 from osmodose.app.shown import Shown, loading_shown
-from osmodose.app.widgets.form_field import FormField
+from osmodose.app.widgets.choice_box import ChoiceBox
+from osmodose.app.widgets.form_field import FormField, form_field
+from osmodose.app.widgets.form_panel import FormPanel
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.app.widgets.lines import LinesPanel
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
@@ -41,6 +46,7 @@ class MainScreen(Screen[None]):
     """Holds the latest `Shown`; every figure on screen comes from it and nothing else."""
 
     BINDINGS: ClassVar[list[BindingType]] = keys.CHECK
+    _resumed = False
 
     def __init__(self, formulary: Formulary | None = None, demo: bool = False, loading: str = "") -> None:
         super().__init__(id="main-screen")
@@ -51,7 +57,32 @@ class MainScreen(Screen[None]):
         self.labs: LoadedLabs | None = None
         self.shown: Shown = loading_shown(loading)
         # Every box of the form, built once: read and marked on each key without a query.
-        self.fields = {spec.key: FormField(spec) for spec in FIELDS}
+        self.fields: dict[str, FormField] = {spec.key: form_field(spec) for spec in FIELDS}
+
+    def post_message(self, message: Message) -> bool:
+        """The first resume does not style the screen again: its widgets were styled as they mounted.
+
+        Textual restyles every widget of a screen when it resumes (right for a
+        screen coming back after another, whose theme may have changed
+        meanwhile); on the first resume, moments after the mount, that second
+        pass was a sixth of the first frame's time (benchmarks/first_frame.py).
+        """
+        if isinstance(message, events.ScreenResume) and not self._resumed:
+            self._resumed = True
+            if message.refresh_styles:
+                message = events.ScreenResume(refresh_styles=False)
+        return super().post_message(message)
+
+    def on_resize(self, event: events.Resize) -> None:
+        """A resize to the size the screen has changes nothing: no relayout for it.
+
+        Textual sends the screen three at start (two from the app, one from the
+        screen's own first layout), each a full layout of the screen while the
+        loader reads the formulary; a layout still wanted is done by the next
+        refresh all the same.
+        """
+        if event.size == self.size:
+            event.prevent_default()  # Screen._on_resize would lay the whole screen out again
 
     def compose(self) -> ComposeResult:
         yield FormularyBar(self.formulary, self.demo, self.loading_text)
@@ -63,9 +94,11 @@ class MainScreen(Screen[None]):
             form.can_focus = False  # Tab goes straight to the first field
             with form:
                 for panel in PANELS:
-                    with Vertical(id=panel, classes="panel") as box:
-                        box.border_title = panel
-                        yield from (f for f in self.fields.values() if f.spec.panel == panel)
+                    boxes = FormPanel(
+                        *(f for f in self.fields.values() if f.spec.panel == panel), id=panel, classes="panel"
+                    )
+                    boxes.border_title = panel
+                    yield boxes
             with VerticalScroll(id="results", classes=f"-{shown.state}"):
                 yield LinesPanel("checks", "checks", lines=shown.checks)
                 yield LinesPanel("dose", shown.dose_title, lines=shown.dose)
@@ -77,7 +110,7 @@ class MainScreen(Screen[None]):
                 labs_file.display = False
                 yield labs_file
         yield Static(CAUTION, id="caution", markup=False)
-        yield Footer()
+        yield KeysFooter()
 
     def on_mount(self) -> None:
         if self.formulary is not None:
@@ -101,9 +134,9 @@ class MainScreen(Screen[None]):
         event.stop()
         self.recompute()
 
-    def on_select_changed(self, event: Select.Changed) -> None:
+    def on_choice_box_changed(self, event: ChoiceBox.Changed) -> None:
         event.stop()
-        if event.select.id == f"in-{DOSE_MODE}":
+        if event.choice_box.id == f"field-{DOSE_MODE}":
             mode = self.field(DOSE_MODE).value or "dose"
             amount = self.field(AMOUNT).control
             if isinstance(amount, Input):
@@ -145,9 +178,8 @@ class MainScreen(Screen[None]):
         labs_file.show(tuple(((line, "muted"),) for line in shown.labs_file))
         if labs_file.display != bool(shown.labs_file):
             labs_file.display = bool(shown.labs_file)
-        results = self.query_one("#results")
-        for state in STATES:
-            results.set_class(shown.state == state, f"-{state}")
+        # One restyle of the results for the new state, not one a class.
+        self.query_one("#results").update_classes({f"-{state}": shown.state == state for state in STATES})
 
     def _result(self) -> CheckResult | None:
         outcome = self.outcome

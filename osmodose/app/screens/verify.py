@@ -14,7 +14,7 @@ from textual.app import ComposeResult
 from textual.binding import BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Checkbox, Footer, Input, Select, Static
+from textual.widgets import Checkbox, Input, Static
 
 from osmodose.app import keys
 from osmodose.app.form_view import agent_choices
@@ -43,8 +43,11 @@ from osmodose.app.verify_view import (
     summary_lines,
 )
 from osmodose.app.widgets.accept_panel import AcceptPanel
-from osmodose.app.widgets.form_field import FormField
+from osmodose.app.widgets.choice_box import ChoiceBox
+from osmodose.app.widgets.form_field import FormField, form_field
+from osmodose.app.widgets.form_panel import FormPanel
 from osmodose.app.widgets.formulary_bar import FormularyBar
+from osmodose.app.widgets.keys_footer import KeysFooter
 from osmodose.app.widgets.lines import LinesPanel, set_text
 from osmodose.app.widgets.status_banner import StatusBanner
 from osmodose.caution import CAUTION
@@ -92,11 +95,10 @@ class VerifyScreen(Screen[None]):
                 with Vertical(id="verify-order", classes="panel") as box:
                     box.border_title = "order as written"
                     yield Static(RETYPE_NOTE, id="retype-note", classes="hint", markup=False)
-                    for spec in ORDER_SPECS:
-                        yield FormField(spec, agents if spec.key == "agent" else ())
-                with Vertical(id="verify-verifier", classes="panel") as box:
-                    box.border_title = "verifier"
-                    yield FormField(INITIALS_SPEC)
+                    yield FormPanel(*(form_field(spec, agents if spec.key == "agent" else ()) for spec in ORDER_SPECS))
+                verifier = FormPanel(form_field(INITIALS_SPEC), id="verify-verifier", classes="panel")
+                verifier.border_title = "verifier"
+                yield verifier
             results = VerticalScroll(id="verify-results")
             results.can_focus = False  # the accept boxes and reasons in it are the Tab stops
             with results:
@@ -105,20 +107,24 @@ class VerifyScreen(Screen[None]):
                 yield AcceptPanel()
                 yield LinesPanel("recomputed", "recomputed from the volume")
         yield Static(CAUTION, id="caution", markup=False)
-        yield Footer()
+        yield KeysFooter()
 
     async def on_mount(self) -> None:
         await self.recompute()
-        self.query_one("#in-agent").focus()
+        self.query_one("#field-agent").focus()
 
     async def on_screen_resume(self) -> None:
         await self.recompute()  # the patient or labs may have changed on the check screen
+
+    def boxes(self) -> list[FormField]:
+        """Every box of the screen's form: the order as written, then the initials."""
+        return [box for panel in self.query(FormPanel) for box in panel.boxes]
 
     def field_value(self, key: str) -> str:
         return self.query_one(f"#field-{key}", FormField).value
 
     def entry(self) -> Entry:
-        fields = {f.spec.key: f.value for f in self.query(FormField)}
+        fields = {f.spec.key: f.value for f in self.boxes()}
         initials = fields.pop(INITIALS_SPEC.key, "")
         return Entry(patient_fields(self.check_values()), fields, dict(self.ticks), dict(self.reasons), initials)
 
@@ -134,7 +140,7 @@ class VerifyScreen(Screen[None]):
             self.ticks[event.checkbox.id.removeprefix("accept-")] = event.value
         await self.recompute()
 
-    async def on_select_changed(self, event: Select.Changed) -> None:
+    async def on_choice_box_changed(self, event: ChoiceBox.Changed) -> None:
         event.stop()
         await self.recompute()
 
@@ -156,7 +162,7 @@ class VerifyScreen(Screen[None]):
         self.query_one(StatusBanner).show(decision_text(state), state.state)
         self._show("patient-typed", patient_summary(entry.patient))
         self._show("patient-error", box_message(state, PATIENT)).display = state.field == PATIENT
-        for f in self.query(FormField):
+        for f in self.boxes():
             message = box_message(state, f.spec.key)
             unit, converted = box_reading(entry, f.spec.key) if not message else ("", "")
             f.mark(message, bool(message) and not state.missing, converted)

@@ -19,5 +19,4 @@ class StatusBanner(Static):
     def show(self, text: str, state: str) -> None:
         if set_text(self, text, self.text):
             self.text = text
-        for name in STATES:
-            self.set_class(state == name, f"-{name}")
+        self.update_classes({f"-{name}": state == name for name in STATES})
